@@ -1,0 +1,102 @@
+using HumWatch.Core.Attribution;
+
+namespace HumWatch.Core.Lines;
+
+/// <summary>
+/// A line seen in one frame, combined across channels and attributed. Instances belong to a pool owned by
+/// the analyser and are rewritten every frame: read them inside the frame callback and copy what you keep.
+/// </summary>
+public sealed class FrameLine
+{
+    /// <summary>How many worst channels a line keeps.</summary>
+    public const int MaxWorstChannels = 3;
+
+    /// <summary>How many alternative explanations a line keeps.</summary>
+    public const int MaxAlternatives = 4;
+
+    private readonly int[] _worstChannels = new int[MaxWorstChannels];
+    private readonly double[] _worstAmplitudesUvRms = new double[MaxWorstChannels];
+    private readonly SourceMatch[] _alternatives = new SourceMatch[MaxAlternatives];
+    private int _worstCount;
+    private int _alternativeCount;
+
+    /// <summary>Frequency in Hz: amplitude-weighted mean of the affected channels' refined frequencies.</summary>
+    public double FrequencyHz { get; internal set; }
+
+    /// <summary>Median amplitude over the affected channels, µV RMS.</summary>
+    public double AmplitudeUvRms { get; internal set; }
+
+    /// <summary>Largest amplitude of any affected channel, µV RMS.</summary>
+    public double MaxAmplitudeUvRms { get; internal set; }
+
+    /// <summary>Largest prominence over the local floor among the affected channels, dB.</summary>
+    public double ProminenceDb { get; internal set; }
+
+    /// <summary>Channels that carry the line.</summary>
+    public int AffectedChannelCount { get; internal set; }
+
+    /// <summary>Affected channels over analysed (non-flat, finite) channels, 0..1.</summary>
+    public double ChannelShare { get; internal set; }
+
+    /// <summary>
+    /// Stream sample index where the evidence for the line starts within this frame: the start of the earliest
+    /// Welch segment of the span whose own periodogram shows the line. Lets reports date an onset to one segment step.
+    /// </summary>
+    public long EvidenceStartSampleIndex { get; internal set; }
+
+    /// <summary>One past the last sample of the latest segment of the span whose periodogram shows the line.</summary>
+    public long EvidenceEndSampleIndex { get; internal set; }
+
+    /// <summary>Most likely explanation; <see cref="SourceMatch.None"/> when unidentified.</summary>
+    public SourceMatch Source { get; internal set; } = SourceMatch.None;
+
+    /// <summary>Channel indices with the largest amplitude, largest first.</summary>
+    public ReadOnlySpan<int> WorstChannels => _worstChannels.AsSpan(0, _worstCount);
+
+    /// <summary>Amplitudes of <see cref="WorstChannels"/>, same order, µV RMS.</summary>
+    public ReadOnlySpan<double> WorstAmplitudesUvRms => _worstAmplitudesUvRms.AsSpan(0, _worstCount);
+
+    /// <summary>Other catalogued sources that explain the same line within resolution.</summary>
+    public ReadOnlySpan<SourceMatch> AlsoPossible => _alternatives.AsSpan(0, _alternativeCount);
+
+    internal void ClearChannelsAndSources()
+    {
+        _worstCount = 0;
+        _alternativeCount = 0;
+        Source = SourceMatch.None;
+    }
+
+    /// <summary>Keeps the channel if it is among the <see cref="MaxWorstChannels"/> strongest so far.</summary>
+    internal void OfferWorstChannel(int channel, double amplitudeUvRms)
+    {
+        var position = _worstCount;
+        while (position > 0 && _worstAmplitudesUvRms[position - 1] < amplitudeUvRms)
+        {
+            position--;
+        }
+
+        if (position >= MaxWorstChannels)
+        {
+            return;
+        }
+
+        var last = Math.Min(_worstCount, MaxWorstChannels - 1);
+        for (var i = last; i > position; i--)
+        {
+            _worstChannels[i] = _worstChannels[i - 1];
+            _worstAmplitudesUvRms[i] = _worstAmplitudesUvRms[i - 1];
+        }
+
+        _worstChannels[position] = channel;
+        _worstAmplitudesUvRms[position] = amplitudeUvRms;
+        _worstCount = Math.Min(_worstCount + 1, MaxWorstChannels);
+    }
+
+    internal void AddAlternative(SourceMatch match)
+    {
+        if (_alternativeCount < MaxAlternatives)
+        {
+            _alternatives[_alternativeCount++] = match;
+        }
+    }
+}
