@@ -1,0 +1,270 @@
+using HumWatch.Core.Analysis;
+using HumWatch.Core.Attribution;
+using HumWatch.Core.Faults;
+using HumWatch.Core.Lines;
+
+namespace HumWatch.Core.Reporting;
+
+/// <summary>
+/// Folds the frames of one stream into episodes of lines and faults with their time extent — the body of a
+/// `check` report. Not for the service's hot path: it keeps per-frame amplitudes to take medians at the end.
+/// </summary>
+public sealed class RecordingAccumulator : IAnalysisFrameSink
+{
+    private readonly List<LineEpisode> _openLines = [];
+    private readonly List<LineFinding> _closedLines = [];
+    private readonly Dictionary<(int Channel, ChannelFaultKind Kind), FaultEpisode> _openFaults = [];
+    private readonly List<FaultFinding> _closedFaults = [];
+    private readonly List<double> _mainsEstimates = [];
+    private readonly double _mergeGapSeconds;
+    private readonly double _hopSeconds;
+    private double _lastFrameEndSeconds;
+    private double _analysedSeconds;
+    private int _frameCount;
+
+    /// <param name="hopSeconds">Time between frames; each frame accounts for this much new time.</param>
+    /// <param name="mergeGapSeconds">An absence shorter than this joins two sightings into one episode (a missed frame is not a new episode).</param>
+    public RecordingAccumulator(double hopSeconds, double mergeGapSeconds)
+    {
+        ArgumentOutOfRangeException.ThrowIfNegativeOrZero(hopSeconds);
+        ArgumentOutOfRangeException.ThrowIfNegative(mergeGapSeconds);
+        _hopSeconds = hopSeconds;
+        _mergeGapSeconds = mergeGapSeconds;
+    }
+
+    public void OnFrame(AnalysisFrame frame)
+    {
+        ArgumentNullException.ThrowIfNull(frame);
+        var frameEnd = frame.EndSeconds;
+        var newSeconds = _frameCount == 0 || frame.StartSeconds >= _lastFrameEndSeconds
+            ? frame.EndSeconds - frame.StartSeconds
+            : Math.Min(_hopSeconds, frameEnd - _lastFrameEndSeconds);
+        newSeconds = Math.Max(0, newSeconds);
+        _analysedSeconds += newSeconds;
+        _frameCount++;
+        _lastFrameEndSeconds = frameEnd;
+        if (double.IsFinite(frame.EstimatedMainsHz))
+        {
+            _mainsEstimates.Add(frame.EstimatedMainsHz);
+        }
+
+        var rate = frame.Layout.SampleRateHz;
+        foreach (var line in frame.Lines)
+        {
+            var episode = FindOpenEpisode(line, frame.BinWidthHz);
+            if (episode is null)
+            {
+                episode = new LineEpisode(line.Source);
+                _openLines.Add(episode);
+            }
+
+            episode.Add(line, frame, rate, newSeconds);
+        }
+
+        foreach (var fault in frame.Faults)
+        {
+            var key = (fault.Channel, fault.Kind);
+            if (!_openFaults.TryGetValue(key, out var episode))
+            {
+                // The newest hop of the span is what brought the fault in.
+                episode = new FaultEpisode(Math.Max(frame.StartSeconds, frameEnd - _hopSeconds));
+                _openFaults.Add(key, episode);
+            }
+
+            episode.LastSeenFrameEndSeconds = frameEnd;
+            episode.LastFrameStartSeconds = frame.StartSeconds;
+        }
+
+        CloseStale(frame);
+    }
+
+    /// <summary>Closes every open episode and returns what the stream showed.</summary>
+    public RecordingFindings Complete(Signals.StreamLayout layout)
+    {
+        ArgumentNullException.ThrowIfNull(layout);
+        foreach (var episode in _openLines)
+        {
+            _closedLines.Add(episode.ToFinding(layout));
+        }
+
+        _openLines.Clear();
+        foreach (var (key, episode) in _openFaults)
+        {
+            _closedFaults.Add(episode.ToFinding(key.Channel, layout.Channels[key.Channel].Label, key.Kind));
+        }
+
+        _openFaults.Clear();
+        var lines = _closedLines
+            .OrderByDescending(l => l.AmplitudeUvRms)
+            .ThenBy(l => l.FirstSeconds)
+            .ToList();
+        var faults = _closedFaults
+            .OrderBy(f => f.FirstSeconds)
+            .ThenBy(f => f.Channel)
+            .ToList();
+        double? mains = _mainsEstimates.Count == 0 ? null : Median(_mainsEstimates);
+        return new RecordingFindings(layout.SampleRateHz, layout.ChannelCount, _analysedSeconds, _frameCount, mains, lines, faults);
+    }
+
+    private LineEpisode? FindOpenEpisode(FrameLine line, double binWidthHz)
+    {
+        LineEpisode? best = null;
+        var bestDistance = double.MaxValue;
+        foreach (var episode in _openLines)
+        {
+            if (!episode.Matches(line, binWidthHz))
+            {
+                continue;
+            }
+
+            var distance = Math.Abs(episode.LastFrequencyHz - line.FrequencyHz);
+            if (distance < bestDistance)
+            {
+                best = episode;
+                bestDistance = distance;
+            }
+        }
+
+        return best;
+    }
+
+    private void CloseStale(AnalysisFrame frame)
+    {
+        for (var i = _openLines.Count - 1; i >= 0; i--)
+        {
+            if (frame.EndSeconds - _openLines[i].LastSeenFrameEndSeconds > _mergeGapSeconds)
+            {
+                _closedLines.Add(_openLines[i].ToFinding(frame.Layout));
+                _openLines.RemoveAt(i);
+            }
+        }
+
+        List<(int, ChannelFaultKind)>? stale = null;
+        foreach (var (key, episode) in _openFaults)
+        {
+            if (frame.EndSeconds - episode.LastSeenFrameEndSeconds > _mergeGapSeconds)
+            {
+                (stale ??= []).Add(key);
+            }
+        }
+
+        if (stale is null)
+        {
+            return;
+        }
+
+        foreach (var key in stale)
+        {
+            _closedFaults.Add(_openFaults[key].ToFinding(key.Item1, frame.Layout.Channels[key.Item1].Label, key.Item2));
+            _openFaults.Remove(key);
+        }
+    }
+
+    internal static double Median(List<double> values)
+    {
+        if (values.Count == 0)
+        {
+            return double.NaN;
+        }
+
+        var sorted = values.ToArray();
+        Array.Sort(sorted);
+        var mid = sorted.Length / 2;
+        return sorted.Length % 2 == 1 ? sorted[mid] : 0.5 * (sorted[mid - 1] + sorted[mid]);
+    }
+
+    private sealed class LineEpisode(SourceMatch source)
+    {
+        private readonly List<double> _frequencies = [];
+        private readonly List<double> _amplitudes = [];
+        private readonly List<double> _shares = [];
+        private readonly Dictionary<int, double> _channelScores = [];
+        private readonly SortedSet<string> _alternatives = new(StringComparer.Ordinal);
+        private double _maxAmplitude;
+        private double _maxProminence;
+        private int _maxAffected;
+        private double _firstSeconds = double.MaxValue;
+        private double _lastSeconds;
+        private double _presentSeconds;
+
+        public SourceMatch Source { get; } = source;
+
+        public double LastFrequencyHz { get; private set; }
+
+        public double LastSeenFrameEndSeconds { get; private set; }
+
+        public bool Matches(FrameLine line, double binWidthHz)
+        {
+            if (Source.IsIdentified || line.Source.IsIdentified)
+            {
+                return line.Source.Kind == Source.Kind
+                    && line.Source.Harmonic == Source.Harmonic
+                    && string.Equals(line.Source.Name, Source.Name, StringComparison.Ordinal);
+            }
+
+            // Unidentified lines are the same line when they stay within two bins of where it was last seen.
+            return Math.Abs(line.FrequencyHz - LastFrequencyHz) <= 2 * binWidthHz;
+        }
+
+        public void Add(FrameLine line, AnalysisFrame frame, double sampleRateHz, double newSeconds)
+        {
+            LastFrequencyHz = line.FrequencyHz;
+            LastSeenFrameEndSeconds = frame.EndSeconds;
+            _frequencies.Add(line.FrequencyHz);
+            _amplitudes.Add(line.AmplitudeUvRms);
+            _shares.Add(line.ChannelShare);
+            _maxAmplitude = Math.Max(_maxAmplitude, line.MaxAmplitudeUvRms);
+            _maxProminence = Math.Max(_maxProminence, line.ProminenceDb);
+            _maxAffected = Math.Max(_maxAffected, line.AffectedChannelCount);
+            _firstSeconds = Math.Min(_firstSeconds, line.EvidenceStartSampleIndex / sampleRateHz);
+            _lastSeconds = Math.Max(_lastSeconds, line.EvidenceEndSampleIndex / sampleRateHz);
+            _presentSeconds += newSeconds;
+            var worst = line.WorstChannels;
+            var amplitudes = line.WorstAmplitudesUvRms;
+            for (var i = 0; i < worst.Length; i++)
+            {
+                _channelScores[worst[i]] = _channelScores.GetValueOrDefault(worst[i]) + amplitudes[i];
+            }
+
+            foreach (var alternative in line.AlsoPossible)
+            {
+                _alternatives.Add(LineFinding.Describe(alternative));
+            }
+        }
+
+        public LineFinding ToFinding(Signals.StreamLayout layout)
+        {
+            var worst = _channelScores
+                .OrderByDescending(kv => kv.Value)
+                .ThenBy(kv => kv.Key)
+                .Take(FrameLine.MaxWorstChannels)
+                .Select(kv => layout.Channels[kv.Key].Label)
+                .ToList();
+            return new LineFinding(
+                Median(_frequencies),
+                Source,
+                [.. _alternatives],
+                Median(_amplitudes),
+                _maxAmplitude,
+                _maxProminence,
+                Median(_shares),
+                _maxAffected,
+                worst,
+                _firstSeconds,
+                _lastSeconds,
+                _presentSeconds);
+        }
+    }
+
+    private sealed class FaultEpisode(double firstSeconds)
+    {
+        public double FirstSeconds { get; } = firstSeconds;
+
+        public double LastSeenFrameEndSeconds { get; set; }
+
+        public double LastFrameStartSeconds { get; set; }
+
+        public FaultFinding ToFinding(int channel, string label, ChannelFaultKind kind) =>
+            new(channel, label, kind, FirstSeconds, Math.Max(FirstSeconds, LastSeenFrameEndSeconds));
+    }
+}

@@ -1,0 +1,112 @@
+using HumWatch.Core.Attribution;
+using HumWatch.Core.Faults;
+
+namespace HumWatch.Core.Reporting;
+
+/// <summary>Outcome of a recording against <see cref="CheckLimits"/>.</summary>
+public enum Verdict
+{
+    Pass = 0,
+    Warn,
+    Fail,
+}
+
+/// <summary>One episode of one line over a recording (or one rate group of it).</summary>
+/// <param name="FrequencyHz">Median of the frames' frequencies.</param>
+/// <param name="Source">Most likely explanation (identical over the episode).</param>
+/// <param name="AlsoPossible">Other explanations seen for this line, e.g. "display 75 Hz ×2".</param>
+/// <param name="AmplitudeUvRms">Median over the frames that show the line of the frame's median channel amplitude.</param>
+/// <param name="MaxAmplitudeUvRms">Largest channel amplitude seen.</param>
+/// <param name="ProminenceDb">Largest prominence over the local floor.</param>
+/// <param name="ChannelShare">Median share of analysed channels carrying the line.</param>
+/// <param name="WorstChannels">Labels of the channels that carried it most strongly.</param>
+/// <param name="FirstSeconds">Start of the evidence, seconds from the recording's start.</param>
+/// <param name="LastSeconds">End of the evidence.</param>
+/// <param name="PresentSeconds">Time covered by frames that show it (hop-weighted).</param>
+public sealed record LineFinding(
+    double FrequencyHz,
+    SourceMatch Source,
+    IReadOnlyList<string> AlsoPossible,
+    double AmplitudeUvRms,
+    double MaxAmplitudeUvRms,
+    double ProminenceDb,
+    double ChannelShare,
+    int AffectedChannelCount,
+    IReadOnlyList<string> WorstChannels,
+    double FirstSeconds,
+    double LastSeconds,
+    double PresentSeconds)
+{
+    /// <summary>Short human name of the explanation, e.g. "mains ×3" or "display 75 Hz ×2 (aliased)".</summary>
+    public string SourceLabel => Describe(Source);
+
+    public static string Describe(SourceMatch match)
+    {
+        if (!match.IsIdentified)
+        {
+            return "unidentified";
+        }
+
+        var harmonic = match.Harmonic == 1 ? "" : $" ×{match.Harmonic}";
+        var aliased = match.Aliased ? " (aliased)" : "";
+        return $"{match.Name}{harmonic}{aliased}";
+    }
+}
+
+/// <summary>One episode of a channel fault.</summary>
+public sealed record FaultFinding(int Channel, string ChannelLabel, ChannelFaultKind Kind, double FirstSeconds, double LastSeconds);
+
+/// <summary>Everything found in one analysed stream (a recording's rate group, or a whole stream).</summary>
+public sealed record RecordingFindings(
+    double SampleRateHz,
+    int ChannelCount,
+    double AnalysedSeconds,
+    int FrameCount,
+    double? MedianMainsHz,
+    IReadOnlyList<LineFinding> Lines,
+    IReadOnlyList<FaultFinding> Faults)
+{
+    /// <summary>Applies the limits: fail beats warn beats pass.</summary>
+    public Verdict Judge(CheckLimits limits, double recordingSeconds)
+    {
+        ArgumentNullException.ThrowIfNull(limits);
+        var verdict = Verdict.Pass;
+        foreach (var line in Lines)
+        {
+            if (line.PresentSeconds < limits.MinLineSeconds || (!limits.CountUnidentifiedLines && !line.Source.IsIdentified))
+            {
+                continue;
+            }
+
+            if (line.AmplitudeUvRms >= limits.FailLineUvRms)
+            {
+                return Verdict.Fail;
+            }
+
+            if (line.AmplitudeUvRms >= limits.WarnLineUvRms)
+            {
+                verdict = Verdict.Warn;
+            }
+        }
+
+        // A channel's episodes of one fault kind add up: a channel flat for many short stretches is as bad as one long one.
+        var faultSeconds = new Dictionary<(int Channel, ChannelFaultKind Kind), double>();
+        foreach (var fault in Faults)
+        {
+            faultSeconds[(fault.Channel, fault.Kind)] = faultSeconds.GetValueOrDefault((fault.Channel, fault.Kind)) + (fault.LastSeconds - fault.FirstSeconds);
+        }
+
+        foreach (var seconds in faultSeconds.Values)
+        {
+            var fraction = recordingSeconds > 0 ? seconds / recordingSeconds : 1;
+            if (fraction >= limits.FailFaultFraction)
+            {
+                return Verdict.Fail;
+            }
+
+            verdict = Verdict.Warn;
+        }
+
+        return verdict;
+    }
+}

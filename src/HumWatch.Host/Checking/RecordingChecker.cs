@@ -1,0 +1,239 @@
+using HumWatch.Core.Alerts;
+using HumWatch.Core.Analysis;
+using HumWatch.Core.Attribution;
+using HumWatch.Core.Faults;
+using HumWatch.Core.Reporting;
+using HumWatch.Formats;
+
+namespace HumWatch.Host.Checking;
+
+/// <summary>
+/// Runs one recording file through the analysis, group by group, and builds its report. Shared by the `check`
+/// command and the folder inbox (which adds its own frame sinks for alerts and the ledger).
+/// </summary>
+public sealed class RecordingChecker
+{
+    private readonly AnalysisOptions _analysis;
+    private readonly CheckLimits _limits;
+
+    public RecordingChecker(AnalysisOptions analysis, CheckLimits limits)
+    {
+        ArgumentNullException.ThrowIfNull(analysis);
+        ArgumentNullException.ThrowIfNull(limits);
+        var errors = analysis.Validate().Concat(limits.Validate()).ToList();
+        if (errors.Count > 0)
+        {
+            throw new ArgumentException(string.Join(Environment.NewLine, errors), nameof(analysis));
+        }
+
+        _analysis = analysis;
+        _limits = limits;
+    }
+
+    /// <summary>
+    /// Checks one file. Unreadable input becomes an "error" report rather than an exception, so a batch goes on.
+    /// </summary>
+    /// <param name="path">The recording.</param>
+    /// <param name="progress">Receives the share of the recording read so far, 0..1.</param>
+    /// <param name="extraSinks">Optional: per signal group, another sink to feed the same frames to.</param>
+    public CheckReport Check(
+        string path,
+        IProgress<double>? progress = null,
+        Func<SignalGroup, IAnalysisFrameSink?>? extraSinks = null,
+        CancellationToken cancellationToken = default)
+    {
+        ArgumentException.ThrowIfNullOrEmpty(path);
+        try
+        {
+            return CheckReadable(path, progress, extraSinks, cancellationToken);
+        }
+        catch (RecordingFormatException ex)
+        {
+            return ErrorReport(path, ex.Message);
+        }
+        catch (IOException ex)
+        {
+            return ErrorReport(path, $"{path}: {ex.Message}");
+        }
+        catch (UnauthorizedAccessException ex)
+        {
+            return ErrorReport(path, $"{path}: {ex.Message}");
+        }
+    }
+
+    private static CheckReport ErrorReport(string path, string message) =>
+        new() { File = path, Verdict = "error", Error = message };
+
+    private CheckReport CheckReadable(
+        string path,
+        IProgress<double>? progress,
+        Func<SignalGroup, IAnalysisFrameSink?>? extraSinks,
+        CancellationToken cancellationToken)
+    {
+        using var reader = RecordingReader.Open(path);
+        var info = reader.Info;
+        var notes = new List<string>();
+        if (info.Groups.Count == 0)
+        {
+            return new CheckReport
+            {
+                File = path,
+                Verdict = "error",
+                Error = $"{path}: no EEG signal to analyse (every signal was skipped).",
+                Format = info.Format,
+                DurationSeconds = Math.Round(info.DurationSeconds, 3),
+                SkippedSignals = Skipped(info),
+            };
+        }
+
+        var hop = _analysis.Spectra.HopSeconds;
+        var groups = info.Groups;
+        var analyzers = new StreamAnalyzer[groups.Count];
+        var accumulators = new RecordingAccumulator[groups.Count];
+        var sinks = new IAnalysisFrameSink[groups.Count];
+        for (var g = 0; g < groups.Count; g++)
+        {
+            analyzers[g] = new StreamAnalyzer(groups[g].Layout, _analysis);
+
+            // A line absent for a whole span is a new episode; a single missed frame is not.
+            accumulators[g] = new RecordingAccumulator(hop, _analysis.Spectra.SpanSeconds);
+            var extra = extraSinks?.Invoke(groups[g]);
+            sinks[g] = extra is null ? accumulators[g] : new FrameSinkFanout(accumulators[g], extra);
+        }
+
+        var lastReported = 0.0;
+        foreach (var item in reader.ReadChunks())
+        {
+            cancellationToken.ThrowIfCancellationRequested();
+            analyzers[item.GroupIndex].Append(item.Chunk, sinks[item.GroupIndex]);
+            if (progress is not null && info.DurationSeconds > 0)
+            {
+                var done = item.Chunk.EndSampleIndex / item.Chunk.Layout.SampleRateHz / info.DurationSeconds;
+                if (done - lastReported >= 0.01)
+                {
+                    lastReported = done;
+                    progress.Report(Math.Min(1, done));
+                }
+            }
+        }
+
+        var lines = new List<CheckLine>();
+        var faults = new List<CheckFault>();
+        var verdict = Verdict.Pass;
+        var mainsEstimates = new List<double>();
+        for (var g = 0; g < groups.Count; g++)
+        {
+            var layout = groups[g].Layout;
+            var findings = accumulators[g].Complete(layout);
+            if (analyzers[g].GapCount > 0)
+            {
+                notes.Add($"{analyzers[g].GapCount} gap(s) in the {layout.SampleRateHz:0.###} Hz signals; analysis restarted after each.");
+            }
+
+            if (findings.FrameCount == 0)
+            {
+                notes.Add($"The {layout.SampleRateHz:0.###} Hz signals are shorter than one analysis span ({_analysis.Spectra.SpanSeconds:0.##} s): nothing was analysed.");
+                verdict = Max(verdict, Verdict.Warn);
+                continue;
+            }
+
+            if (findings.MedianMainsHz is { } mains)
+            {
+                mainsEstimates.Add(mains);
+            }
+
+            verdict = Max(verdict, findings.Judge(_limits, info.DurationSeconds));
+            foreach (var line in findings.Lines)
+            {
+                lines.Add(ToCheckLine(line, layout.SampleRateHz));
+            }
+
+            foreach (var fault in findings.Faults)
+            {
+                faults.Add(new CheckFault
+                {
+                    Channel = fault.ChannelLabel,
+                    Kind = FaultKindName(fault.Kind),
+                    FirstSeconds = Round(fault.FirstSeconds, 1),
+                    LastSeconds = Round(fault.LastSeconds, 1),
+                    SampleRateHz = layout.SampleRateHz,
+                });
+            }
+        }
+
+        if (info.Prefiltering is { } prefilter && prefilter.Contains("N:", StringComparison.OrdinalIgnoreCase))
+        {
+            // EDF+ records an applied notch as "N:50Hz": the fundamental is suppressed, harmonics may still be there.
+            notes.Add($"The recording declares a notch filter ({prefilter}); a suppressed fundamental does not mean the room is clean.");
+        }
+
+        var primary = groups.OrderByDescending(g => g.Layout.ChannelCount).First().Layout;
+        return new CheckReport
+        {
+            File = path,
+            Verdict = VerdictName(verdict),
+            Format = info.Format,
+            SampleRateHz = primary.SampleRateHz,
+            ChannelCount = groups.Sum(g => g.Layout.ChannelCount),
+            DurationSeconds = Round(info.DurationSeconds, 3),
+            MainsEstimateHz = mainsEstimates.Count == 0 ? null : Round(mainsEstimates.Average(), 3),
+            Prefiltering = string.IsNullOrWhiteSpace(info.Prefiltering) ? null : info.Prefiltering,
+            Lines = lines,
+            ChannelFaults = faults,
+            SkippedSignals = Skipped(info),
+            Notes = notes,
+            Caution = lines.Count > 0 || faults.Count > 0 ? SafetyNotice.Text : null,
+        };
+    }
+
+    private static IReadOnlyList<CheckSkippedSignal> Skipped(RecordingInfo info) =>
+        [.. info.Skipped.Select(s => new CheckSkippedSignal { Label = s.Label, Reason = s.Reason })];
+
+    internal static CheckLine ToCheckLine(LineFinding line, double sampleRateHz) => new()
+    {
+        FrequencyHz = Round(line.FrequencyHz, 3),
+        Source = SourceKindName(line.Source.Kind),
+        SourceName = line.Source.Name,
+        FundamentalHz = line.Source.IsIdentified ? Round(line.Source.FundamentalHz, 3) : null,
+        Harmonic = line.Source.Harmonic,
+        Aliased = line.Source.Aliased,
+        AlsoPossible = line.AlsoPossible,
+        AmplitudeUvRms = Round(line.AmplitudeUvRms, 3),
+        MaxAmplitudeUvRms = Round(line.MaxAmplitudeUvRms, 3),
+        ProminenceDb = Round(line.ProminenceDb, 1),
+        ChannelShare = Round(line.ChannelShare, 3),
+        AffectedChannels = line.AffectedChannelCount,
+        WorstChannels = line.WorstChannels,
+        FirstSeconds = Round(line.FirstSeconds, 1),
+        LastSeconds = Round(line.LastSeconds, 1),
+        PresentSeconds = Round(line.PresentSeconds, 1),
+        SampleRateHz = sampleRateHz,
+        Suggestion = Suggestions.For(line.Source, line.ChannelShare, line.WorstChannels),
+    };
+
+    public static string SourceKindName(SourceKind kind) => kind switch
+    {
+        SourceKind.Mains => "mains",
+        SourceKind.Display => "display",
+        SourceKind.SiteTone => "site-tone",
+        _ => "unidentified",
+    };
+
+    public static string FaultKindName(ChannelFaultKind kind) => kind switch
+    {
+        ChannelFaultKind.Flat => "flat",
+        ChannelFaultKind.Clipped => "clipped",
+        _ => "non-finite",
+    };
+
+    public static string VerdictName(Verdict verdict) => verdict switch
+    {
+        Verdict.Pass => "pass",
+        Verdict.Warn => "warn",
+        _ => "fail",
+    };
+
+    private static Verdict Max(Verdict a, Verdict b) => (Verdict)Math.Max((int)a, (int)b);
+
+    private static double Round(double value, int digits) => Math.Round(value, digits, MidpointRounding.AwayFromZero);
+}

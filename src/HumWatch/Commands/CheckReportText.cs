@@ -1,0 +1,110 @@
+using System.Globalization;
+using HumWatch.Core.Reporting;
+using HumWatch.Host.Checking;
+
+namespace HumWatch.Cli.Commands;
+
+/// <summary>The readable form of `check` reports: one block per file, the safety caution once at the end.</summary>
+internal static class CheckReportText
+{
+    public static void Write(TextWriter output, IReadOnlyList<CheckReport> reports)
+    {
+        var anyHint = false;
+        foreach (var report in reports)
+        {
+            anyHint |= WriteOne(output, report);
+            output.WriteLine();
+        }
+
+        if (anyHint)
+        {
+            output.WriteLine($"Caution: {SafetyNotice.Text}");
+        }
+    }
+
+    private static bool WriteOne(TextWriter o, CheckReport r)
+    {
+        var c = CultureInfo.InvariantCulture;
+        o.WriteLine(r.File);
+        o.WriteLine($"  result    {VerdictText(r.Verdict)}");
+        if (r.Error is not null)
+        {
+            o.WriteLine($"  problem   {r.Error}");
+            return false;
+        }
+
+        var mains = r.MainsEstimateHz is { } hz ? string.Create(c, $"; mains measured at {hz:0.000} Hz") : "";
+        o.WriteLine(string.Create(c, $"  input     {r.ChannelCount} channels, {r.SampleRateHz:0.###} Hz, {r.DurationSeconds:0.0} s ({r.Format}){mains}"));
+        if (r.Lines.Count == 0)
+        {
+            o.WriteLine("  lines     none found");
+        }
+        else
+        {
+            o.WriteLine("  lines");
+            o.WriteLine("    Hz         explanation                   µV RMS   peak µV  channels   strongest on         seen (s)");
+            foreach (var line in r.Lines)
+            {
+                var what = Explain(line);
+                var channels = string.Create(c, $"{line.AffectedChannels} ({line.ChannelShare * 100:0}%)");
+                var strongest = string.Join(",", line.WorstChannels);
+                o.WriteLine(string.Create(c, $"    {line.FrequencyHz,-10:0.00} {what,-29} {line.AmplitudeUvRms,6:0.00}   {line.MaxAmplitudeUvRms,7:0.00}  {channels,-10} {strongest,-20} {line.FirstSeconds:0}–{line.LastSeconds:0}"));
+                if (line.AlsoPossible.Count > 0)
+                {
+                    o.WriteLine($"{"",15}could also be: {string.Join("; ", line.AlsoPossible)}");
+                }
+            }
+        }
+
+        if (r.ChannelFaults.Count > 0)
+        {
+            o.WriteLine("  channel faults");
+            foreach (var fault in r.ChannelFaults)
+            {
+                o.WriteLine(string.Create(c, $"    {fault.Channel,-12} {fault.Kind,-11} {fault.FirstSeconds:0.0}–{fault.LastSeconds:0.0} s"));
+            }
+        }
+
+        var hints = r.Lines.Where(l => l.Suggestion is not null).Select(l => string.Create(c, $"{l.FrequencyHz:0.00} Hz: {l.Suggestion}")).Distinct().ToList();
+        if (hints.Count > 0)
+        {
+            o.WriteLine("  what to look at");
+            foreach (var hint in hints)
+            {
+                o.WriteLine($"    {hint}");
+            }
+        }
+
+        if (r.SkippedSignals.Count > 0)
+        {
+            o.WriteLine($"  not analysed  {string.Join("; ", r.SkippedSignals.Select(s => $"{s.Label} ({s.Reason})"))}");
+        }
+
+        foreach (var note in r.Notes)
+        {
+            o.WriteLine($"  note      {note}");
+        }
+
+        return hints.Count > 0 || r.ChannelFaults.Count > 0;
+    }
+
+    private static string Explain(CheckLine line)
+    {
+        if (line.Source == "unidentified")
+        {
+            return "not in the catalogue";
+        }
+
+        var harmonic = line.Harmonic == 1 ? "" : $" ×{line.Harmonic}";
+        var aliased = line.Aliased ? ", folded" : "";
+        return $"{line.SourceName}{harmonic}{aliased}";
+    }
+
+    private static string VerdictText(string verdict) => verdict switch
+    {
+        "pass" => "PASS — no contamination above the limits",
+        "warn" => "WARN — contamination or channel faults below the failure limits",
+        "fail" => "FAIL — contamination above the limits",
+        _ => "ERROR — the file could not be analysed",
+    };
+}
