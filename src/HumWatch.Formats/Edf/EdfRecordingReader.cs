@@ -1,0 +1,405 @@
+using System.Buffers;
+using System.Buffers.Binary;
+using System.Globalization;
+using HumWatch.Core.Signals;
+
+namespace HumWatch.Formats.Edf;
+
+/// <summary>
+/// Streams an EDF/EDF+/BDF/BDF+ file record by record through one pooled record buffer, converting analysed signals
+/// to µV with the EDF scaling physical = phys_min + (digital − dig_min)·(phys_max − phys_min)/(dig_max − dig_min).
+/// </summary>
+internal sealed class EdfRecordingReader : IRecordingReader
+{
+    private const int FileBufferBytes = 1 << 20;
+
+    private readonly FileStream _stream;
+    private readonly EdfHeader _header;
+    private readonly GroupPlan[] _plans;
+    private readonly EdfSignalHeader[] _annotationSignals;
+    private readonly List<RecordingAnnotation> _annotations = [];
+
+    private EdfRecordingReader(FileStream stream, EdfHeader header, RecordingInfo info, GroupPlan[] plans, EdfSignalHeader[] annotationSignals)
+    {
+        _stream = stream;
+        _header = header;
+        Info = info;
+        _plans = plans;
+        _annotationSignals = annotationSignals;
+    }
+
+    public RecordingInfo Info { get; }
+
+    public IReadOnlyList<RecordingAnnotation> Annotations => _annotations;
+
+    public static EdfRecordingReader Open(string path, bool isBdf, RecordingReadOptions options)
+    {
+        FileStream stream;
+        try
+        {
+            stream = new FileStream(path, FileMode.Open, FileAccess.Read, FileShare.ReadWrite | FileShare.Delete, FileBufferBytes, FileOptions.SequentialScan);
+        }
+        catch (Exception ex) when (ex is IOException or UnauthorizedAccessException)
+        {
+            throw new RecordingFormatException(path, RecordingReader.DescribeOpenFailure(ex), ex);
+        }
+
+        try
+        {
+            var header = EdfHeader.Read(path, stream, isBdf);
+            var warnings = new List<string>(header.Warnings);
+            var skipped = new List<SkippedSignal>();
+            var annotationSignals = new List<EdfSignalHeader>();
+            var byRate = new List<(int SamplesPerRecord, List<EdfSignalHeader> Signals)>();
+            foreach (var s in header.Signals)
+            {
+                var rateHz = s.SamplesPerRecord / header.RecordDurationSeconds;
+                if (s.IsAnnotation)
+                {
+                    annotationSignals.Add(s);
+                    skipped.Add(new SkippedSignal(s.Index, s.Label, "annotation signal (read as annotations, not analysed)"));
+                    continue;
+                }
+
+                if (IsTriggerLabel(s.Label))
+                {
+                    skipped.Add(new SkippedSignal(s.Index, s.Label, "trigger/status channel"));
+                    continue;
+                }
+
+                if (s.PhysicalDimension.Length == 0)
+                {
+                    // Some exporters leave the unit blank on EEG channels; dropping them would hide the recording.
+                    warnings.Add($"signal {s.Index + 1} ('{s.Label}') has no physical dimension; assumed µV");
+                }
+                else if (!VoltageUnits.TryGetFactorToUv(s.PhysicalDimension, out _))
+                {
+                    skipped.Add(new SkippedSignal(s.Index, s.Label, $"physical dimension '{s.PhysicalDimension}' is not a voltage"));
+                    continue;
+                }
+
+                if (rateHz < options.MinAnalysisRateHz)
+                {
+                    skipped.Add(new SkippedSignal(s.Index, s.Label, string.Create(CultureInfo.InvariantCulture, $"sample rate {rateHz:0.###} Hz is below the analysis minimum of {options.MinAnalysisRateHz:0.###} Hz")));
+                    continue;
+                }
+
+                var slot = byRate.FindIndex(g => g.SamplesPerRecord == s.SamplesPerRecord);
+                if (slot < 0)
+                {
+                    byRate.Add((s.SamplesPerRecord, [s]));
+                }
+                else
+                {
+                    byRate[slot].Signals.Add(s);
+                }
+            }
+
+            if (byRate.Count == 0)
+            {
+                var reasons = string.Join("; ", skipped.Select(k => $"{k.SignalIndex + 1} '{k.Label}': {k.Reason}"));
+                throw new RecordingFormatException(path, $"no analysable EEG signal ({header.Signals.Count} signals: {reasons})");
+            }
+
+            var groups = new SignalGroup[byRate.Count];
+            var plans = new GroupPlan[byRate.Count];
+            var prefilters = new List<string>();
+            for (var g = 0; g < byRate.Count; g++)
+            {
+                var signals = byRate[g].Signals;
+                var channels = new ChannelInfo[signals.Count];
+                for (var c = 0; c < signals.Count; c++)
+                {
+                    var s = signals[c];
+                    var factor = s.PhysicalDimension.Length == 0 ? 1.0 : UnitFactor(s.PhysicalDimension);
+                    channels[c] = new ChannelInfo(s.Label, Math.Min(s.PhysicalMin, s.PhysicalMax) * factor, Math.Max(s.PhysicalMin, s.PhysicalMax) * factor);
+                    if (s.Prefiltering.Length > 0 && !prefilters.Contains(s.Prefiltering))
+                    {
+                        prefilters.Add(s.Prefiltering);
+                    }
+                }
+
+                var layout = new StreamLayout(byRate[g].SamplesPerRecord / header.RecordDurationSeconds, channels);
+                groups[g] = new SignalGroup(g, layout, signals.Select(s => s.Index).ToArray());
+                plans[g] = new GroupPlan(layout, [.. signals]);
+            }
+
+            var info = new RecordingInfo(
+                path,
+                header.Format,
+                header.StartLocal,
+                header.RecordCount * header.RecordDurationSeconds,
+                groups,
+                skipped,
+                prefilters.Count == 0 ? null : string.Join("; ", prefilters))
+            {
+                Warnings = warnings,
+            };
+            return new EdfRecordingReader(stream, header, info, plans, [.. annotationSignals]);
+        }
+        catch (Exception ex) when (ex is IOException or UnauthorizedAccessException)
+        {
+            stream.Dispose();
+            throw new RecordingFormatException(path, "cannot read header: " + ex.Message, ex);
+        }
+        catch
+        {
+            stream.Dispose();
+            throw;
+        }
+    }
+
+    public IEnumerable<GroupChunk> ReadChunks(double chunkSeconds = 2.0)
+    {
+        if (!double.IsFinite(chunkSeconds) || chunkSeconds <= 0 || chunkSeconds > 3600)
+        {
+            throw new ArgumentOutOfRangeException(nameof(chunkSeconds), chunkSeconds, "Chunk length must be in (0, 3600] seconds.");
+        }
+
+        return ReadChunksCore(chunkSeconds);
+    }
+
+    public void Dispose() => _stream.Dispose();
+
+    private IEnumerable<GroupChunk> ReadChunksCore(double chunkSeconds)
+    {
+        var header = _header;
+        var path = Info.Path;
+        var recordBytes = (int)header.RecordBytes;
+        var floatsPerRecord = 0L;
+        foreach (var p in _plans)
+        {
+            floatsPerRecord += (long)p.Layout.ChannelCount * p.SamplesPerRecord;
+        }
+
+        // Whole records per chunk, at least one, and never more than 64 MiB of floats in flight per batch.
+        var recordsPerChunk = (int)Math.Clamp(Math.Round(chunkSeconds / header.RecordDurationSeconds), 1, int.MaxValue);
+        recordsPerChunk = (int)Math.Max(1, Math.Min(recordsPerChunk, EdfHeader.MaxRecordBytes / 4 / floatsPerRecord));
+
+        _annotations.Clear();
+        var batches = new Batch[_plans.Length];
+        for (var g = 0; g < _plans.Length; g++)
+        {
+            batches[g] = new Batch(_plans[g], recordsPerChunk);
+        }
+
+        var record = ArrayPool<byte>.Shared.Rent(recordBytes);
+        try
+        {
+            _stream.Position = header.HeaderBytes;
+            double? firstOnset = null;
+            for (long r = 0; r < header.RecordCount; r++)
+            {
+                ReadRecord(record, recordBytes, r);
+                var onset = ParseRecordAnnotations(record, r);
+                if (header.IsDiscontinuous)
+                {
+                    if (onset is null)
+                    {
+                        throw new RecordingFormatException(path, $"data record {r + 1} of {header.RecordCount} has no time-keeping annotation (required in {header.Format})");
+                    }
+
+                    firstOnset ??= onset;
+                }
+
+                // EDF+D: a record's time comes from its time-keeping TAL, so a gap shows as a jump in sample index.
+                var startSeconds = header.IsDiscontinuous ? onset!.Value - firstOnset!.Value : r * header.RecordDurationSeconds;
+                var contiguous = true;
+                for (var g = 0; g < batches.Length; g++)
+                {
+                    var b = batches[g];
+                    var startIndex = header.IsDiscontinuous ? (long)Math.Round(startSeconds * b.Plan.Layout.SampleRateHz) : r * b.Plan.SamplesPerRecord;
+                    b.PendingStart = startIndex;
+                    if (b.Filled > 0 && startIndex != b.EndIndex)
+                    {
+                        contiguous = false;
+                        if (startIndex < b.EndIndex)
+                        {
+                            throw new RecordingFormatException(path, string.Create(CultureInfo.InvariantCulture, $"data record {r + 1} starts at {onset:0.######} s, before the previous record ends"));
+                        }
+                    }
+                }
+
+                if (!contiguous || batches[0].IsFull)
+                {
+                    for (var g = 0; g < batches.Length; g++)
+                    {
+                        yield return new GroupChunk(g, batches[g].TakeChunk());
+                    }
+                }
+
+                for (var g = 0; g < batches.Length; g++)
+                {
+                    batches[g].Append(record, header.IsBdf);
+                }
+            }
+
+            if (batches[0].Filled > 0)
+            {
+                for (var g = 0; g < batches.Length; g++)
+                {
+                    yield return new GroupChunk(g, batches[g].TakeChunk());
+                }
+            }
+        }
+        finally
+        {
+            ArrayPool<byte>.Shared.Return(record);
+        }
+    }
+
+    private void ReadRecord(byte[] record, int recordBytes, long recordIndex)
+    {
+        try
+        {
+            var read = _stream.ReadAtLeast(record.AsSpan(0, recordBytes), recordBytes, throwOnEndOfStream: false);
+            if (read < recordBytes)
+            {
+                throw new RecordingFormatException(Info.Path, $"file ended inside data record {recordIndex + 1} of {_header.RecordCount} (was it truncated while being read?)");
+            }
+        }
+        catch (IOException ex)
+        {
+            throw new RecordingFormatException(Info.Path, $"read error in data record {recordIndex + 1}: {ex.Message}", ex);
+        }
+    }
+
+    private double? ParseRecordAnnotations(byte[] record, long recordIndex)
+    {
+        double? recordOnset = null;
+        for (var a = 0; a < _annotationSignals.Length; a++)
+        {
+            var s = _annotationSignals[a];
+            var bytes = record.AsSpan((int)s.ByteOffsetInRecord, s.SamplesPerRecord * _header.BytesPerSample);
+            try
+            {
+                var first = TalParser.Parse(bytes, _annotations);
+                if (a == 0)
+                {
+                    recordOnset = first;
+                }
+            }
+            catch (FormatException ex)
+            {
+                throw new RecordingFormatException(Info.Path, $"data record {recordIndex + 1}, annotation signal {s.Index + 1} ('{s.Label}'): {ex.Message}", ex);
+            }
+        }
+
+        return recordOnset;
+    }
+
+    internal static bool IsTriggerLabel(string label) =>
+        label.Equals("Status", StringComparison.OrdinalIgnoreCase)
+        || label.StartsWith("Trigger", StringComparison.OrdinalIgnoreCase)
+        || label.Equals("TRIG", StringComparison.OrdinalIgnoreCase);
+
+    private static double UnitFactor(string dimension) => VoltageUnits.TryGetFactorToUv(dimension, out var f) ? f : 1.0;
+
+    /// <summary>Precomputed per-group decoding: where each channel sits in a record and its digital → µV line.</summary>
+    private sealed class GroupPlan
+    {
+        public GroupPlan(StreamLayout layout, EdfSignalHeader[] signals)
+        {
+            Layout = layout;
+            SamplesPerRecord = signals[0].SamplesPerRecord;
+            ByteOffsets = new int[signals.Length];
+            ScaleUv = new double[signals.Length];
+            OffsetUv = new double[signals.Length];
+            for (var c = 0; c < signals.Length; c++)
+            {
+                var s = signals[c];
+                var factor = s.PhysicalDimension.Length == 0 ? 1.0 : UnitFactor(s.PhysicalDimension);
+                var gain = s.Gain;
+                ByteOffsets[c] = (int)s.ByteOffsetInRecord;
+                ScaleUv[c] = gain * factor;
+                OffsetUv[c] = (s.PhysicalMin - (s.DigitalMin * gain)) * factor;
+            }
+        }
+
+        public StreamLayout Layout { get; }
+
+        public int SamplesPerRecord { get; }
+
+        public int[] ByteOffsets { get; }
+
+        public double[] ScaleUv { get; }
+
+        public double[] OffsetUv { get; }
+    }
+
+    /// <summary>Collects whole records of one group into a chunk buffer owned by the chunk it becomes.</summary>
+    private sealed class Batch(GroupPlan plan, int recordsPerChunk)
+    {
+        private readonly int _capacityPerChannel = plan.SamplesPerRecord * recordsPerChunk;
+        private float[]? _buffer;
+        private long _firstIndex;
+
+        public GroupPlan Plan { get; } = plan;
+
+        public int Filled { get; private set; }
+
+        public long PendingStart { get; set; }
+
+        public long EndIndex => _firstIndex + Filled;
+
+        public bool IsFull => Filled >= _capacityPerChannel;
+
+        public void Append(byte[] record, bool isBdf)
+        {
+            if (_buffer is null)
+            {
+                _buffer = new float[_capacityPerChannel * Plan.Layout.ChannelCount];
+                _firstIndex = PendingStart;
+                Filled = 0;
+            }
+
+            var n = Plan.SamplesPerRecord;
+            for (var c = 0; c < Plan.ByteOffsets.Length; c++)
+            {
+                var dst = _buffer.AsSpan((c * _capacityPerChannel) + Filled, n);
+                var scale = Plan.ScaleUv[c];
+                var offset = Plan.OffsetUv[c];
+                if (isBdf)
+                {
+                    var src = record.AsSpan(Plan.ByteOffsets[c], n * 3);
+                    for (var i = 0; i < dst.Length; i++)
+                    {
+                        var j = i * 3;
+                        var digital = src[j] | (src[j + 1] << 8) | ((sbyte)src[j + 2] << 16);
+                        dst[i] = (float)((digital * scale) + offset);
+                    }
+                }
+                else
+                {
+                    var src = record.AsSpan(Plan.ByteOffsets[c], n * 2);
+                    for (var i = 0; i < dst.Length; i++)
+                    {
+                        var digital = BinaryPrimitives.ReadInt16LittleEndian(src.Slice(i * 2, 2));
+                        dst[i] = (float)((digital * scale) + offset);
+                    }
+                }
+            }
+
+            Filled += n;
+        }
+
+        public SampleChunk TakeChunk()
+        {
+            var buffer = _buffer!;
+            var filled = Filled;
+            if (filled < _capacityPerChannel)
+            {
+                // A short batch (end of file, EDF+D gap): close up the channel blocks so channel c starts at c·filled.
+                for (var c = 1; c < Plan.Layout.ChannelCount; c++)
+                {
+                    Array.Copy(buffer, c * _capacityPerChannel, buffer, c * filled, filled);
+                }
+            }
+
+            var chunk = new SampleChunk(Plan.Layout, _firstIndex, filled, buffer);
+            _buffer = null;
+            Filled = 0;
+            return chunk;
+        }
+    }
+}

@@ -1,0 +1,20 @@
+namespace HumWatch.Formats;
+
+/// <summary>An open recording: header information up front, samples streamed in chunks.</summary>
+public interface IRecordingReader : IDisposable
+{
+    /// <summary>Header information, known as soon as the file is open.</summary>
+    RecordingInfo Info { get; }
+
+    /// <summary>
+    /// Streams the file once from the start, yielding chunks of about <paramref name="chunkSeconds"/> per signal group
+    /// (whole EDF data records; at least one record). Each chunk owns its sample buffer, so it may be queued to
+    /// another thread. Memory stays bounded whatever the file size. Can be enumerated only once per reader.
+    /// </summary>
+    /// <param name="chunkSeconds">Target chunk length in seconds; default 2 s; must be in (0, 3600].</param>
+    /// <exception cref="RecordingFormatException">The file turns out to be malformed part-way through.</exception>
+    IEnumerable<GroupChunk> ReadChunks(double chunkSeconds = 2.0);
+
+    /// <summary>Annotations in file order; complete after <see cref="ReadChunks"/> has been enumerated to the end.</summary>
+    IReadOnlyList<RecordingAnnotation> Annotations { get; }
+}
