@@ -62,6 +62,11 @@ public sealed class FrameLine
     internal void ClearChannelsAndSources()
     {
         _worstCount = 0;
+        ClearSources();
+    }
+
+    internal void ClearSources()
+    {
         _alternativeCount = 0;
         Source = SourceMatch.None;
     }

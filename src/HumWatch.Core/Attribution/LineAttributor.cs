@@ -1,0 +1,261 @@
+using System.Globalization;
+using HumWatch.Core.Lines;
+
+namespace HumWatch.Core.Attribution;
+
+/// <summary>
+/// Names the likely source of each line from the site's catalogue: mains h·f₀ (h = 1 … MainsMaxHarmonic), each display
+/// rate r·h (h = 1 … DisplayMaxHarmonic) and the site's tones, every expected frequency folded below Nyquist as
+/// f_a = |f − m·fs|, m = round(f/fs). Built once per stream; allocation-free per frame. Not thread-safe.
+/// </summary>
+/// <remarks>
+/// <para>Mains: when a line lies within nominal ± tolerance, the strongest such line gives f̂₀ and harmonics are
+/// expected at h·f̂₀ within a resolution-limited window (½ bin + h·0.1 bin, since f̂₀ is good to about 0.1 bin and the
+/// error grows with h). Otherwise harmonics are expected at h·f₀ ± (h·tolerance + ½ bin). Displays: r·h ± (h·tolerance +
+/// ½ bin); site tones likewise with their own tolerance.</para>
+/// <para>Several explanations of one line are ranked, most likely first: (1) the source's fundamental is present in the
+/// frame (a fundamental explains itself; for mains, f̂₀ was found); (2) the source explains more of the frame's other
+/// lines (a grid that shows 50, 150 and 250 Hz is the better explanation for 100 Hz than a 100 Hz display seen nowhere
+/// else); (3) the lower harmonic; (4) the smaller frequency error. The first becomes <see cref="FrameLine.Source"/>, the
+/// rest <see cref="FrameLine.AlsoPossible"/>.</para>
+/// </remarks>
+internal sealed class LineAttributor
+{
+    private const int MaxCandidatesPerLine = 16;
+    private const double EstimatedFundamentalErrorBins = 0.1;
+
+    private readonly Source[] _sources;
+    private readonly double _sampleRateHz;
+    private readonly double _nyquistHz;
+    private readonly double _binWidthHz;
+    private readonly double _mainsNominalHz;
+    private readonly double _mainsToleranceHz;
+    private readonly int[] _explainedLines;
+    private readonly bool[] _fundamentalPresent;
+    private readonly int[] _lastCountedLine;
+    private Candidate[] _candidates = [];
+    private int[] _candidateCounts = [];
+
+    public LineAttributor(SourceCatalogOptions catalog, double sampleRateHz, double binWidthHz)
+    {
+        ArgumentNullException.ThrowIfNull(catalog);
+        if (!(sampleRateHz > 0) || !double.IsFinite(sampleRateHz))
+        {
+            throw new ArgumentOutOfRangeException(nameof(sampleRateHz), sampleRateHz, "Sample rate must be a positive number of Hz.");
+        }
+
+        if (!(binWidthHz > 0) || !double.IsFinite(binWidthHz))
+        {
+            throw new ArgumentOutOfRangeException(nameof(binWidthHz), binWidthHz, "Resolution must be a positive number of Hz.");
+        }
+
+        var errors = catalog.Validate();
+        if (errors.Count > 0)
+        {
+            throw new ArgumentException(string.Join(" ", errors), nameof(catalog));
+        }
+
+        _sampleRateHz = sampleRateHz;
+        _nyquistHz = sampleRateHz / 2;
+        _binWidthHz = binWidthHz;
+        _mainsNominalHz = catalog.MainsHz;
+        _mainsToleranceHz = catalog.MainsHz * catalog.MainsTolerancePercent / 100;
+        var sources = new List<Source>
+        {
+            new(SourceKind.Mains, "mains", catalog.MainsHz, _mainsToleranceHz, catalog.MainsMaxHarmonic),
+        };
+        foreach (var rate in catalog.DisplayRatesHz)
+        {
+            sources.Add(new Source(SourceKind.Display, "display " + rate.ToString("0.###", CultureInfo.InvariantCulture) + " Hz", rate, catalog.DisplayToleranceHz, catalog.DisplayMaxHarmonic));
+        }
+
+        foreach (var tone in catalog.SiteTones)
+        {
+            sources.Add(new Source(SourceKind.SiteTone, tone.Name, tone.FrequencyHz, tone.ToleranceHz, tone.MaxHarmonic));
+        }
+
+        _sources = [.. sources];
+        _explainedLines = new int[_sources.Length];
+        _fundamentalPresent = new bool[_sources.Length];
+        _lastCountedLine = new int[_sources.Length];
+    }
+
+    /// <summary>
+    /// Where a component at <paramref name="frequencyHz"/> appears when sampled at <paramref name="sampleRateHz"/>:
+    /// |f − m·fs| with m = round(f/fs), in [0, fs/2].
+    /// </summary>
+    public static double Fold(double frequencyHz, double sampleRateHz)
+    {
+        var m = Math.Round(frequencyHz / sampleRateHz, MidpointRounding.AwayFromZero);
+        return Math.Abs(frequencyHz - (m * sampleRateHz));
+    }
+
+    /// <summary>Sets Source and AlsoPossible on every line; returns the mains frequency estimated from its fundamental, or NaN.</summary>
+    public double Attribute(ReadOnlySpan<FrameLine> lines)
+    {
+        EnsureCapacity(lines.Length);
+        var mainsHz = EstimateMains(lines);
+
+        // Pass 1: every catalogued explanation of every line; count what each source explains.
+        Array.Clear(_explainedLines);
+        Array.Fill(_lastCountedLine, -1);
+        for (var l = 0; l < lines.Length; l++)
+        {
+            lines[l].ClearSources();
+            _candidateCounts[l] = CollectCandidates(lines[l].FrequencyHz, mainsHz, _candidates.AsSpan(l * MaxCandidatesPerLine, MaxCandidatesPerLine));
+            for (var c = 0; c < _candidateCounts[l]; c++)
+            {
+                // A source counts once per line even when several of its harmonics fold onto it.
+                var source = _candidates[(l * MaxCandidatesPerLine) + c].SourceIndex;
+                if (_lastCountedLine[source] != l)
+                {
+                    _lastCountedLine[source] = l;
+                    _explainedLines[source]++;
+                }
+            }
+        }
+
+        for (var s = 0; s < _sources.Length; s++)
+        {
+            _fundamentalPresent[s] = s == 0 ? !double.IsNaN(mainsHz) : IsFundamentalPresent(s, lines);
+        }
+
+        // Pass 2: rank and write.
+        for (var l = 0; l < lines.Length; l++)
+        {
+            var candidates = _candidates.AsSpan(l * MaxCandidatesPerLine, _candidateCounts[l]);
+            for (var c = 0; c < candidates.Length; c++)
+            {
+                var candidate = candidates[c];
+                candidates[c] = candidate with
+                {
+                    FundamentalPresent = candidate.Match.Harmonic == 1 || _fundamentalPresent[candidate.SourceIndex],
+                    Support = _explainedLines[candidate.SourceIndex] - 1,
+                };
+            }
+
+            candidates.Sort(default(ByLikelihood));
+            if (candidates.Length == 0)
+            {
+                lines[l].Source = SourceMatch.None;
+                continue;
+            }
+
+            lines[l].Source = candidates[0].Match;
+            for (var c = 1; c < candidates.Length; c++)
+            {
+                lines[l].AddAlternative(candidates[c].Match);
+            }
+        }
+
+        return mainsHz;
+    }
+
+    private double EstimateMains(ReadOnlySpan<FrameLine> lines)
+    {
+        var best = double.NaN;
+        var bestAmplitude = double.NegativeInfinity;
+        var window = _mainsToleranceHz + (0.5 * _binWidthHz);
+        for (var l = 0; l < lines.Length; l++)
+        {
+            var unfolded = Unfold(lines[l].FrequencyHz, _mainsNominalHz);
+            if (Math.Abs(unfolded - _mainsNominalHz) <= window && lines[l].AmplitudeUvRms > bestAmplitude)
+            {
+                best = unfolded;
+                bestAmplitude = lines[l].AmplitudeUvRms;
+            }
+        }
+
+        return best;
+    }
+
+    private int CollectCandidates(double observedHz, double mainsHz, Span<Candidate> target)
+    {
+        var n = 0;
+        for (var s = 0; s < _sources.Length && n < target.Length; s++)
+        {
+            var source = _sources[s];
+            var estimated = s == 0 && !double.IsNaN(mainsHz);
+            var fundamental = estimated ? mainsHz : source.NominalHz;
+            for (var h = 1; h <= source.MaxHarmonic && n < target.Length; h++)
+            {
+                var expected = h * fundamental;
+                var window = estimated
+                    ? (0.5 + (h * EstimatedFundamentalErrorBins)) * _binWidthHz
+                    : (h * source.ToleranceHz) + (0.5 * _binWidthHz);
+                var unfolded = Unfold(observedHz, expected);
+                if (Math.Abs(unfolded - expected) > window)
+                {
+                    continue;
+                }
+
+                var folded = Fold(expected, _sampleRateHz);
+                var match = new SourceMatch(source.Kind, source.Name, fundamental, h, expected > _nyquistHz, folded, observedHz - folded);
+                target[n++] = new Candidate(match, s, false, 0, Math.Abs(unfolded - expected));
+            }
+        }
+
+        return n;
+    }
+
+    private bool IsFundamentalPresent(int sourceIndex, ReadOnlySpan<FrameLine> lines)
+    {
+        var source = _sources[sourceIndex];
+        var window = source.ToleranceHz + (0.5 * _binWidthHz);
+        for (var l = 0; l < lines.Length; l++)
+        {
+            if (Math.Abs(Unfold(lines[l].FrequencyHz, source.NominalHz) - source.NominalHz) <= window)
+            {
+                return true;
+            }
+        }
+
+        return false;
+    }
+
+    // The frequency before sampling nearest to `near` that folds to `observedHz`: m·fs ± observed, m = round(near/fs).
+    private double Unfold(double observedHz, double near)
+    {
+        var m = Math.Round(near / _sampleRateHz, MidpointRounding.AwayFromZero) * _sampleRateHz;
+        var plus = m + observedHz;
+        var minus = m - observedHz;
+        return Math.Abs(plus - near) <= Math.Abs(minus - near) ? plus : minus;
+    }
+
+    private void EnsureCapacity(int lineCount)
+    {
+        // Grows only when a frame has more lines than any before (bounded by the line pool); steady state allocates nothing.
+        if (_candidateCounts.Length < lineCount)
+        {
+            _candidateCounts = new int[lineCount];
+            _candidates = new Candidate[lineCount * MaxCandidatesPerLine];
+        }
+    }
+
+    private sealed record Source(SourceKind Kind, string Name, double NominalHz, double ToleranceHz, int MaxHarmonic);
+
+    private readonly record struct Candidate(SourceMatch Match, int SourceIndex, bool FundamentalPresent, int Support, double AbsErrorHz);
+
+    private readonly struct ByLikelihood : IComparer<Candidate>
+    {
+        public int Compare(Candidate x, Candidate y)
+        {
+            if (x.FundamentalPresent != y.FundamentalPresent)
+            {
+                return x.FundamentalPresent ? -1 : 1;
+            }
+
+            if (x.Support != y.Support)
+            {
+                return y.Support.CompareTo(x.Support);
+            }
+
+            if (x.Match.Harmonic != y.Match.Harmonic)
+            {
+                return x.Match.Harmonic.CompareTo(y.Match.Harmonic);
+            }
+
+            return x.AbsErrorHz.CompareTo(y.AbsErrorHz);
+        }
+    }
+}
