@@ -1,0 +1,166 @@
+using HumWatch.Core.Attribution;
+using HumWatch.Core.Faults;
+
+namespace HumWatch.Core.Alerts;
+
+/// <summary>What an alert is about.</summary>
+public enum AlertCategory
+{
+    /// <summary>A narrowband line (identified or not).</summary>
+    Line = 0,
+
+    /// <summary>A channel fault: flat, clipped or non-finite samples.</summary>
+    ChannelFault,
+}
+
+/// <summary>Why an alert ended.</summary>
+public enum AlertClearReason
+{
+    /// <summary>The finding stayed below its level for <see cref="AlertOptions.ClearAfterFrames"/> frames.</summary>
+    Subsided = 0,
+
+    /// <summary>The stream (or file) ended while the alert was active.</summary>
+    StreamEnded,
+}
+
+/// <summary>Text forms of <see cref="AlertClearReason"/>.</summary>
+public static class AlertClearReasonText
+{
+    /// <summary>"subsided" or "stream ended".</summary>
+    public static string ToText(this AlertClearReason reason) => reason == AlertClearReason.StreamEnded ? "stream ended" : "subsided";
+}
+
+/// <summary>
+/// Something that happened to one alert. Immutable; created only when the alert changes.
+/// </summary>
+/// <param name="StreamId">Stream the alert belongs to.</param>
+/// <param name="Key">Stable key within the stream, e.g. "mains/h1", "display 75 Hz/h2", "unidentified/37.25Hz", "fault/Fp1/flat".</param>
+/// <param name="Category">Line or channel fault.</param>
+/// <param name="Source">Most likely source of a line; <see cref="SourceMatch.None"/> for unidentified lines and faults.</param>
+/// <param name="FaultKind">The fault for channel-fault alerts, else null.</param>
+/// <param name="StreamSeconds">Stream time of the frame end that caused the event, s.</param>
+/// <param name="Utc">UTC time of that frame end.</param>
+public abstract record AlertEvent(
+    string StreamId,
+    string Key,
+    AlertCategory Category,
+    SourceMatch Source,
+    ChannelFaultKind? FaultKind,
+    double StreamSeconds,
+    DateTimeOffset Utc)
+{
+    /// <summary>"raised", "severity" or "cleared".</summary>
+    public abstract string EventName { get; }
+
+    /// <summary>Severity the alert has after this event (for a clear: the severity it last had).</summary>
+    public abstract AlertSeverity Severity { get; }
+}
+
+/// <summary>An alert started.</summary>
+/// <param name="OnsetSeconds">Stream time where the first qualifying frame began, s.</param>
+/// <param name="OnsetUtc">UTC time of <paramref name="OnsetSeconds"/>.</param>
+/// <param name="FrequencyHz">Line frequency, Hz (NaN for faults).</param>
+/// <param name="AmplitudeUvRms">Line amplitude of the raising frame, µV RMS (NaN for faults).</param>
+/// <param name="ChannelShare">Share of analysed channels carrying the line, 0..1 (for faults: one channel's share).</param>
+/// <param name="WorstChannels">Labels of the channels with the largest amplitude, largest first.</param>
+/// <param name="Suggestion">One short line for the technician; never a diagnosis.</param>
+/// <param name="RaisedSeverity">Severity at raise.</param>
+public sealed record AlertRaised(
+    string StreamId,
+    string Key,
+    AlertCategory Category,
+    SourceMatch Source,
+    ChannelFaultKind? FaultKind,
+    double StreamSeconds,
+    DateTimeOffset Utc,
+    double OnsetSeconds,
+    DateTimeOffset OnsetUtc,
+    double FrequencyHz,
+    double AmplitudeUvRms,
+    double ChannelShare,
+    IReadOnlyList<string> WorstChannels,
+    string Suggestion,
+    AlertSeverity RaisedSeverity)
+    : AlertEvent(StreamId, Key, Category, Source, FaultKind, StreamSeconds, Utc)
+{
+    public override string EventName => "raised";
+
+    public override AlertSeverity Severity => RaisedSeverity;
+}
+
+/// <summary>An active alert's severity changed (after <see cref="AlertOptions.SeverityHoldFrames"/> frames at the new level).</summary>
+public sealed record AlertSeverityChanged(
+    string StreamId,
+    string Key,
+    AlertCategory Category,
+    SourceMatch Source,
+    ChannelFaultKind? FaultKind,
+    double StreamSeconds,
+    DateTimeOffset Utc,
+    double FrequencyHz,
+    double AmplitudeUvRms,
+    double ChannelShare,
+    IReadOnlyList<string> WorstChannels,
+    AlertSeverity PreviousSeverity,
+    AlertSeverity NewSeverity)
+    : AlertEvent(StreamId, Key, Category, Source, FaultKind, StreamSeconds, Utc)
+{
+    public override string EventName => "severity";
+
+    public override AlertSeverity Severity => NewSeverity;
+}
+
+/// <summary>An alert ended.</summary>
+/// <param name="FrequencyHz">Last seen line frequency, Hz (NaN for faults).</param>
+/// <param name="Reason">Why it ended.</param>
+/// <param name="DurationSeconds">From onset to the end of the last qualifying frame, s.</param>
+/// <param name="PeakAmplitudeUvRms">Largest amplitude while it was pending or active, µV RMS (NaN for faults).</param>
+/// <param name="PeakSeverity">Highest severity it reached.</param>
+/// <param name="LastSeverity">Severity it had when it ended.</param>
+public sealed record AlertCleared(
+    string StreamId,
+    string Key,
+    AlertCategory Category,
+    SourceMatch Source,
+    ChannelFaultKind? FaultKind,
+    double StreamSeconds,
+    DateTimeOffset Utc,
+    double FrequencyHz,
+    AlertClearReason Reason,
+    double DurationSeconds,
+    double PeakAmplitudeUvRms,
+    AlertSeverity PeakSeverity,
+    AlertSeverity LastSeverity)
+    : AlertEvent(StreamId, Key, Category, Source, FaultKind, StreamSeconds, Utc)
+{
+    public override string EventName => "cleared";
+
+    public override AlertSeverity Severity => LastSeverity;
+}
+
+/// <summary>An alert that is active now (a snapshot, replaced on each event).</summary>
+/// <param name="Key">Stable key within the stream.</param>
+/// <param name="Category">Line or channel fault.</param>
+/// <param name="Source">Most likely source of a line.</param>
+/// <param name="FaultKind">The fault for channel-fault alerts.</param>
+/// <param name="FrequencyHz">Frequency at the last event, Hz.</param>
+/// <param name="Severity">Current severity.</param>
+/// <param name="OnsetUtc">When it began.</param>
+/// <param name="WorstChannels">Worst channels at the last event.</param>
+/// <param name="Suggestion">Suggestion given at raise.</param>
+public sealed record ActiveAlert(
+    string Key,
+    AlertCategory Category,
+    SourceMatch Source,
+    ChannelFaultKind? FaultKind,
+    double FrequencyHz,
+    AlertSeverity Severity,
+    DateTimeOffset OnsetUtc,
+    IReadOnlyList<string> WorstChannels,
+    string Suggestion);
+
+/// <summary>Receives alert events from an <see cref="AlertBook"/>, on the caller's thread.</summary>
+public interface IAlertEventSink
+{
+    void OnAlertEvent(AlertEvent alertEvent);
+}

@@ -1,0 +1,137 @@
+using System.Text.Json;
+using System.Text.Json.Serialization;
+using HumWatch.Core.Alerts;
+
+namespace HumWatch.Host.Publishing;
+
+/// <summary>Body of "alert/&lt;stream&gt;" messages: a raise or a severity change (see docs/messages.md).</summary>
+internal sealed record AlertMessage(
+    int V,
+    string Stream,
+    string Key,
+    string Event,
+    string Kind,
+    string? Source,
+    int? Harmonic,
+    bool Aliased,
+    string? Fault,
+    double? FrequencyHz,
+    double? AmplitudeUvRms,
+    double? ChannelShare,
+    IReadOnlyList<string> WorstChannels,
+    string Severity,
+    string? PreviousSeverity,
+    string? Suggestion,
+    double StreamSeconds,
+    DateTimeOffset Utc,
+    DateTimeOffset? OnsetUtc);
+
+/// <summary>Body of "clear/&lt;stream&gt;" messages.</summary>
+internal sealed record ClearMessage(
+    int V,
+    string Stream,
+    string Key,
+    string Kind,
+    string? Source,
+    int? Harmonic,
+    bool Aliased,
+    string? Fault,
+    double? FrequencyHz,
+    string Reason,
+    double DurationSeconds,
+    double? PeakAmplitudeUvRms,
+    string PeakSeverity,
+    string LastSeverity,
+    double StreamSeconds,
+    DateTimeOffset Utc);
+
+/// <summary>Body of "status/&lt;stream&gt;" messages, sent every <see cref="PublishOptions.StatusIntervalSeconds"/>.</summary>
+/// <param name="V">Schema version, 1.</param>
+/// <param name="Stream">Stream id.</param>
+/// <param name="Utc">When the status was taken.</param>
+/// <param name="FramesAnalysed">Frames analysed since the stream started.</param>
+/// <param name="LinesPresent">Lines in the latest frame.</param>
+/// <param name="ActiveAlerts">Alerts active now.</param>
+/// <param name="ChunksAccepted">Chunks taken in since start.</param>
+/// <param name="ChunksDropped">Chunks dropped because a queue was full.</param>
+/// <param name="ChunksRejected">Chunks refused as malformed or out of order.</param>
+/// <param name="LagSeconds">How far the latest analysed sample is behind real time, s (null when the stream has no UTC times).</param>
+internal sealed record StatusMessage(
+    int V,
+    string Stream,
+    DateTimeOffset Utc,
+    long FramesAnalysed,
+    int LinesPresent,
+    int ActiveAlerts,
+    long ChunksAccepted,
+    long ChunksDropped,
+    long ChunksRejected,
+    double? LagSeconds);
+
+[JsonSourceGenerationOptions(PropertyNamingPolicy = JsonKnownNamingPolicy.CamelCase)]
+[JsonSerializable(typeof(AlertMessage))]
+[JsonSerializable(typeof(ClearMessage))]
+[JsonSerializable(typeof(StatusMessage))]
+internal sealed partial class MessageJsonContext : JsonSerializerContext;
+
+/// <summary>Builds message bodies: UTF-8 JSON, camelCase, "v": 1, non-finite numbers as null.</summary>
+internal static class Messages
+{
+    /// <summary>Schema version written into every body.</summary>
+    public const int Version = 1;
+
+    public const string AlertKind = "alert";
+    public const string ClearKind = "clear";
+    public const string StatusKind = "status";
+    public const string SummaryKind = "summary";
+
+    /// <summary>Topic frame: "&lt;kind&gt;/&lt;stream&gt;".</summary>
+    public static string Topic(string kind, string streamId) => $"{kind}/{streamId}";
+
+    /// <summary>Message kind ("alert" or "clear") and body for an alert event.</summary>
+    public static (string Kind, byte[] Body) For(AlertEvent alertEvent)
+    {
+        ArgumentNullException.ThrowIfNull(alertEvent);
+        var identified = alertEvent.Source.IsIdentified;
+        var kind = alertEvent.Category == AlertCategory.ChannelFault ? "fault" : AlertKeys.KindText(alertEvent.Source.Kind);
+        var source = identified ? alertEvent.Source.Name : null;
+        int? harmonic = identified ? alertEvent.Source.Harmonic : null;
+        var fault = alertEvent.FaultKind is { } f ? AlertKeys.FaultText(f) : null;
+        switch (alertEvent)
+        {
+            case AlertCleared c:
+                return (ClearKind, JsonSerializer.SerializeToUtf8Bytes(
+                    new ClearMessage(
+                        Version, c.StreamId, c.Key, kind, source, harmonic, c.Source.Aliased, fault, Finite(c.FrequencyHz),
+                        c.Reason.ToText(), c.DurationSeconds, Finite(c.PeakAmplitudeUvRms), c.PeakSeverity.ToText(),
+                        c.LastSeverity.ToText(), c.StreamSeconds, c.Utc),
+                    MessageJsonContext.Default.ClearMessage));
+            case AlertRaised r:
+                return (AlertKind, JsonSerializer.SerializeToUtf8Bytes(
+                    new AlertMessage(
+                        Version, r.StreamId, r.Key, r.EventName, kind, source, harmonic, r.Source.Aliased, fault,
+                        Finite(r.FrequencyHz), Finite(r.AmplitudeUvRms), Finite(r.ChannelShare), r.WorstChannels,
+                        r.Severity.ToText(), null, r.Suggestion, r.StreamSeconds, r.Utc, r.OnsetUtc),
+                    MessageJsonContext.Default.AlertMessage));
+            case AlertSeverityChanged s:
+                return (AlertKind, JsonSerializer.SerializeToUtf8Bytes(
+                    new AlertMessage(
+                        Version, s.StreamId, s.Key, s.EventName, kind, source, harmonic, s.Source.Aliased, fault,
+                        Finite(s.FrequencyHz), Finite(s.AmplitudeUvRms), Finite(s.ChannelShare), s.WorstChannels,
+                        s.Severity.ToText(), s.PreviousSeverity.ToText(), null, s.StreamSeconds, s.Utc, null),
+                    MessageJsonContext.Default.AlertMessage));
+            default:
+                throw new ArgumentOutOfRangeException(nameof(alertEvent), alertEvent.GetType().Name, "Unknown alert event type.");
+        }
+    }
+
+    /// <summary>Body of a status message.</summary>
+    public static byte[] For(StatusMessage status)
+    {
+        ArgumentNullException.ThrowIfNull(status);
+        var safe = status.LagSeconds is { } lag && !double.IsFinite(lag) ? status with { LagSeconds = null } : status;
+        return JsonSerializer.SerializeToUtf8Bytes(safe, MessageJsonContext.Default.StatusMessage);
+    }
+
+    private static double? Finite(double value) => double.IsFinite(value) ? value : null;
+}

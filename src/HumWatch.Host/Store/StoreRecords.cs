@@ -1,0 +1,69 @@
+using System.Text.Json.Serialization;
+
+namespace HumWatch.Host.Store;
+
+/// <summary>One alert event row as stored.</summary>
+internal sealed record StoredAlert(
+    long Id,
+    string Stream,
+    string Key,
+    string Kind,
+    string Event,
+    string Severity,
+    string? SourceName,
+    int? Harmonic,
+    bool Aliased,
+    double? FrequencyHz,
+    double? AmplitudeUvRms,
+    double? ChannelShare,
+    IReadOnlyList<string> WorstChannels,
+    string? Suggestion,
+    double StreamSeconds,
+    DateTimeOffset Utc,
+    DateTimeOffset? OnsetUtc,
+    double? DurationSeconds,
+    double? PeakUvRms,
+    string? PeakSeverity,
+    string? Reason);
+
+/// <summary>One stream/minute/source row of the ledger, merged over every part delivered for it.</summary>
+internal sealed record StoredMinute(
+    string Stream,
+    DateTimeOffset MinuteUtc,
+    string SourceKey,
+    double MonitoredSeconds,
+    double AffectedSeconds,
+    double? MaxUvRms,
+    double? MedianUvRms,
+    IReadOnlyList<string> WorstChannels,
+    double? MainsHz,
+    int Parts);
+
+/// <summary>Where a file stands in processing.</summary>
+internal enum FileJournalState
+{
+    /// <summary>Taken in; processing started and has not finished (or was interrupted).</summary>
+    Received,
+
+    /// <summary>Processed and moved to the archive.</summary>
+    Archived,
+
+    /// <summary>Refused (unreadable, wrong format …); see the reason.</summary>
+    Rejected,
+}
+
+/// <summary>One file in the processed-file journal; identity is the content (SHA-256 and size), not the path.</summary>
+internal sealed record FileJournalEntry(
+    long Id,
+    string Path,
+    long SizeBytes,
+    DateTimeOffset ModifiedUtc,
+    string Sha256,
+    FileJournalState State,
+    string? ReportPath,
+    string? Reason,
+    DateTimeOffset Utc,
+    int Attempts);
+
+[JsonSerializable(typeof(string[]))]
+internal sealed partial class StoreJsonContext : JsonSerializerContext;

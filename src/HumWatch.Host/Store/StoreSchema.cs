@@ -1,0 +1,86 @@
+namespace HumWatch.Host.Store;
+
+/// <summary>
+/// The store's schema as an ordered list of migrations. Migration i (0-based) brings the schema to version i + 1;
+/// never edit a released migration, append a new one.
+/// </summary>
+internal static class StoreSchema
+{
+    /// <summary>Times are UTC: *_utc_ms in Unix milliseconds, minute_utc in Unix seconds of the minute's start.</summary>
+    internal static readonly string[][] Migrations =
+    [
+        [
+            """
+            CREATE TABLE alerts (
+                id INTEGER PRIMARY KEY AUTOINCREMENT,
+                stream TEXT NOT NULL,
+                key TEXT NOT NULL,
+                kind TEXT NOT NULL,
+                event TEXT NOT NULL CHECK (event IN ('raised', 'severity', 'cleared')),
+                severity TEXT NOT NULL,
+                source_name TEXT,
+                harmonic INTEGER,
+                aliased INTEGER NOT NULL DEFAULT 0,
+                frequency_hz REAL,
+                amplitude_uv_rms REAL,
+                channel_share REAL,
+                worst_channels TEXT NOT NULL,
+                suggestion TEXT,
+                stream_seconds REAL NOT NULL,
+                utc_ms INTEGER NOT NULL,
+                onset_utc_ms INTEGER,
+                duration_s REAL,
+                peak_uv_rms REAL,
+                peak_severity TEXT,
+                reason TEXT
+            )
+            """,
+            "CREATE INDEX ix_alerts_utc ON alerts (utc_ms)",
+            "CREATE INDEX ix_alerts_stream_utc ON alerts (stream, utc_ms)",
+            """
+            CREATE TABLE minute_ledger (
+                stream TEXT NOT NULL,
+                minute_utc INTEGER NOT NULL,
+                source_key TEXT NOT NULL,
+                monitored_s REAL NOT NULL,
+                affected_s REAL NOT NULL,
+                max_uv REAL,
+                median_uv REAL,
+                worst_channels TEXT NOT NULL,
+                mains_hz REAL,
+                parts INTEGER NOT NULL,
+                PRIMARY KEY (stream, minute_utc, source_key)
+            ) WITHOUT ROWID
+            """,
+            "CREATE INDEX ix_minute_ledger_minute ON minute_ledger (minute_utc)",
+            """
+            CREATE TABLE minute_ledger_parts (
+                stream TEXT NOT NULL,
+                session TEXT NOT NULL,
+                seq INTEGER NOT NULL,
+                minute_utc INTEGER NOT NULL,
+                source_key TEXT NOT NULL,
+                PRIMARY KEY (stream, session, seq)
+            ) WITHOUT ROWID
+            """,
+            """
+            CREATE TABLE file_journal (
+                id INTEGER PRIMARY KEY AUTOINCREMENT,
+                path TEXT NOT NULL,
+                size_bytes INTEGER NOT NULL,
+                mtime_utc_ms INTEGER NOT NULL,
+                sha256 TEXT NOT NULL,
+                state TEXT NOT NULL CHECK (state IN ('received', 'archived', 'rejected')),
+                report_path TEXT,
+                reason TEXT,
+                utc_ms INTEGER NOT NULL,
+                attempts INTEGER NOT NULL,
+                UNIQUE (sha256, size_bytes)
+            )
+            """,
+        ],
+    ];
+
+    /// <summary>Newest schema version this build knows.</summary>
+    internal static int LatestVersion => Migrations.Length;
+}
