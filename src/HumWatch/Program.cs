@@ -10,6 +10,7 @@ internal static class Program
         var root = new RootCommand("HumWatch — watches EEG recordings for mains hum, display refresh lines and other narrowband contamination.")
         {
             CheckCommand.Create(),
+            SimulateCommand.Create(),
         };
 
         var parse = root.Parse(args);

@@ -65,7 +65,12 @@ internal static class CheckReportText
             }
         }
 
-        var hints = r.Lines.Where(l => l.Suggestion is not null).Select(l => string.Create(c, $"{l.FrequencyHz:0.00} Hz: {l.Suggestion}")).Distinct().ToList();
+        // One hint per distinct suggestion, with every line it applies to.
+        var hints = r.Lines
+            .Where(l => l.Suggestion is not null)
+            .GroupBy(l => l.Suggestion!, StringComparer.Ordinal)
+            .Select(g => string.Create(c, $"{string.Join(", ", g.Select(l => l.FrequencyHz.ToString("0.00", c)))} Hz: {g.Key}"))
+            .ToList();
         if (hints.Count > 0)
         {
             o.WriteLine("  what to look at");
