@@ -142,8 +142,12 @@ internal sealed class IngestSocketLoop : IDisposable
 
         if (_thread is null)
         {
-            // Never started: this thread still owns the socket.
-            _socket?.Dispose();
+            // Never started (stopped before the receive thread ran): this thread still owns the socket.
+            if (_socket is not null)
+            {
+                _socket.Dispose();
+                _logger.SocketClosed(Origin);
+            }
         }
         else
         {
