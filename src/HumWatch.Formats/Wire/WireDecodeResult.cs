@@ -1,0 +1,37 @@
+using System.Diagnostics.CodeAnalysis;
+using HumWatch.Core.Signals;
+
+namespace HumWatch.Formats.Wire;
+
+/// <summary>Outcome of <see cref="ChunkWireCodec.Decode"/>: a stream id with its chunk, or a rejection.</summary>
+public readonly struct WireDecodeResult
+{
+    private WireDecodeResult(string? streamId, SampleChunk? chunk, WireRejection? rejection, bool startsNewLayout)
+    {
+        StartsNewLayout = startsNewLayout;
+        StreamId = streamId;
+        Chunk = chunk;
+        Rejection = rejection;
+    }
+
+    /// <summary>True when the message decoded into <see cref="Chunk"/>.</summary>
+    [MemberNotNullWhen(true, nameof(Chunk), nameof(StreamId))]
+    [MemberNotNullWhen(false, nameof(Rejection))]
+    public bool IsSuccess => Chunk is not null;
+
+    /// <summary>Stream id of a decoded chunk, or of a rejected message whose header named a valid one.</summary>
+    public string? StreamId { get; }
+
+    /// <summary>The decoded chunk in µV; it owns its sample array.</summary>
+    public SampleChunk? Chunk { get; }
+
+    /// <summary>Why the message was refused, when it was.</summary>
+    public WireRejection? Rejection { get; }
+
+    /// <summary>True when the chunk's layout is a new instance: the stream's first chunk or a change of rate or channels (always true without a cache).</summary>
+    public bool StartsNewLayout { get; }
+
+    internal static WireDecodeResult Accept(string streamId, SampleChunk chunk, bool startsNewLayout) => new(streamId, chunk, null, startsNewLayout);
+
+    internal static WireDecodeResult Reject(WireRejection rejection) => new(rejection.StreamId, null, rejection, false);
+}

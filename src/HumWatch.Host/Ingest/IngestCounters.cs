@@ -1,0 +1,143 @@
+using System.Collections.Concurrent;
+using HumWatch.Formats.Wire;
+
+namespace HumWatch.Host.Ingest;
+
+/// <summary>Thread-safe ingest counts per stream (accepted, rejected by reason, dropped, last index), plus rejections that named no valid stream, per endpoint.</summary>
+public sealed class IngestCounters
+{
+    /// <summary>Most streams counted individually (10 000); rejections for further streams count under their endpoint.</summary>
+    public const int MaxTrackedStreams = 10_000;
+
+    private static readonly int ReasonCount = Enum.GetValues<WireRejectReason>().Length;
+
+    private readonly ConcurrentDictionary<string, Cell> _streams = new(StringComparer.Ordinal);
+    private readonly ConcurrentDictionary<string, Cell> _origins = new(StringComparer.Ordinal);
+
+    /// <summary>Counts an accepted chunk and remembers its end index (one past its last sample).</summary>
+    public void RecordAccepted(string streamId, long endSampleIndex)
+    {
+        var cell = StreamCell(streamId);
+        if (cell is null)
+        {
+            return;
+        }
+
+        Interlocked.Increment(ref cell.Accepted);
+        Interlocked.Exchange(ref cell.LastEndSampleIndex, endSampleIndex);
+    }
+
+    /// <summary>Counts a refused message under its stream, or under its endpoint when no valid stream was named.</summary>
+    public void RecordRejected(WireRejectReason reason, string? streamId, string origin)
+    {
+        ArgumentNullException.ThrowIfNull(origin);
+        var cell = (streamId is null ? null : StreamCell(streamId)) ?? _origins.GetOrAdd(origin, static _ => new Cell());
+        Interlocked.Increment(ref cell.Rejected[(int)reason]);
+    }
+
+    /// <summary>Counts a chunk dropped because the queue was full.</summary>
+    public void RecordDropped(string streamId)
+    {
+        var cell = StreamCell(streamId);
+        if (cell is not null)
+        {
+            Interlocked.Increment(ref cell.Dropped);
+        }
+    }
+
+    /// <summary>Counts of one stream, or null when it was never seen.</summary>
+    public IngestStreamCounts? Get(string streamId) =>
+        _streams.TryGetValue(streamId, out var cell) ? cell.ToStreamCounts(streamId) : null;
+
+    /// <summary>Counts of every stream seen, ordered by stream id.</summary>
+    public IReadOnlyList<IngestStreamCounts> Snapshot()
+    {
+        var result = new List<IngestStreamCounts>(_streams.Count);
+        foreach (var pair in _streams)
+        {
+            result.Add(pair.Value.ToStreamCounts(pair.Key));
+        }
+
+        result.Sort(static (a, b) => string.CompareOrdinal(a.StreamId, b.StreamId));
+        return result;
+    }
+
+    /// <summary>Rejections that named no valid stream, per endpoint, ordered by endpoint.</summary>
+    public IReadOnlyList<IngestOriginRejections> UnattributedRejections()
+    {
+        var result = new List<IngestOriginRejections>(_origins.Count);
+        foreach (var pair in _origins)
+        {
+            result.Add(new IngestOriginRejections(pair.Key, pair.Value.RejectedByReason()));
+        }
+
+        result.Sort(static (a, b) => string.CompareOrdinal(a.Origin, b.Origin));
+        return result;
+    }
+
+    private Cell? StreamCell(string streamId)
+    {
+        ArgumentNullException.ThrowIfNull(streamId);
+        if (_streams.TryGetValue(streamId, out var cell))
+        {
+            return cell;
+        }
+
+        // The cap keeps a sender that invents stream ids from growing memory without bound.
+        return _streams.Count < MaxTrackedStreams ? _streams.GetOrAdd(streamId, static _ => new Cell()) : null;
+    }
+
+    private sealed class Cell
+    {
+        public long Accepted;
+        public long Dropped;
+        public long LastEndSampleIndex = -1;
+        public readonly long[] Rejected = new long[ReasonCount];
+
+        public Dictionary<WireRejectReason, long> RejectedByReason()
+        {
+            var map = new Dictionary<WireRejectReason, long>();
+            for (var i = 0; i < Rejected.Length; i++)
+            {
+                var count = Interlocked.Read(ref Rejected[i]);
+                if (count > 0)
+                {
+                    map[(WireRejectReason)i] = count;
+                }
+            }
+
+            return map;
+        }
+
+        public IngestStreamCounts ToStreamCounts(string streamId) => new(
+            streamId,
+            Interlocked.Read(ref Accepted),
+            Interlocked.Read(ref Dropped),
+            Interlocked.Read(ref LastEndSampleIndex),
+            RejectedByReason());
+    }
+}
+
+/// <summary>Counts of one stream at the moment of the snapshot.</summary>
+/// <param name="StreamId">Stream id.</param>
+/// <param name="Accepted">Chunks decoded and queued.</param>
+/// <param name="Dropped">Chunks decoded but dropped because the queue was full.</param>
+/// <param name="LastEndSampleIndex">One past the last sample of the latest accepted chunk; -1 before the first.</param>
+/// <param name="Rejected">Refused messages by reason (reasons with zero count are absent).</param>
+public sealed record IngestStreamCounts(string StreamId, long Accepted, long Dropped, long LastEndSampleIndex, IReadOnlyDictionary<WireRejectReason, long> Rejected)
+{
+    /// <summary>All refused messages of the stream.</summary>
+    public long RejectedTotal => Rejected.Values.Sum();
+
+    /// <summary>Refused messages for one reason.</summary>
+    public long RejectedFor(WireRejectReason reason) => Rejected.TryGetValue(reason, out var count) ? count : 0;
+}
+
+/// <summary>Refused messages that named no valid stream, for one endpoint.</summary>
+/// <param name="Origin">Endpoint address.</param>
+/// <param name="Rejected">Counts by reason.</param>
+public sealed record IngestOriginRejections(string Origin, IReadOnlyDictionary<WireRejectReason, long> Rejected)
+{
+    /// <summary>Refused messages for one reason.</summary>
+    public long RejectedFor(WireRejectReason reason) => Rejected.TryGetValue(reason, out var count) ? count : 0;
+}

@@ -1,0 +1,82 @@
+namespace HumWatch.Host.Ingest;
+
+/// <summary>Socket ingest settings, bound from the "Ingest" configuration section.</summary>
+public sealed class IngestOptions
+{
+    /// <summary>Configuration section name ("Ingest").</summary>
+    public const string SectionName = "Ingest";
+
+    /// <summary>Default endpoint when none is configured: one PULL socket bound to tcp://127.0.0.1:5710.</summary>
+    public const string DefaultAddress = "tcp://127.0.0.1:5710";
+
+    /// <summary>Default message size limit, 16 MiB.</summary>
+    public const long DefaultMaxMessageBytes = 16L * 1024 * 1024;
+
+    /// <summary>Default queue capacity, 1024 chunks.</summary>
+    public const int DefaultQueueCapacity = 1024;
+
+    /// <summary>Sockets to receive chunks on. When empty, one PULL socket bound to <see cref="DefaultAddress"/>.</summary>
+    public IList<IngestEndpointOptions> Endpoints { get; } = [];
+
+    /// <summary>Largest accepted message (all frames), 1 KiB to 1 GiB. The default is 16 MiB.</summary>
+    public long MaxMessageBytes { get; set; } = DefaultMaxMessageBytes;
+
+    /// <summary>Chunks held between the sockets and the analysis, 1 to 1 000 000; when full, chunks are dropped and counted. The default is 1024.</summary>
+    public int QueueCapacity { get; set; } = DefaultQueueCapacity;
+
+    /// <summary>Shortest interval between repeated warnings about the same stream's drops or rejections. The default is 10 s.</summary>
+    public TimeSpan WarningInterval { get; set; } = TimeSpan.FromSeconds(10);
+
+    /// <summary>The configured endpoints, or the single default one.</summary>
+    internal IReadOnlyList<IngestEndpointOptions> EffectiveEndpoints() =>
+        Endpoints.Count > 0 ? [.. Endpoints] : [new IngestEndpointOptions()];
+}
+
+/// <summary>One ingest socket.</summary>
+public sealed class IngestEndpointOptions
+{
+    /// <summary>ZeroMQ address (tcp://host:port, ipc://path, inproc://name). The default is tcp://127.0.0.1:5710; with bind, port * picks a free port.</summary>
+    public string Address { get; set; } = IngestOptions.DefaultAddress;
+
+    /// <summary>Bind (senders connect to us) or connect (we connect to a sender that binds). The default is bind.</summary>
+    public IngestSocketMode Mode { get; set; } = IngestSocketMode.Bind;
+
+    /// <summary>PULL (work distribution, every message once) or SUB (from a publisher). The default is PULL.</summary>
+    public IngestSocketType SocketType { get; set; } = IngestSocketType.Pull;
+
+    /// <summary>SUB only: subscribe to messages whose header frame starts with this text. The default (empty) receives everything.</summary>
+    public string SubscribePrefix { get; set; } = string.Empty;
+
+    /// <summary>Must be true to bind to an address other than loopback; such a bind is logged as a warning. The default is false.</summary>
+    public bool AllowNonLoopback { get; set; }
+
+    /// <summary>Optional CurveZMQ encryption for off-host senders; null (the default) means plain TCP.</summary>
+    public IngestCurveOptions? Curve { get; set; }
+}
+
+/// <summary>CurveZMQ settings for one ingest socket, which acts as the CURVE server.</summary>
+public sealed class IngestCurveOptions
+{
+    /// <summary>Path of the server key pair file (JSON with Z85 "publicKey" and "secretKey"); senders need its public key.</summary>
+    public string ServerKeyFile { get; set; } = string.Empty;
+}
+
+/// <summary>Whether an ingest socket binds or connects.</summary>
+public enum IngestSocketMode
+{
+    /// <summary>Listen on the address; senders connect.</summary>
+    Bind,
+
+    /// <summary>Connect to a sender that listens on the address.</summary>
+    Connect,
+}
+
+/// <summary>ZeroMQ socket pattern of an ingest socket.</summary>
+public enum IngestSocketType
+{
+    /// <summary>PULL, paired with senders' PUSH sockets.</summary>
+    Pull,
+
+    /// <summary>SUB, paired with a sender's PUB socket.</summary>
+    Sub,
+}

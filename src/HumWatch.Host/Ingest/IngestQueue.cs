@@ -1,0 +1,75 @@
+using System.Diagnostics.CodeAnalysis;
+using System.Threading.Channels;
+using Microsoft.Extensions.Logging;
+
+namespace HumWatch.Host.Ingest;
+
+/// <summary>
+/// Bounded hand-off from the ingest sockets to the analysis. A full queue never blocks a socket: the chunk is
+/// dropped, counted per stream in <see cref="IngestCounters"/>, and a rate-limited warning is logged.
+/// </summary>
+[SuppressMessage("Naming", "CA1711:Identifiers should not have incorrect suffix", Justification = "It is a queue; the name is part of the agreed host contract.")]
+public sealed class IngestQueue
+{
+    private readonly Channel<StreamChunk> _channel;
+    private readonly IngestCounters _counters;
+    private readonly ILogger _logger;
+    private readonly WarningThrottle _throttle;
+
+    /// <param name="capacity">Chunks held, 1 to 1 000 000.</param>
+    /// <param name="counters">Where drops are counted.</param>
+    /// <param name="logger">Where drops are reported.</param>
+    /// <param name="timeProvider">Clock for the warning rate limit.</param>
+    /// <param name="warningInterval">Shortest interval between drop warnings for one stream.</param>
+    public IngestQueue(int capacity, IngestCounters counters, ILogger<IngestQueue> logger, TimeProvider timeProvider, TimeSpan warningInterval)
+    {
+        if (capacity is < 1 or > 1_000_000)
+        {
+            throw new ArgumentOutOfRangeException(nameof(capacity), capacity, "Must be between 1 and 1 000 000 chunks.");
+        }
+
+        ArgumentNullException.ThrowIfNull(counters);
+        ArgumentNullException.ThrowIfNull(logger);
+        Capacity = capacity;
+        _counters = counters;
+        _logger = logger;
+        _throttle = new WarningThrottle(timeProvider, warningInterval);
+        _channel = Channel.CreateBounded<StreamChunk>(new BoundedChannelOptions(capacity)
+        {
+            FullMode = BoundedChannelFullMode.Wait,
+            SingleReader = false,
+            SingleWriter = false,
+        });
+    }
+
+    /// <summary>Chunks the queue holds at most.</summary>
+    public int Capacity { get; }
+
+    /// <summary>Chunks waiting now.</summary>
+    public int Count => _channel.Reader.Count;
+
+    /// <summary>The consumer side.</summary>
+    public ChannelReader<StreamChunk> Reader => _channel.Reader;
+
+    /// <summary>Queues a chunk without waiting; when the queue is full the chunk is dropped, counted and reported.</summary>
+    /// <returns>True when queued.</returns>
+    public bool TryEnqueue(StreamChunk chunk)
+    {
+        ArgumentNullException.ThrowIfNull(chunk);
+        if (_channel.Writer.TryWrite(chunk))
+        {
+            return true;
+        }
+
+        _counters.RecordDropped(chunk.StreamId);
+        if (_throttle.ShouldWarn(chunk.StreamId, out var suppressed))
+        {
+            _logger.ChunkDropped(chunk.StreamId, chunk.Origin, Capacity, suppressed);
+        }
+
+        return false;
+    }
+
+    /// <summary>Marks the end of input; readers finish after the queued chunks.</summary>
+    public void Complete() => _channel.Writer.TryComplete();
+}

@@ -1,0 +1,73 @@
+using HumWatch.Formats.Wire;
+using HumWatch.Host.Ingest;
+using HumWatch.Host.Tests.Ingest.Support;
+using Microsoft.Extensions.Logging;
+using Xunit;
+
+namespace HumWatch.Host.Tests.Ingest;
+
+public sealed class IngestMessageHandlingTests
+{
+    private const string Origin = "tcp://127.0.0.1:5999";
+
+    [Fact]
+    public async Task Full_queue_drops_and_counts_per_stream_with_one_warning_per_interval()
+    {
+        var options = IngestHarness.LoopbackOptions();
+        options.QueueCapacity = 2;
+        options.WarningInterval = TimeSpan.FromSeconds(10);
+        await using var harness = new IngestHarness(options);
+        var layout = Some.Layout(100, "A");
+
+        for (var k = 0; k < 5; k++)
+        {
+            Handle(harness, ChunkWireCodec.Encode("busy", Some.Chunk(layout, k * 10, 10, 0)));
+        }
+
+        harness.Time.Advance(TimeSpan.FromSeconds(11));
+        Handle(harness, ChunkWireCodec.Encode("busy", Some.Chunk(layout, 50, 10, 0)));
+
+        var counts = harness.Counters.Get("busy")!;
+        Assert.Equal(2, counts.Accepted);
+        Assert.Equal(4, counts.Dropped);
+        Assert.Equal(20, counts.LastEndSampleIndex);
+        var warnings = harness.QueueLogger.Entries.Where(e => e.Level == LogLevel.Warning).ToList();
+        Assert.Equal(2, warnings.Count);
+        Assert.Contains("busy", warnings[0].Message, StringComparison.Ordinal);
+        Assert.Contains("2 more drops", warnings[1].Message, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public async Task New_session_is_logged_only_when_rate_or_channels_change()
+    {
+        await using var harness = new IngestHarness(IngestHarness.LoopbackOptions());
+
+        Handle(harness, ChunkWireCodec.Encode("s", Some.Chunk(Some.Layout(250, "A", "B"), 0, 5, 0)));
+        Handle(harness, ChunkWireCodec.Encode("s", Some.Chunk(Some.Layout(250, "A", "B"), 5, 5, 0)));
+        Handle(harness, ChunkWireCodec.Encode("s", Some.Chunk(Some.Layout(256, "A", "B"), 10, 5, 0)));
+        Handle(harness, ChunkWireCodec.Encode("s", Some.Chunk(Some.Layout(256, "A", "B", "C"), 15, 5, 0)));
+
+        Assert.Equal(3, harness.ServiceLogger.Entries.Count(e => e.EventId == 1106));
+        var chunks = await harness.ReadAsync(4);
+        Assert.Same(chunks[0].Chunk.Layout, chunks[1].Chunk.Layout);
+        Assert.NotSame(chunks[1].Chunk.Layout, chunks[2].Chunk.Layout);
+    }
+
+    [Fact]
+    public async Task Repeated_rejections_are_counted_every_time_but_logged_once_per_interval()
+    {
+        await using var harness = new IngestHarness(IngestHarness.LoopbackOptions());
+        var header = Some.Utf8("""{"v":1,"stream":"noisy","fs":-1,"channels":["A"],"unit":"uV","index":0}""");
+
+        for (var i = 0; i < 50; i++)
+        {
+            harness.Service.HandleMessage(header, new byte[4], 2, header.Length + 4, Origin);
+        }
+
+        Assert.Equal(50, harness.Counters.Get("noisy")!.RejectedFor(WireRejectReason.BadSampleRate));
+        Assert.Single(harness.ServiceLogger.Entries, e => e.EventId == 1102);
+    }
+
+    private static void Handle(IngestHarness harness, WireMessage message) =>
+        harness.Service.HandleMessage(message.Header, message.Samples, 2, message.Header.Length + message.Samples.Length, Origin);
+}

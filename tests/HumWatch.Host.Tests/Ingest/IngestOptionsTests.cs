@@ -1,0 +1,92 @@
+using HumWatch.Host.Ingest;
+using Microsoft.Extensions.Configuration;
+using Microsoft.Extensions.DependencyInjection;
+using Microsoft.Extensions.Options;
+using Xunit;
+
+namespace HumWatch.Host.Tests.Ingest;
+
+public sealed class IngestOptionsTests
+{
+    [Fact]
+    public void Defaults_are_one_pull_socket_bound_to_loopback_port_5710_with_16_MiB_limit()
+    {
+        var options = new IngestOptions();
+
+        var endpoint = Assert.Single(options.EffectiveEndpoints());
+        Assert.Equal("tcp://127.0.0.1:5710", endpoint.Address);
+        Assert.Equal(IngestSocketMode.Bind, endpoint.Mode);
+        Assert.Equal(IngestSocketType.Pull, endpoint.SocketType);
+        Assert.Equal(16L * 1024 * 1024, options.MaxMessageBytes);
+        Assert.True(new IngestOptionsValidator().Validate(null, options).Succeeded);
+    }
+
+    [Theory]
+    [InlineData("Address", "udp://127.0.0.1:5710", "Ingest:Endpoints:0:Address must be a ZeroMQ address")]
+    [InlineData("Address", "tcp://127.0.0.1", "Ingest:Endpoints:0:Address must look like tcp://HOST:PORT")]
+    [InlineData("Address", "tcp://127.0.0.1:70000", "Ingest:Endpoints:0:Address port must be 1–65535")]
+    [InlineData("Address", "tcp://0.0.0.0:5710", "Ingest:Endpoints:0:AllowNonLoopback must be true")]
+    [InlineData("Address", "tcp://*:5710", "Ingest:Endpoints:0:AllowNonLoopback must be true")]
+    [InlineData("Mode", "Connect", "Ingest:Endpoints:0:Address may use port * only with Mode Bind")]
+    [InlineData("SubscribePrefix", "{\"v\":1", "Ingest:Endpoints:0:SubscribePrefix applies only to SocketType Sub")]
+    [InlineData("Curve:ServerKeyFile", "", "Ingest:Endpoints:0:Curve:ServerKeyFile must name")]
+    [InlineData("MaxMessageBytes", "100", "Ingest:MaxMessageBytes must be between")]
+    [InlineData("QueueCapacity", "0", "Ingest:QueueCapacity must be between")]
+    public void Bad_setting_fails_at_start_with_a_message_naming_the_key(string key, string value, string expected)
+    {
+        var settings = new Dictionary<string, string?> { ["Ingest:Endpoints:0:Address"] = "tcp://127.0.0.1:*" };
+        settings[key.StartsWith("Max", StringComparison.Ordinal) || key.StartsWith("Queue", StringComparison.Ordinal) ? $"Ingest:{key}" : $"Ingest:Endpoints:0:{key}"] = value;
+        using var provider = Build(settings);
+
+        var ex = Assert.Throws<OptionsValidationException>(() => provider.GetRequiredService<IOptions<IngestOptions>>().Value);
+
+        Assert.Contains(expected, ex.Message, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void Configuration_binds_several_endpoints_and_explicit_non_loopback_bind_is_valid()
+    {
+        using var provider = Build(new Dictionary<string, string?>
+        {
+            ["Ingest:Endpoints:0:Address"] = "tcp://0.0.0.0:5710",
+            ["Ingest:Endpoints:0:AllowNonLoopback"] = "true",
+            ["Ingest:Endpoints:0:Curve:ServerKeyFile"] = "/etc/humwatch/ingest.key",
+            ["Ingest:Endpoints:1:Address"] = "tcp://10.1.2.3:6000",
+            ["Ingest:Endpoints:1:Mode"] = "Connect",
+            ["Ingest:Endpoints:1:SocketType"] = "Sub",
+            ["Ingest:Endpoints:1:SubscribePrefix"] = "{\"v\":1,\"stream\":\"ward-",
+            ["Ingest:QueueCapacity"] = "64",
+        });
+
+        var options = provider.GetRequiredService<IOptions<IngestOptions>>().Value;
+
+        Assert.Equal(2, options.Endpoints.Count);
+        Assert.True(options.Endpoints[0].AllowNonLoopback);
+        Assert.Equal("/etc/humwatch/ingest.key", options.Endpoints[0].Curve!.ServerKeyFile);
+        Assert.Equal(IngestSocketType.Sub, options.Endpoints[1].SocketType);
+        Assert.Equal(IngestSocketMode.Connect, options.Endpoints[1].Mode);
+        Assert.Equal(64, provider.GetRequiredService<IngestQueue>().Capacity);
+    }
+
+    [Theory]
+    [InlineData("tcp://127.0.0.1:5710", true)]
+    [InlineData("tcp://127.3.2.1:5710", true)]
+    [InlineData("tcp://localhost:5710", true)]
+    [InlineData("tcp://[::1]:5710", true)]
+    [InlineData("ipc:///tmp/humwatch.sock", true)]
+    [InlineData("tcp://0.0.0.0:5710", false)]
+    [InlineData("tcp://*:5710", false)]
+    [InlineData("tcp://192.168.1.20:5710", false)]
+    [InlineData("tcp://eth0:5710", false)]
+    public void Loopback_addresses_are_recognised(string address, bool localOnly) => // RFC 1122 §3.2.1.3: 127/8 is loopback; RFC 4291 §2.5.3: ::1
+        Assert.Equal(localOnly, IngestOptionsValidator.IsLocalOnly(address));
+
+    private static ServiceProvider Build(Dictionary<string, string?> settings)
+    {
+        var configuration = new ConfigurationBuilder().AddInMemoryCollection(settings).Build();
+        var services = new ServiceCollection();
+        services.AddLogging();
+        services.AddHumWatchIngest(configuration);
+        return services.BuildServiceProvider();
+    }
+}

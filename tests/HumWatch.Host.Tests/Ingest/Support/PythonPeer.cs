@@ -1,0 +1,77 @@
+using System.Diagnostics;
+
+namespace HumWatch.Host.Tests.Ingest.Support;
+
+/// <summary>Runs the committed pyzmq scripts in tests/fixtures/zmq with Debian's /usr/bin/python3.</summary>
+internal static class PythonPeer
+{
+    public const string Python = "/usr/bin/python3";
+
+    private static readonly Lazy<string?> MissingReason = new(FindMissing);
+
+    /// <summary>Why the peer cannot run here, or null when /usr/bin/python3 imports zmq.</summary>
+    public static string? WhyUnavailable => MissingReason.Value;
+
+    public static string Script(string name) => Path.Combine(AppContext.BaseDirectory, "fixtures", "zmq", name);
+
+    public static Process Start(string script, params string[] arguments)
+    {
+        var info = new ProcessStartInfo(Python)
+        {
+            RedirectStandardOutput = true,
+            RedirectStandardError = true,
+            UseShellExecute = false,
+        };
+        info.ArgumentList.Add(Script(script));
+        foreach (var argument in arguments)
+        {
+            info.ArgumentList.Add(argument);
+        }
+
+        return Process.Start(info) ?? throw new InvalidOperationException($"Could not start {Python} {script}.");
+    }
+
+    /// <summary>Runs a script to completion (bounded) and returns exit code, stdout and stderr.</summary>
+    public static async Task<(int ExitCode, string Output, string Error)> RunAsync(string script, params string[] arguments)
+    {
+        using var process = Start(script, arguments);
+        var output = process.StandardOutput.ReadToEndAsync();
+        var error = process.StandardError.ReadToEndAsync();
+        using var cts = new CancellationTokenSource(TimeSpan.FromSeconds(60));
+        try
+        {
+            await process.WaitForExitAsync(cts.Token);
+        }
+        catch (OperationCanceledException)
+        {
+            process.Kill(entireProcessTree: true);
+            throw new TimeoutException($"{script} did not finish within 60 s: {await error}");
+        }
+
+        return (process.ExitCode, await output, await error);
+    }
+
+    private static string? FindMissing()
+    {
+        if (!File.Exists(Python))
+        {
+            return $"{Python} is not installed (CI installs python3-zmq with apt).";
+        }
+
+        try
+        {
+            using var process = Process.Start(new ProcessStartInfo(Python, ["-c", "import zmq"])
+            {
+                RedirectStandardError = true,
+                UseShellExecute = false,
+            })!;
+            var error = process.StandardError.ReadToEnd();
+            process.WaitForExit();
+            return process.ExitCode == 0 ? null : $"{Python} cannot import zmq (install python3-zmq): {error.Trim()}";
+        }
+        catch (System.ComponentModel.Win32Exception ex)
+        {
+            return $"{Python} cannot be started: {ex.Message}";
+        }
+    }
+}
