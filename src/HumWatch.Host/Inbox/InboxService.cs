@@ -1,0 +1,361 @@
+using System.Security.Cryptography;
+using System.Text;
+using System.Text.Json;
+using HumWatch.Core.Alerts;
+using HumWatch.Core.Analysis;
+using HumWatch.Core.Reporting;
+using HumWatch.Host.Checking;
+using HumWatch.Host.Configuration;
+using HumWatch.Host.Monitoring;
+using HumWatch.Host.Store;
+using Microsoft.Extensions.Hosting;
+using Microsoft.Extensions.Logging;
+using Microsoft.Extensions.Options;
+
+namespace HumWatch.Host.Inbox;
+
+/// <summary>
+/// Watches the inbox folder. A file whose size and time stamp stay unchanged for a while is checked as a session of
+/// its stream (alerts and ledger included); its report goes beside it in the archive, where the file is moved —
+/// never deleted. Unreadable files go to the rejected folder with the reason. The store's journal makes a restart
+/// neither lose nor repeat a file.
+/// </summary>
+internal sealed class InboxService : BackgroundService
+{
+    private readonly InboxOptions _options;
+    private readonly AnalysisOptions _analysis;
+    private readonly CheckLimits _limits;
+    private readonly AlertOptions _alerts;
+    private readonly MonitorOptions _monitor;
+    private readonly TimeZoneInfo _zone;
+    private readonly HumWatchStore _store;
+    private readonly IAlertEventSink _alertSink;
+    private readonly IMinuteRowWriter _rowWriter;
+    private readonly TimeProvider _time;
+    private readonly ILogger _logger;
+    private readonly Dictionary<string, (long Size, DateTime WriteUtc, long SeenTicks)> _candidates = new(StringComparer.Ordinal);
+    private readonly SemaphoreSlim _wake = new(0, 1);
+    private FileSystemWatcher? _watcher;
+
+    public InboxService(
+        IOptions<InboxOptions> options,
+        AnalysisOptions analysis,
+        IOptions<CheckLimits> limits,
+        IOptions<AlertOptions> alerts,
+        IOptions<MonitorOptions> monitor,
+        IOptions<SiteOptions> site,
+        HumWatchStore store,
+        IAlertEventSink alertSink,
+        IMinuteRowWriter rowWriter,
+        TimeProvider time,
+        ILogger<InboxService> logger)
+    {
+        _options = options.Value;
+        _analysis = analysis;
+        _limits = limits.Value;
+        _alerts = alerts.Value;
+        _monitor = monitor.Value;
+        _zone = site.Value.ResolveTimeZone();
+        _store = store;
+        _alertSink = alertSink;
+        _rowWriter = rowWriter;
+        _time = time;
+        _logger = logger;
+    }
+
+    public override Task StartAsync(CancellationToken cancellationToken)
+    {
+        if (_options.Enabled)
+        {
+            // Create the folders up front so a bad path stops the start with a clear error.
+            Directory.CreateDirectory(_options.Folder);
+            Directory.CreateDirectory(_options.ArchiveFolder);
+            Directory.CreateDirectory(_options.RejectedFolder);
+            _watcher = new FileSystemWatcher(_options.Folder) { IncludeSubdirectories = true, EnableRaisingEvents = true };
+            _watcher.Created += (_, _) => Wake();
+            _watcher.Changed += (_, _) => Wake();
+            _watcher.Renamed += (_, _) => Wake();
+            _logger.Watching(Path.GetFullPath(_options.Folder));
+        }
+
+        return base.StartAsync(cancellationToken);
+    }
+
+    public override void Dispose()
+    {
+        _watcher?.Dispose();
+        _wake.Dispose();
+        base.Dispose();
+    }
+
+    protected override async Task ExecuteAsync(CancellationToken stoppingToken)
+    {
+        if (!_options.Enabled)
+        {
+            return;
+        }
+
+        // Poll at least as often as files need to settle; a watcher event wakes us sooner.
+        var interval = TimeSpan.FromSeconds(Math.Max(0.1, Math.Min(_options.RescanSeconds, Math.Max(0.5, _options.StableSeconds / 2))));
+        while (!stoppingToken.IsCancellationRequested)
+        {
+            try
+            {
+                ScanOnce(stoppingToken);
+            }
+            catch (Exception ex) when (ex is IOException or UnauthorizedAccessException)
+            {
+                _logger.ScanFailed(ex, _options.Folder);
+            }
+
+            try
+            {
+                using var delay = CancellationTokenSource.CreateLinkedTokenSource(stoppingToken);
+                var wait = _wake.WaitAsync(delay.Token);
+                await Task.WhenAny(wait, Task.Delay(interval, _time, delay.Token)).ConfigureAwait(false);
+                await delay.CancelAsync().ConfigureAwait(false);
+            }
+            catch (OperationCanceledException)
+            {
+                return;
+            }
+        }
+    }
+
+    /// <summary>Looks at the inbox once and processes every file that has settled. Tests call it directly.</summary>
+    internal int ScanOnce(CancellationToken cancellationToken = default)
+    {
+        var processed = 0;
+        var now = _time.GetTimestamp();
+        var seen = new HashSet<string>(StringComparer.Ordinal);
+        foreach (var path in Directory.EnumerateFiles(_options.Folder, "*", SearchOption.AllDirectories))
+        {
+            cancellationToken.ThrowIfCancellationRequested();
+            var name = Path.GetFileName(path);
+            if (name.StartsWith('.') || name.EndsWith(".part", StringComparison.OrdinalIgnoreCase) || name.EndsWith(".tmp", StringComparison.OrdinalIgnoreCase))
+            {
+                continue; // still being written under a temporary name
+            }
+
+            seen.Add(path);
+            var info = new FileInfo(path);
+            if (!info.Exists)
+            {
+                continue;
+            }
+
+            if (!_candidates.TryGetValue(path, out var previous) || previous.Size != info.Length || previous.WriteUtc != info.LastWriteTimeUtc)
+            {
+                _candidates[path] = (info.Length, info.LastWriteTimeUtc, now);
+                if (_options.StableSeconds > 0)
+                {
+                    continue;
+                }
+            }
+            else if (_time.GetElapsedTime(previous.SeenTicks, now).TotalSeconds < _options.StableSeconds)
+            {
+                continue;
+            }
+
+            _candidates.Remove(path);
+            try
+            {
+                ProcessFile(info, cancellationToken);
+                processed++;
+            }
+            catch (Exception ex) when (ex is IOException or UnauthorizedAccessException)
+            {
+                // Left in place: the next scan tries again once the file settles.
+                _logger.ProcessFailed(ex, path);
+            }
+        }
+
+        foreach (var gone in _candidates.Keys.Where(k => !seen.Contains(k)).ToList())
+        {
+            _candidates.Remove(gone);
+        }
+
+        return processed;
+    }
+
+    private void ProcessFile(FileInfo file, CancellationToken cancellationToken)
+    {
+        var streamId = StreamIdFor(file.FullName);
+        var sha256 = HashOf(file.FullName);
+        var modifiedUtc = new DateTimeOffset(file.LastWriteTimeUtc, TimeSpan.Zero);
+        if (!_store.TryBegin(file.FullName, file.Length, modifiedUtc, sha256, out var entry))
+        {
+            if (entry.State == FileJournalState.Received)
+            {
+                return; // another worker holds it
+            }
+
+            var target = entry.State == FileJournalState.Archived
+                ? UniqueTarget(Path.Combine(_options.ArchiveFolder, streamId), file.Name, sha256)
+                : UniqueTarget(_options.RejectedFolder, file.Name, sha256);
+            MoveFile(file.FullName, target);
+            _logger.AlreadyProcessed(file.FullName, entry.State == FileJournalState.Archived ? "archived" : "rejected");
+            return;
+        }
+
+        var checker = new RecordingChecker(_analysis, _limits);
+        var sessions = new List<StreamSession>();
+        var report = checker.Check(
+            file.FullName,
+            extraSinks: group =>
+            {
+                var groupStream = group.Index == 0 ? streamId : $"{streamId}.{group.Layout.SampleRateHz:0}hz";
+                var session = new StreamSession(
+                    groupStream,
+                    $"file:{sha256}:{group.Index}",
+                    group.Layout,
+                    _analysis,
+                    _alerts,
+                    _monitor.LedgerMinAmplitudeUvRms,
+                    _alertSink,
+                    _time.GetUtcNow,
+                    RecordingStartUtc(file),
+                    ownAnalyzer: false);
+                sessions.Add(session);
+                return session;
+            },
+            cancellationToken: cancellationToken);
+
+        foreach (var session in sessions)
+        {
+            session.End();
+            _rowWriter.Write(session.TakeRows());
+        }
+
+        if (report.Error is not null)
+        {
+            var target = UniqueTarget(_options.RejectedFolder, file.Name, sha256);
+            File.WriteAllText(target + ".reason.txt", report.Error + Environment.NewLine, Encoding.UTF8);
+            _store.Complete(sha256, file.Length, FileJournalState.Rejected, reason: report.Error);
+            MoveFile(file.FullName, target);
+            _logger.Rejected(file.FullName, report.Error);
+            return;
+        }
+
+        var archiveFolder = Path.Combine(_options.ArchiveFolder, streamId);
+        var archived = UniqueTarget(archiveFolder, file.Name, sha256);
+        var reportPath = archived + ".report.json";
+        var archivedReport = new CheckReport
+        {
+            File = archived,
+            Verdict = report.Verdict,
+            Format = report.Format,
+            SampleRateHz = report.SampleRateHz,
+            ChannelCount = report.ChannelCount,
+            DurationSeconds = report.DurationSeconds,
+            MainsEstimateHz = report.MainsEstimateHz,
+            Prefiltering = report.Prefiltering,
+            Lines = report.Lines,
+            ChannelFaults = report.ChannelFaults,
+            SkippedSignals = report.SkippedSignals,
+            Notes = report.Notes,
+            Caution = report.Caution,
+        };
+        File.WriteAllText(reportPath, JsonSerializer.Serialize(archivedReport, CheckReportJsonContext.Default.CheckReport), Encoding.UTF8);
+
+        // Journal first, then move: a stop in between leaves an archived entry whose file is simply moved next time.
+        _store.Complete(sha256, file.Length, FileJournalState.Archived, reportPath: reportPath);
+        MoveFile(file.FullName, archived);
+        _logger.Archived(file.FullName, streamId, report.Verdict, report.Lines.Count, report.ChannelFaults.Count, archived);
+    }
+
+    private DateTimeOffset RecordingStartUtc(FileInfo file)
+    {
+        try
+        {
+            using var reader = Formats.RecordingReader.Open(file.FullName);
+            if (reader.Info.StartLocal is { } local)
+            {
+                var unspecified = DateTime.SpecifyKind(local, DateTimeKind.Unspecified);
+                return new DateTimeOffset(TimeZoneInfo.ConvertTimeToUtc(unspecified, _zone), TimeSpan.Zero);
+            }
+        }
+        catch (Exception ex) when (ex is Formats.RecordingFormatException or IOException or ArgumentException)
+        {
+            // The checker reports the problem; the time only places the ledger rows.
+        }
+
+        return new DateTimeOffset(file.LastWriteTimeUtc, TimeSpan.Zero);
+    }
+
+    /// <summary>Stream id of a dropped file: its first folder below the inbox, else its stem; reduced to [A-Za-z0-9._-], at most 64.</summary>
+    internal string StreamIdFor(string path)
+    {
+        var relative = Path.GetRelativePath(_options.Folder, path);
+        var parts = relative.Split(Path.DirectorySeparatorChar, StringSplitOptions.RemoveEmptyEntries);
+        var raw = parts.Length > 1 ? parts[0] : Path.GetFileNameWithoutExtension(path);
+        return SanitizeStreamId(raw);
+    }
+
+    internal static string SanitizeStreamId(string raw)
+    {
+        var builder = new StringBuilder(Math.Min(raw.Length, 64));
+        foreach (var c in raw)
+        {
+            if (builder.Length == 64)
+            {
+                break;
+            }
+
+            builder.Append(char.IsAsciiLetterOrDigit(c) || c is '.' or '_' or '-' ? c : '-');
+        }
+
+        var id = builder.ToString().Trim('.');
+        return id.Length == 0 ? "file" : id;
+    }
+
+    private static string HashOf(string path)
+    {
+        using var stream = new FileStream(path, FileMode.Open, FileAccess.Read, FileShare.Read, 1 << 16, FileOptions.SequentialScan);
+        return Convert.ToHexStringLower(SHA256.HashData(stream));
+    }
+
+    /// <summary>A path in <paramref name="folder"/> for <paramref name="name"/> that does not overwrite anything.</summary>
+    private static string UniqueTarget(string folder, string name, string sha256)
+    {
+        Directory.CreateDirectory(folder);
+        var target = Path.Combine(folder, name);
+        if (!File.Exists(target))
+        {
+            return target;
+        }
+
+        var stem = Path.GetFileNameWithoutExtension(name);
+        var extension = Path.GetExtension(name);
+        for (var i = 0; ; i++)
+        {
+            var suffix = i == 0 ? sha256[..8] : $"{sha256[..8]}-{i}";
+            target = Path.Combine(folder, $"{stem}.{suffix}{extension}");
+            if (!File.Exists(target))
+            {
+                return target;
+            }
+        }
+    }
+
+    private static void MoveFile(string from, string to) => File.Move(from, to, overwrite: false);
+
+    private void Wake()
+    {
+        try
+        {
+            if (_wake.CurrentCount == 0)
+            {
+                _wake.Release();
+            }
+        }
+        catch (SemaphoreFullException)
+        {
+            // Already signalled.
+        }
+        catch (ObjectDisposedException)
+        {
+            // Shutting down.
+        }
+    }
+}

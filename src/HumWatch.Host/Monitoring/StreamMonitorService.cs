@@ -1,0 +1,181 @@
+using System.Collections.Concurrent;
+using HumWatch.Core.Alerts;
+using HumWatch.Core.Analysis;
+using HumWatch.Host.Ingest;
+using HumWatch.Host.Publishing;
+using Microsoft.Extensions.Hosting;
+using Microsoft.Extensions.Logging;
+using Microsoft.Extensions.Options;
+
+namespace HumWatch.Host.Monitoring;
+
+/// <summary>
+/// Takes chunks from the ingest queue and hands each to its stream's monitor; publishes a status per stream every
+/// interval and closes streams that went quiet.
+/// </summary>
+internal sealed class StreamMonitorService : BackgroundService
+{
+    private readonly IngestQueue _queue;
+    private readonly IngestCounters _counters;
+    private readonly AnalysisOptions _analysis;
+    private readonly AlertOptions _alerts;
+    private readonly MonitorOptions _options;
+    private readonly PublishOptions _publish;
+    private readonly IAlertEventSink _alertSink;
+    private readonly IMinuteRowWriter _rowWriter;
+    private readonly IMessagePublisher _publisher;
+    private readonly TimeProvider _time;
+    private readonly ILoggerFactory _loggerFactory;
+    private readonly ILogger _logger;
+    private readonly ConcurrentDictionary<string, StreamMonitor> _monitors = new(StringComparer.Ordinal);
+
+    public StreamMonitorService(
+        IngestQueue queue,
+        IngestCounters counters,
+        AnalysisOptions analysis,
+        IOptions<AlertOptions> alerts,
+        IOptions<MonitorOptions> options,
+        IOptions<PublishOptions> publish,
+        IAlertEventSink alertSink,
+        IMinuteRowWriter rowWriter,
+        IMessagePublisher publisher,
+        TimeProvider time,
+        ILoggerFactory loggerFactory)
+    {
+        _queue = queue;
+        _counters = counters;
+        _analysis = analysis;
+        _alerts = alerts.Value;
+        _options = options.Value;
+        _publish = publish.Value;
+        _alertSink = alertSink;
+        _rowWriter = rowWriter;
+        _publisher = publisher;
+        _time = time;
+        _loggerFactory = loggerFactory;
+        _logger = loggerFactory.CreateLogger<StreamMonitorService>();
+    }
+
+    /// <summary>Streams currently held.</summary>
+    public IReadOnlyCollection<StreamMonitor> Monitors => (IReadOnlyCollection<StreamMonitor>)_monitors.Values;
+
+    protected override Task ExecuteAsync(CancellationToken stoppingToken) =>
+        Task.WhenAll(RouteAsync(stoppingToken), HousekeepAsync(stoppingToken));
+
+    public override async Task StopAsync(CancellationToken cancellationToken)
+    {
+        // Stop taking input first, then let every stream finish what it holds and close its alerts and minutes.
+        _queue.Complete();
+        await base.StopAsync(cancellationToken).ConfigureAwait(false);
+        foreach (var monitor in _monitors.Values)
+        {
+            await monitor.DisposeAsync().ConfigureAwait(false);
+        }
+
+        _monitors.Clear();
+    }
+
+    /// <summary>Hands one chunk to its stream's monitor, creating it on first sight.</summary>
+    internal void Route(StreamChunk item)
+    {
+        if (!_monitors.TryGetValue(item.StreamId, out var monitor))
+        {
+            if (_monitors.Count >= _options.MaxStreams)
+            {
+                _counters.RecordDropped(item.StreamId);
+                _logger.TooManyStreams(item.StreamId, _options.MaxStreams);
+                return;
+            }
+
+            monitor = _monitors.GetOrAdd(item.StreamId, id => new StreamMonitor(
+                id, _analysis, _alerts, _options, _alertSink, _rowWriter, _time, _loggerFactory.CreateLogger($"HumWatch.Stream.{id}")));
+        }
+
+        if (!monitor.TryPost(item.Chunk))
+        {
+            _counters.RecordDropped(item.StreamId);
+        }
+    }
+
+    /// <summary>Publishes one status message per stream.</summary>
+    internal void PublishStatus()
+    {
+        var now = _time.GetUtcNow();
+        foreach (var monitor in _monitors.Values)
+        {
+            var counts = _counters.Get(monitor.StreamId);
+            double? lag = monitor.LastFrameEndUtcFromStream is { } end ? Math.Max(0, (now - end).TotalSeconds) : null;
+            var status = new StatusMessage(
+                Messages.Version,
+                monitor.StreamId,
+                now,
+                monitor.FramesAnalysed,
+                monitor.LinesInLastFrame,
+                monitor.ActiveAlertCount,
+                counts?.Accepted ?? 0,
+                counts?.Dropped ?? monitor.DroppedChunks,
+                counts?.RejectedTotal ?? 0,
+                lag);
+            _publisher.TryPublish(Messages.StatusKind, monitor.StreamId, Messages.For(status));
+        }
+    }
+
+    /// <summary>Closes the sessions of streams idle longer than the configured time.</summary>
+    internal void CloseIdleStreams()
+    {
+        foreach (var monitor in _monitors.Values)
+        {
+            if (monitor.IsOpen && monitor.IdleSeconds >= _options.IdleCloseSeconds)
+            {
+                monitor.RequestClose($"no data for {_options.IdleCloseSeconds:0} s");
+            }
+        }
+    }
+
+    private async Task RouteAsync(CancellationToken stoppingToken)
+    {
+        try
+        {
+            await foreach (var item in _queue.Reader.ReadAllAsync(stoppingToken).ConfigureAwait(false))
+            {
+                Route(item);
+            }
+        }
+        catch (OperationCanceledException) when (stoppingToken.IsCancellationRequested)
+        {
+            // Shutting down: StopAsync drains the monitors.
+        }
+    }
+
+    private async Task HousekeepAsync(CancellationToken stoppingToken)
+    {
+        var interval = TimeSpan.FromSeconds(Math.Min(_publish.StatusIntervalSeconds, _options.IdleCloseSeconds));
+        var sinceStatus = TimeSpan.Zero;
+        while (!stoppingToken.IsCancellationRequested)
+        {
+            try
+            {
+                await Task.Delay(interval, _time, stoppingToken).ConfigureAwait(false);
+            }
+            catch (OperationCanceledException)
+            {
+                return;
+            }
+
+            sinceStatus += interval;
+            CloseIdleStreams();
+            if (sinceStatus.TotalSeconds + 1e-9 >= _publish.StatusIntervalSeconds)
+            {
+                sinceStatus = TimeSpan.Zero;
+                try
+                {
+                    PublishStatus();
+                }
+                catch (Exception ex) when (ex is not OutOfMemoryException)
+                {
+                    _logger.StatusFailed(ex);
+                }
+            }
+        }
+    }
+}
