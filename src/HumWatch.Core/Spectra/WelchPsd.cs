@@ -6,6 +6,9 @@ namespace HumWatch.Core.Spectra;
 /// </summary>
 public static class WelchPsd
 {
+    // Segments per kernel call in the one-shot path; bounds scratch to BatchSegments × bins values.
+    private const int BatchSegments = 64;
+
     /// <summary>
     /// Writes the Welch PSD of <paramref name="x"/> into the first <c>segmentLength / 2 + 1</c> values of <paramref name="psd"/>
     /// and returns the number of segments averaged. Segments start every <c>segmentLength − overlapSamples</c> samples;
@@ -50,11 +53,32 @@ public static class WelchPsd
 
         var step = segmentLength - overlapSamples;
         var segments = ((x.Length - segmentLength) / step) + 1;
-        var periodograms = new double[segments * bins];
 
-        // Consecutive segments are the kernel's "channels": segment k starts at k·step.
-        kernel.Compute(x, segments, step, periodograms);
-        AverageRows(periodograms, segments, bins, psd);
+        // Consecutive segments are the kernel's "channels" (segment k starts at k·step), taken in batches so memory
+        // stays bounded for long inputs; rows are summed oldest first, then divided once, like a mean over all rows.
+        var batch = Math.Min(segments, BatchSegments);
+        var periodograms = new double[batch * bins];
+        var sum = psd[..bins];
+        sum.Clear();
+        for (var first = 0; first < segments; first += batch)
+        {
+            var count = Math.Min(batch, segments - first);
+            kernel.Compute(x[(first * step)..], count, step, periodograms);
+            for (var r = 0; r < count; r++)
+            {
+                var row = periodograms.AsSpan(r * bins, bins);
+                for (var k = 0; k < bins; k++)
+                {
+                    sum[k] += row[k];
+                }
+            }
+        }
+
+        for (var k = 0; k < bins; k++)
+        {
+            sum[k] /= segments;
+        }
+
         return segments;
     }
 
@@ -77,29 +101,5 @@ public static class WelchPsd
         var window = new double[n];
         HannWindow.FillPeriodic(window);
         return HannWindow.EnbwBins(window);
-    }
-
-    /// <summary>Mean of <paramref name="rows"/> consecutive rows of <paramref name="bins"/> values in <paramref name="rowsData"/>, summed first row first.</summary>
-    internal static void AverageRows(ReadOnlySpan<double> rowsData, int rows, int bins, Span<double> mean)
-    {
-        var first = rowsData[..bins];
-        for (var k = 0; k < bins; k++)
-        {
-            mean[k] = first[k];
-        }
-
-        for (var r = 1; r < rows; r++)
-        {
-            var row = rowsData.Slice(r * bins, bins);
-            for (var k = 0; k < bins; k++)
-            {
-                mean[k] += row[k];
-            }
-        }
-
-        for (var k = 0; k < bins; k++)
-        {
-            mean[k] /= rows;
-        }
     }
 }
