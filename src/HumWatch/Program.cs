@@ -11,6 +11,9 @@ internal static class Program
         {
             CheckCommand.Create(),
             SimulateCommand.Create(),
+            RunCommand.Create(),
+            DemoCommand.Create(),
+            ListenCommand.Create(),
         };
 
         var parse = root.Parse(args);

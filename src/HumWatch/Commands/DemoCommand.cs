@@ -1,0 +1,158 @@
+using System.CommandLine;
+using System.Text.Json;
+using HumWatch.Cli.Demo;
+using HumWatch.Host.Composition;
+using HumWatch.Host.Ingest;
+using HumWatch.Simulation;
+using Microsoft.Extensions.Configuration;
+using Microsoft.Extensions.DependencyInjection;
+using Microsoft.Extensions.Hosting;
+using NetMQ.Sockets;
+
+namespace HumWatch.Cli.Commands;
+
+/// <summary>`humwatch demo`: the service on embedded defaults plus simulated rooms streamed over the real socket.</summary>
+internal static class DemoCommand
+{
+    public static Command Create()
+    {
+        var speed = new Option<double>("--speed") { Description = "Plays the rooms this many times faster than real time (0.1–1000).", DefaultValueFactory = _ => 1 };
+        var scenarios = new Option<string?>("--scenarios") { Description = "Folder of room scenarios (default: the demo-streams folder shipped with HumWatch)." };
+        var data = new Option<string>("--data") { Description = "Folder for the store, logs and inbox.", DefaultValueFactory = _ => "humwatch-data" };
+        var seconds = new Option<double?>("--seconds") { Description = "Stops by itself after this many wall-clock seconds." };
+        var config = new Option<string[]>("--config") { Description = "Configuration file(s) layered over the defaults (repeatable)." };
+        var set = new Option<string[]>("--set") { Description = "Overrides one setting, KEY=VALUE (repeatable)." };
+        var command = new Command("demo", "Runs the service with simulated recording rooms streaming to it, and prints each alert as it is raised and cleared.")
+        {
+            speed,
+            scenarios,
+            data,
+            seconds,
+            config,
+            set,
+        };
+        command.SetAction(parse => Run(
+            parse.GetValue(speed),
+            parse.GetValue(scenarios),
+            parse.GetValue(data)!,
+            parse.GetValue(seconds),
+            parse.GetValue(config) ?? [],
+            parse.GetValue(set) ?? []));
+        return command;
+    }
+
+    private static int Run(double speed, string? scenarioFolder, string dataFolder, double? stopAfterSeconds, string[] configFiles, string[] settings)
+    {
+        if (!(speed >= 0.1 && speed <= 1000))
+        {
+            Console.Error.WriteLine($"humwatch demo: --speed must be between 0.1 and 1000 (got {speed}).");
+            return ExitCodes.BadInput;
+        }
+
+        if (stopAfterSeconds is { } stop && !(stop > 0))
+        {
+            Console.Error.WriteLine($"humwatch demo: --seconds must be positive (got {stop}).");
+            return ExitCodes.BadInput;
+        }
+
+        var folder = scenarioFolder ?? DefaultScenarioFolder();
+        if (!Directory.Exists(folder))
+        {
+            Console.Error.WriteLine($"humwatch demo: scenario folder '{folder}' not found (use --scenarios).");
+            return ExitCodes.BadInput;
+        }
+
+        var startUtc = DateTimeOffset.UtcNow;
+        var rooms = new List<(string StreamId, RoomSimulator Simulator)>();
+        foreach (var file in Directory.EnumerateFiles(folder, "*.json").Order(StringComparer.Ordinal))
+        {
+            try
+            {
+                var scenario = SimulationScenario.FromJson(File.ReadAllText(file));
+                scenario.StartUtc ??= startUtc;
+                for (var i = 0; i < scenario.Rooms.Count; i++)
+                {
+                    rooms.Add((scenario.Rooms[i].Name, scenario.CreateRoom(i)));
+                }
+            }
+            catch (Exception ex) when (ex is IOException or UnauthorizedAccessException or JsonException or ArgumentException)
+            {
+                Console.Error.WriteLine($"humwatch demo: {file}: {ex.Message}");
+                return ExitCodes.BadInput;
+            }
+        }
+
+        if (rooms.Count == 0)
+        {
+            Console.Error.WriteLine($"humwatch demo: no scenario (*.json) in '{folder}'.");
+            return ExitCodes.BadInput;
+        }
+
+        var overrides = new Dictionary<string, string?>
+        {
+            ["Store:Path"] = Path.Combine(dataFolder, "humwatch.db"),
+            ["Logs:Folder"] = Path.Combine(dataFolder, "logs"),
+            ["Inbox:Folder"] = Path.Combine(dataFolder, "inbox"),
+            ["Inbox:ArchiveFolder"] = Path.Combine(dataFolder, "archive"),
+            ["Inbox:RejectedFolder"] = Path.Combine(dataFolder, "rejected"),
+
+            // The demo prints alerts itself; the console log keeps to warnings and errors (the files get everything).
+            ["Logs:ConsoleLevel"] = "Warning",
+        };
+        if (!ServiceRunner.TryParseSettings("demo", settings, overrides))
+        {
+            return ExitCodes.BadInput;
+        }
+
+        string ingestEndpoint = IngestOptions.DefaultAddress;
+        string publishEndpoint = "tcp://127.0.0.1:5711";
+        var hostSettings = new HumWatchHostSettings
+        {
+            ConfigFiles = configFiles,
+            Overrides = overrides,
+            ConfigureServices = (services, configuration) =>
+            {
+                ingestEndpoint = configuration["Ingest:Endpoints:0:Address"] ?? IngestOptions.DefaultAddress;
+                publishEndpoint = configuration["Publish:Endpoint"] ?? publishEndpoint;
+                var endpoint = ingestEndpoint;
+                services.AddHostedService(sp => new DemoRoomPlayer(rooms, endpoint, speed, sp.GetRequiredService<TimeProvider>()));
+            },
+        };
+
+        using var stopPrinting = new CancellationTokenSource();
+        Thread? printer = null;
+        var code = ServiceRunner.Run("demo", hostSettings, host =>
+        {
+            var names = string.Join(", ", rooms.Select(r => r.StreamId));
+            Console.Out.WriteLine($"HumWatch demo: {rooms.Count} simulated rooms ({names}) streaming to {ingestEndpoint} at {speed:0.##}× real time.");
+            Console.Out.WriteLine($"Alerts are published on {publishEndpoint} (try 'humwatch listen' in another terminal); store, logs and inbox in {Path.GetFullPath(dataFolder)}.");
+            Console.Out.WriteLine("Each room needs one analysis span (8 s) before its first frame; alerts follow a few frames after a source switches on. Ctrl-C stops.");
+            Console.Out.WriteLine();
+            printer = new Thread(() => PrintAlerts(publishEndpoint, stopPrinting.Token)) { IsBackground = true, Name = "humwatch-demo-printer" };
+            printer.Start();
+            if (stopAfterSeconds is { } after)
+            {
+                var lifetime = host.Services.GetRequiredService<IHostApplicationLifetime>();
+                _ = Task.Delay(TimeSpan.FromSeconds(after)).ContinueWith(_ => lifetime.StopApplication(), TaskScheduler.Default);
+            }
+        });
+        stopPrinting.Cancel();
+        printer?.Join(TimeSpan.FromSeconds(2));
+        return code;
+    }
+
+    private static void PrintAlerts(string endpoint, CancellationToken token)
+    {
+        using var subscriber = new SubscriberSocket();
+        subscriber.Options.Linger = TimeSpan.Zero;
+        subscriber.Connect(endpoint.Replace("*", "127.0.0.1", StringComparison.Ordinal));
+        subscriber.SubscribeToAnyTopic();
+        ListenCommand.Pump(subscriber, StatusLines.FirstPerStream, raw: false, Console.Out, token);
+    }
+
+    private static string DefaultScenarioFolder()
+    {
+        var besideExecutable = Path.Combine(AppContext.BaseDirectory, "demo-streams");
+        return Directory.Exists(besideExecutable) ? besideExecutable : "demo-streams";
+    }
+}

@@ -1,0 +1,84 @@
+using HumWatch.Host.Composition;
+using HumWatch.Host.Configuration;
+using Microsoft.Extensions.Hosting;
+using NetMQ;
+
+namespace HumWatch.Cli.Commands;
+
+/// <summary>Builds and runs the service with the same error handling for `run` and `demo`.</summary>
+internal static class ServiceRunner
+{
+    public static int Run(string command, HumWatchHostSettings settings, Action<IHost>? onStarted = null)
+    {
+        IHost host;
+        try
+        {
+            host = HumWatchHost.Build(settings);
+        }
+        catch (ConfigurationException ex)
+        {
+            Console.Error.WriteLine($"humwatch {command}: configuration is not valid:");
+            foreach (var line in ex.Message.Split(Environment.NewLine))
+            {
+                Console.Error.WriteLine($"  {line}");
+            }
+
+            return ExitCodes.BadInput;
+        }
+
+        try
+        {
+            using (host)
+            {
+                try
+                {
+                    host.Start();
+                }
+                catch (Exception ex) when (ex is InvalidOperationException or IOException or UnauthorizedAccessException or ArgumentException or NetMQException or Microsoft.Extensions.Options.OptionsValidationException)
+                {
+                    // A socket that cannot bind or a folder that cannot be created stops the start with one clear line.
+                    Console.Error.WriteLine($"humwatch {command}: cannot start: {Innermost(ex).Message}");
+                    return ExitCodes.BadInput;
+                }
+
+                onStarted?.Invoke(host);
+                host.WaitForShutdown();
+            }
+        }
+        finally
+        {
+            // Sockets are closed by now; end NetMQ's background threads so the process exits promptly.
+            NetMQConfig.Cleanup(block: false);
+        }
+
+        return ExitCodes.Ok;
+    }
+
+    /// <summary>Parses repeated KEY=VALUE settings into configuration overrides.</summary>
+    public static bool TryParseSettings(string command, IEnumerable<string> pairs, Dictionary<string, string?> into)
+    {
+        foreach (var pair in pairs)
+        {
+            var equals = pair.IndexOf('=', StringComparison.Ordinal);
+            if (equals <= 0)
+            {
+                Console.Error.WriteLine($"humwatch {command}: --set takes KEY=VALUE (e.g. Publish:StatusIntervalSeconds=5); got '{pair}'.");
+                return false;
+            }
+
+            into[pair[..equals].Trim()] = pair[(equals + 1)..];
+        }
+
+        return true;
+    }
+
+    private static Exception Innermost(Exception ex)
+    {
+        while (ex.InnerException is not null && ex is not ConfigurationException)
+        {
+            ex = ex.InnerException;
+        }
+
+        return ex;
+    }
+}

@@ -1,0 +1,92 @@
+using System.Globalization;
+using System.Text;
+using System.Text.Json;
+
+namespace HumWatch.Cli.Listening;
+
+/// <summary>Turns published messages (topic + JSON body) into one readable line each.</summary>
+internal static class MessagePrinter
+{
+    /// <summary>The line for a message, or null when it is not worth a line (e.g. status in quiet mode).</summary>
+    public static string? Format(string topic, byte[] body, bool includeStatus)
+    {
+        var kind = topic.Split('/', 2)[0];
+        JsonElement json;
+        try
+        {
+            json = JsonDocument.Parse(body).RootElement.Clone();
+        }
+        catch (JsonException)
+        {
+            return $"{topic}: (body is not JSON: {Encoding.UTF8.GetString(body)})";
+        }
+
+        var c = CultureInfo.InvariantCulture;
+        var stream = Text(json, "stream") ?? topic;
+        var when = json.TryGetProperty("utc", out var utc) && utc.TryGetDateTimeOffset(out var t)
+            ? t.ToLocalTime().ToString("HH:mm:ss", c)
+            : DateTimeOffset.Now.ToString("HH:mm:ss", c);
+        switch (kind)
+        {
+            case "alert":
+            {
+                var what = Describe(json);
+                var evt = Text(json, "event");
+                var severity = Text(json, "severity");
+                var head = evt == "severity" ? $"now {severity} (was {Text(json, "previousSeverity")})" : $"{severity} — raised";
+                var amplitude = Number(json, "amplitudeUvRms") is { } a ? string.Create(c, $", {a:0.0} µV RMS") : "";
+                var share = Number(json, "channelShare") is { } s ? string.Create(c, $", {s * 100:0}% of channels") : "";
+                var worst = json.TryGetProperty("worstChannels", out var w) && w.ValueKind == JsonValueKind.Array && w.GetArrayLength() > 0
+                    ? $" (strongest: {string.Join(", ", w.EnumerateArray().Select(x => x.GetString()))})"
+                    : "";
+                var hint = Text(json, "suggestion") is { } h ? $"{Environment.NewLine}           hint: {h}" : "";
+                return $"{when}  ▲ {stream}: {what} {head}{amplitude}{share}{worst}{hint}";
+            }
+
+            case "clear":
+            {
+                var what = Describe(json);
+                var duration = Number(json, "durationSeconds") ?? 0;
+                var peak = Number(json, "peakAmplitudeUvRms") is { } p ? string.Create(c, $", peak {p:0.0} µV RMS") : "";
+                return string.Create(c, $"{when}  ▽ {stream}: {what} cleared ({Text(json, "reason")}) after {duration:0} s{peak}");
+            }
+
+            case "status":
+                if (!includeStatus)
+                {
+                    return null;
+                }
+
+                var lag = Number(json, "lagSeconds") is { } l ? string.Create(c, $", {l:0.0} s behind") : "";
+                return string.Create(c, $"{when}  · {stream}: {Number(json, "framesAnalysed") ?? 0:0} frames, {Number(json, "linesPresent") ?? 0:0} lines, {Number(json, "activeAlerts") ?? 0:0} active alerts, {Number(json, "chunksDropped") ?? 0:0} dropped{lag}");
+
+            case "summary":
+                return $"{when}  ■ {stream}: daily summary for {Text(json, "day") ?? "?"} — {Text(json, "verdict") ?? "see the summary file"}";
+
+            default:
+                return $"{when}  {topic}: {json.GetRawText()}";
+        }
+    }
+
+    private static string Describe(JsonElement json)
+    {
+        var c = CultureInfo.InvariantCulture;
+        if (Text(json, "fault") is { } fault)
+        {
+            var channel = json.TryGetProperty("worstChannels", out var w) && w.ValueKind == JsonValueKind.Array && w.GetArrayLength() > 0 ? w[0].GetString() : "a channel";
+            return $"channel {channel} {fault}";
+        }
+
+        var frequency = Number(json, "frequencyHz") is { } f ? string.Create(c, $"{f:0.00} Hz ") : "";
+        var source = Text(json, "source") ?? "unidentified line";
+        var harmonic = Number(json, "harmonic") is { } h && h > 1 ? string.Create(c, $" ×{h:0}") : "";
+        var aliased = json.TryGetProperty("aliased", out var al) && al.ValueKind == JsonValueKind.True ? ", folded" : "";
+        return $"{frequency}{source}{harmonic}{aliased}";
+    }
+
+    private static string? Text(JsonElement json, string name) =>
+        json.TryGetProperty(name, out var value) && value.ValueKind == JsonValueKind.String ? value.GetString() : null;
+
+    private static double? Number(JsonElement json, string name) =>
+        json.TryGetProperty(name, out var value) && value.ValueKind == JsonValueKind.Number ? value.GetDouble() : null;
+}
