@@ -1,6 +1,7 @@
 using System.Buffers;
 using System.Buffers.Binary;
 using System.Globalization;
+using System.Numerics;
 using System.Runtime.InteropServices;
 using System.Text.Json;
 using HumWatch.Core.Signals;
@@ -267,36 +268,61 @@ public static class ChunkWireCodec
         }
         else
         {
-            for (var i = 0; i < destination.Length; i++)
+            for (var k = 0; k < destination.Length; k++)
             {
-                destination[i] = BinaryPrimitives.ReadSingleLittleEndian(source.Slice(i * 4, 4));
+                destination[k] = BinaryPrimitives.ReadSingleLittleEndian(source.Slice(k * 4, 4));
             }
         }
 
+        // 1000 and 1e6 are exact in float32 and a float × float product is exact in double, so one float multiply
+        // rounds exactly like multiplying in double and rounding once.
         var span = destination.AsSpan();
-        if (scale == 1.0)
+        var factor = (float)scale;
+        var scaleNeeded = factor != 1f;
+        var i = 0;
+        if (Vector.IsHardwareAccelerated && span.Length >= Vector<float>.Count)
         {
-            for (var i = 0; i < span.Length; i++)
+            var vectors = MemoryMarshal.Cast<float, Vector<float>>(span);
+            var scaleVector = new Vector<float>(factor);
+
+            // x − x is 0 for every finite x and NaN for NaN or ±∞, so one sum tells whether any value is non-finite.
+            var check = Vector<float>.Zero;
+            for (var v = 0; v < vectors.Length; v++)
             {
-                if (!float.IsFinite(span[i]))
-                {
-                    return i;
-                }
+                var value = scaleNeeded ? vectors[v] * scaleVector : vectors[v];
+                vectors[v] = value;
+                check += value - value;
             }
 
-            return -1;
+            i = vectors.Length * Vector<float>.Count;
+            if (!Vector.EqualsAll(check, Vector<float>.Zero))
+            {
+                return FirstNonFinite(span);
+            }
         }
 
-        // Scale in double so mV and V inputs lose no more than the final rounding to float.
-        for (var i = 0; i < span.Length; i++)
+        for (; i < span.Length; i++)
         {
-            var value = (float)(span[i] * scale);
+            var value = scaleNeeded ? span[i] * factor : span[i];
             if (!float.IsFinite(value))
             {
                 return i;
             }
 
             span[i] = value;
+        }
+
+        return -1;
+    }
+
+    private static int FirstNonFinite(ReadOnlySpan<float> samples)
+    {
+        for (var i = 0; i < samples.Length; i++)
+        {
+            if (!float.IsFinite(samples[i]))
+            {
+                return i;
+            }
         }
 
         return -1;

@@ -220,6 +220,21 @@ public sealed class ChunkWireCodecTests
         Assert.Contains("sample 1 of channel 'B'", result.Rejection.Message, StringComparison.Ordinal);
     }
 
+    [Theory]
+    [InlineData(0, "uV")]
+    [InlineData(517, "mV")]
+    [InlineData(999, "V")] // last sample: past any whole vector
+    public void Non_finite_sample_anywhere_in_a_long_chunk_is_found(int position, string unit)
+    {
+        var samples = Floats(1000); // two channels of 500
+        BinaryPrimitives.WriteSingleLittleEndian(samples.AsSpan(position * 4), float.NaN);
+
+        var result = ChunkWireCodec.Decode(Header(Good().Replace("\"uV\"", $"\"{unit}\"", StringComparison.Ordinal)), samples);
+
+        Assert.Equal(WireRejectReason.NonFiniteSample, result.Rejection!.Reason);
+        Assert.Contains($"sample {position % 500} of channel '{(position < 500 ? "A" : "B")}'", result.Rejection.Message, StringComparison.Ordinal);
+    }
+
     [Fact]
     public void Wrong_frame_count_and_oversize_name_the_stream_when_the_header_is_readable()
     {

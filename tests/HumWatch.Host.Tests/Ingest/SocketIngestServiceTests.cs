@@ -128,9 +128,21 @@ public sealed class SocketIngestServiceTests
 
         await harness.DisposeAsync();
 
+        // NetMQ closes a listener on its I/O thread after Dispose returns, so retry the bind (bounded).
         using var again = new PullSocket();
         again.Options.Linger = TimeSpan.Zero;
-        again.Bind(endpoint);
+        await IngestHarness.WaitUntilAsync(() =>
+        {
+            try
+            {
+                again.Bind(endpoint);
+                return true;
+            }
+            catch (AddressAlreadyInUseException)
+            {
+                return false;
+            }
+        }, $"{endpoint} to be free again");
         Assert.Contains(harness.ServiceLogger.Entries, e => e.EventId == 1105);
     }
 
