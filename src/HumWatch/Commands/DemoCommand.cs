@@ -135,9 +135,13 @@ internal static class DemoCommand
                 var lifetime = host.Services.GetRequiredService<IHostApplicationLifetime>();
                 _ = Task.Delay(TimeSpan.FromSeconds(after)).ContinueWith(_ => lifetime.StopApplication(), TaskScheduler.Default);
             }
+        },
+        onStopped: () =>
+        {
+            // The printer's socket must close before NetMQ's context is cleaned up.
+            stopPrinting.Cancel();
+            printer?.Join(TimeSpan.FromSeconds(2));
         });
-        stopPrinting.Cancel();
-        printer?.Join(TimeSpan.FromSeconds(2));
         return code;
     }
 

@@ -58,9 +58,16 @@ internal static class ListenCommand
         while (!token.IsCancellationRequested)
         {
             frames.Clear();
-            if (!subscriber.TryReceiveMultipartBytes(TimeSpan.FromMilliseconds(250), ref frames, 2))
+            try
             {
-                continue;
+                if (!subscriber.TryReceiveMultipartBytes(TimeSpan.FromMilliseconds(250), ref frames, 2))
+                {
+                    continue;
+                }
+            }
+            catch (TerminatingException)
+            {
+                return; // NetMQ is shutting down
             }
 
             if (frames.Count != 2)

@@ -8,7 +8,7 @@ namespace HumWatch.Cli.Commands;
 /// <summary>Builds and runs the service with the same error handling for `run` and `demo`.</summary>
 internal static class ServiceRunner
 {
-    public static int Run(string command, HumWatchHostSettings settings, Action<IHost>? onStarted = null)
+    public static int Run(string command, HumWatchHostSettings settings, Action<IHost>? onStarted = null, Action? onStopped = null)
     {
         IHost host;
         try
@@ -47,6 +47,8 @@ internal static class ServiceRunner
         }
         finally
         {
+            onStopped?.Invoke();
+
             // Sockets are closed by now; end NetMQ's background threads so the process exits promptly.
             NetMQConfig.Cleanup(block: false);
         }
