@@ -134,7 +134,7 @@ internal sealed class LineAttributor
                 };
             }
 
-            candidates.Sort(default(ByLikelihood));
+            NoAllocSort.Sort(candidates, default(ByLikelihood));
             if (candidates.Length == 0)
             {
                 lines[l].Source = SourceMatch.None;

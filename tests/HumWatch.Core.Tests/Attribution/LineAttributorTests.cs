@@ -177,6 +177,19 @@ public sealed class LineAttributorTests
         Assert.Equal(2, lines[1].Source.Harmonic);
     }
 
+    [Fact]
+    public void Attribute_allocates_nothing_once_warm()
+    {
+        var attributor = new LineAttributor(new SourceCatalogOptions(), 500, BinHz);
+        var lines = Lines((50.01, 5), (100.02, 1), (150.03, 2), (75, 1), (33.3, 1));
+        attributor.Attribute(lines);
+
+        var before = GC.GetAllocatedBytesForCurrentThread();
+        attributor.Attribute(lines);
+
+        Assert.Equal(0, GC.GetAllocatedBytesForCurrentThread() - before);
+    }
+
     private static double Fold(double f, double fs) => Math.Abs(f - (Math.Round(f / fs) * fs));
 
     private static FrameLine[] Lines(params (double FrequencyHz, double AmplitudeUvRms)[] lines) =>

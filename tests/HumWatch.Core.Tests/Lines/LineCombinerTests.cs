@@ -68,6 +68,28 @@ public sealed class LineCombinerTests
         Assert.Equal(14_000, combiner.Lines[0].EvidenceEndSampleIndex);
     }
 
+    [Fact]
+    public void Combine_with_evidence_dating_allocates_nothing()
+    {
+        var segments = new FakeSegments(1001, 3, 2000, 1000, 0, cacheRows: true);
+        segments.AddTone(0, 1, 200, 50);
+        var combiner = new LineCombiner(3, Stride, BinHz, 8, 3, 16);
+        var peaks = new ChannelPeak[3 * Stride];
+        var counts = new int[3];
+        for (var c = 0; c < 3; c++)
+        {
+            Put(peaks, counts, c, 50 + (0.01 * c), 1 + c);
+            Put(peaks, counts, c, 100 + (0.01 * c), 2 + c);
+            Put(peaks, counts, c, 150, 3);
+        }
+
+        combiner.Combine(peaks, counts, 3, segments, 0, 4000);
+        var before = GC.GetAllocatedBytesForCurrentThread();
+        combiner.Combine(peaks, counts, 3, segments, 0, 4000);
+
+        Assert.Equal(0, GC.GetAllocatedBytesForCurrentThread() - before);
+    }
+
     private static void Put(ChannelPeak[] peaks, int[] counts, int channel, double frequencyHz, double amplitude)
     {
         var bin = (int)Math.Round(frequencyHz / BinHz);
@@ -80,8 +102,12 @@ public sealed class LineCombinerTests
         private readonly int _step;
         private readonly long _start;
 
-        public FakeSegments(int bins, int segments, int length, int step, long start)
+        private readonly double[][] _rows;
+
+        public FakeSegments(int bins, int segments, int length, int step, long start, bool cacheRows = false)
         {
+            _cacheRows = cacheRows;
+            _rows = new double[segments][];
             SegmentCount = segments;
             SegmentLength = length;
             _step = step;
@@ -108,10 +134,20 @@ public sealed class LineCombinerTests
             _periodograms[channel][segment, bin + 1] += height / 4;
         }
 
+        private readonly bool _cacheRows;
+
         public ReadOnlySpan<double> Periodogram(int channel, int segment)
         {
+            // Every channel shares channel 0's spectra beyond the ones the fake holds.
+            channel = Math.Min(channel, _periodograms.Length - 1);
             var bins = _periodograms[channel].GetLength(1);
+            if (_cacheRows && _rows[segment] is { } cached)
+            {
+                return cached;
+            }
+
             var row = new double[bins];
+            _rows[segment] = row;
             for (var b = 0; b < bins; b++)
             {
                 row[b] = _periodograms[channel][segment, b];
