@@ -134,7 +134,7 @@ internal sealed class LineAttributor
                 };
             }
 
-            candidates.Sort(default(ByLikelihood));
+            NoAllocSort.Sort(candidates, default(ByLikelihood));
             if (candidates.Length == 0)
             {
                 lines[l].Source = SourceMatch.None;
@@ -190,7 +190,8 @@ internal sealed class LineAttributor
                 }
 
                 var folded = Fold(expected, _sampleRateHz);
-                var match = new SourceMatch(source.Kind, source.Name, fundamental, h, expected > _nyquistHz, folded, observedHz - folded);
+                // Aliased follows the nominal harmonic, so a line sitting on Nyquist does not flip with f̂₀'s last decimal.
+                var match = new SourceMatch(source.Kind, source.Name, fundamental, h, h * source.NominalHz > _nyquistHz, folded, observedHz - folded);
                 target[n++] = new Candidate(match, s, false, 0, Math.Abs(unfolded - expected));
             }
         }

@@ -35,6 +35,7 @@ internal sealed class LineCombiner
     private readonly double[] _segmentFloorPower;
     private readonly double[] _floorScratch;
     private readonly FrameLine[] _pool;
+    private int _stampCounter;
 
     /// <param name="channelCount">Channels of the stream.</param>
     /// <param name="peakStride">Peak slots per channel in the flat peak array (the finder's capacity).</param>
@@ -106,12 +107,11 @@ internal sealed class LineCombiner
         }
 
         var entries = _entries.AsSpan(0, n);
-        entries.Sort(default(ByFrequency));
+        NoAllocSort.Sort(entries, default(ByFrequency));
 
         // Clusters of consecutive entries; each channel counts once per cluster (its strongest peak).
         var clusterCount = 0;
         var start = 0;
-        var stamp = 0;
         while (start < n)
         {
             var end = start + 1;
@@ -121,7 +121,8 @@ internal sealed class LineCombiner
                 end++;
             }
 
-            stamp++;
+            // Stamps keep rising across frames so the per-channel marks never need clearing.
+            var stamp = ++_stampCounter;
             var affected = 0;
             for (var i = start; i < end; i++)
             {
@@ -160,7 +161,7 @@ internal sealed class LineCombiner
         }
 
         var clusters = _clusters.AsSpan(0, clusterCount);
-        clusters.Sort(default(ByStrength));
+        NoAllocSort.Sort(clusters, default(ByStrength));
         var lineCount = Math.Min(clusterCount, _pool.Length);
         for (var l = 0; l < lineCount; l++)
         {
