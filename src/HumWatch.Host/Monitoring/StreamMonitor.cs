@@ -131,10 +131,11 @@ internal sealed class StreamMonitor : IAsyncDisposable
         {
             session.Append(chunk);
         }
-        catch (ArgumentException ex)
+        catch (Exception ex) when (ex is not OutOfMemoryException)
         {
-            // A chunk the analyser refuses must not take the stream down; the next one restarts the span.
+            // By design: a chunk that fails analysis must not take the stream down; the span restarts with the next one.
             _logger.ChunkFailed(ex, StreamId);
+            session.RestartAnalysis();
         }
 
         FramesAnalysed += session.FramesAnalysed - framesBefore;

@@ -76,6 +76,9 @@ internal sealed class StreamSession : IAnalysisFrameSink, IMinuteRowSink
         _analyzer.Append(chunk, this);
     }
 
+    /// <summary>Forgets the analysis span after a failure, so one bad moment cannot keep failing every later chunk.</summary>
+    public void RestartAnalysis() => _analyzer?.Reset();
+
     /// <summary>Ends the session: open alerts clear with "stream ended" and the open ledger minute is closed.</summary>
     public void End()
     {

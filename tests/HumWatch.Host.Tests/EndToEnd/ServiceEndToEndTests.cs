@@ -3,6 +3,7 @@ using System.Text.Json;
 using HumWatch.Formats.Edf;
 using HumWatch.Formats.Wire;
 using HumWatch.Host.Ingest;
+using HumWatch.Host.Tests.Ingest;
 using HumWatch.Host.Tests.Ingest.Support;
 using HumWatch.Simulation;
 using Microsoft.Extensions.DependencyInjection;

@@ -45,7 +45,7 @@ internal sealed class ServiceUnderTest : IAsyncDisposable
     public static Dictionary<string, string?> Settings(string folder) => new()
     {
         ["Ingest:Endpoints:0:Address"] = "tcp://127.0.0.1:*",
-        ["Publish:Endpoint"] = "tcp://127.0.0.1",
+        ["Publish:Endpoint"] = "tcp://127.0.0.1:*",
         ["Publish:StatusIntervalSeconds"] = "1",
         ["Store:Path"] = Path.Combine(folder, "humwatch.db"),
         ["Logs:Folder"] = Path.Combine(folder, "logs"),
