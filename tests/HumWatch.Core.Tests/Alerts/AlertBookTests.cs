@@ -27,6 +27,7 @@ public sealed class AlertBookTests
         }
     }
 
+    // Raise/clear counts with separate thresholds (hysteresis): common practice, no source.
     [Fact]
     public void Alert_is_raised_exactly_on_the_RaiseAfterFrames_th_consecutive_frame()
     {

@@ -100,4 +100,21 @@ public sealed class AlertDispatcherTests : IDisposable
         Assert.Equal(["raised", "severity", "cleared"], store.Stored.Select(e => e.EventName));
         Assert.Equal(3, publisher.Topics.Count);
     }
+
+    [Fact]
+    public void Channel_faults_are_logged_without_line_numbers()
+    {
+        var logger = new RecordingLogger<AlertDispatcher>();
+        var dispatcher = new AlertDispatcher(new RecordingStore(_steps), new RecordingPublisher(_steps), logger);
+        var fault = new AlertRaised("room-a", "fault/Cz/flat", AlertCategory.ChannelFault, Core.Attribution.SourceMatch.None,
+            Core.Faults.ChannelFaultKind.Flat, 12, Some.Utc, 4, Some.Utc.AddSeconds(-8), double.NaN, double.NaN, 0.25, ["Cz"],
+            "Cz is flat: check that the electrode is attached and its lead is plugged in.", AlertSeverity.Marked);
+
+        dispatcher.Dispatch(fault);
+
+        var entry = Assert.Single(logger.Entries);
+        Assert.Equal(3003, entry.EventId.Id);
+        Assert.DoesNotContain("NaN", entry.Message, StringComparison.Ordinal);
+        Assert.Contains("fault/Cz/flat", entry.Message, StringComparison.Ordinal);
+    }
 }

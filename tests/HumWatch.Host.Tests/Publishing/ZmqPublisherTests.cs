@@ -26,7 +26,7 @@ public sealed class ZmqPublisherTests
         return subscriber.TryReceiveFrameBytes(TimeSpan.FromSeconds(5), out var body) ? (topic, body) : null;
     }
 
-    /// <summary>PUB drops until the subscription has reached it: probe with status messages, a bounded number of times.</summary>
+    /// <summary>PUB drops until the subscription has reached it (ZeroMQ guide's slow joiner, from memory): probe a bounded number of times.</summary>
     private static void WaitUntilSubscribed(ZmqPublisher publisher, SubscriberSocket subscriber)
     {
         var probe = Messages.For(new StatusMessage(1, "probe", Some.Utc, 0, 0, 0, 0, 0, 0, null));

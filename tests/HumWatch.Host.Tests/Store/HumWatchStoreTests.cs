@@ -34,7 +34,7 @@ public sealed class HumWatchStoreTests : IDisposable
             Assert.Equal(1, store.SchemaVersion);
         }
 
-        Assert.Equal("wal", RawScalar("PRAGMA journal_mode", "sub/dir/store.db")); // SQLite docs: WAL mode is persistent
+        Assert.Equal("wal", RawScalar("PRAGMA journal_mode", "sub/dir/store.db")); // SQLite docs: WAL journal mode is persistent across connections (from memory)
         Assert.Equal(1L, RawScalar("SELECT max(version) FROM schema_version", "sub/dir/store.db"));
         Assert.Equal(5L, RawScalar("SELECT count(*) FROM sqlite_master WHERE type = 'table' AND name IN ('alerts', 'minute_ledger', 'minute_ledger_parts', 'file_journal', 'schema_version')", "sub/dir/store.db"));
     }
