@@ -149,4 +149,35 @@ public sealed class MinuteLedgerTests
         Assert.All(_rows.Rows, r => Assert.Equal("file-3f2a", r.SessionId));
         Assert.Equal(Enumerable.Range(1, _rows.Rows.Count).Select(i => (long)i), _rows.Rows.Select(r => r.Sequence));
     }
+
+    [Fact]
+    public void Random_hops_and_gaps_are_counted_once_each_and_never_overfill_a_minute()
+    {
+        var random = new Random(2026);
+        var start = new DateTimeOffset(2026, 3, 2, 23, 58, 13, TimeSpan.Zero);
+        var ledger = new MinuteLedger("room-a", "s");
+        double spanStart = 0, expectedSeconds = 0, lastEnd = 0;
+        for (var i = 0; i < 500; i++)
+        {
+            if (i > 0 && random.NextDouble() < 0.05)
+            {
+                // Gap: the analyser restarts the span somewhere later.
+                spanStart = lastEnd + 1 + random.Next(0, 90);
+            }
+
+            var end = spanStart + 8;
+            expectedSeconds += end - Math.Max(spanStart, lastEnd);
+            ledger.Observe(_builder.Frame(spanStart, end, [Mains(2)]), start.AddSeconds(end), _rows);
+            lastEnd = end;
+            spanStart += 2;
+        }
+
+        ledger.Flush(_rows);
+        var all = _rows.Rows.Where(r => r.SourceKey == MinuteLedger.AllSourcesKey).ToList();
+        Assert.Equal(expectedSeconds, all.Sum(r => r.MonitoredSeconds), 6);
+        Assert.Equal(expectedSeconds, _rows.Rows.Where(r => r.SourceKey == "mains/h1").Sum(r => r.AffectedSeconds), 6);
+        Assert.All(all, r => Assert.InRange(r.MonitoredSeconds, 1e-9, 60 + 1e-9));
+        Assert.Equal(all.Count, all.Select(r => r.MinuteUtc).Distinct().Count());
+        Assert.Contains(all, r => r.MinuteUtc.Day == 3); // crosses UTC midnight
+    }
 }

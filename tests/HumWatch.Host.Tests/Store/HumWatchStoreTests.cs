@@ -223,4 +223,37 @@ public sealed class HumWatchStoreTests : IDisposable
         Assert.Contains(errors, e => e.StartsWith("Store:BusyTimeoutMs", StringComparison.Ordinal));
         Assert.Empty(new StoreOptions().Validate());
     }
+
+    [Fact]
+    public void Concurrent_claims_of_one_file_hand_it_out_once()
+    {
+        using var store = Open();
+        var wins = 0;
+        Parallel.For(0, 8, i =>
+        {
+            if (store.TryBegin("/in/c.edf", 99, Some.Utc, "abcdef", out _))
+            {
+                Interlocked.Increment(ref wins);
+            }
+        });
+
+        Assert.Equal(1, wins);
+    }
+
+    [Fact]
+    public void Concurrent_writers_share_one_store_safely()
+    {
+        using var store = Open();
+        Parallel.For(0, 40, i =>
+        {
+            store.AppendAlert(Some.Raised(stream: $"room-{i % 4}"));
+            store.AddMinuteRows([Some.Row($"session-{i}", 1, 1, 1, i, i)]);
+        });
+
+        Assert.Equal(40, store.AlertsBetween(Some.Utc, Some.Utc.AddSeconds(1)).Count);
+        var row = Assert.Single(store.LedgerRows("room-a", Some.Utc.AddMinutes(-1), Some.Utc.AddMinutes(1)));
+        Assert.Equal(40, row.MonitoredSeconds, 9);
+        Assert.Equal(39, row.MaxUvRms);
+        Assert.Equal(40, row.Parts);
+    }
 }
