@@ -23,7 +23,7 @@ public sealed class AlertBook
     private StreamLayout? _layout;
 
     /// <param name="streamId">Stream the events belong to.</param>
-    /// <param name="options">Validated options; copied values are read on each frame.</param>
+    /// <param name="options">Validated options, read on each frame: do not change them while the book is in use.</param>
     public AlertBook(string streamId, AlertOptions options)
     {
         ArgumentException.ThrowIfNullOrWhiteSpace(streamId);
