@@ -180,4 +180,32 @@ public sealed class MinuteLedgerTests
         Assert.Equal(all.Count, all.Select(r => r.MinuteUtc).Distinct().Count());
         Assert.Contains(all, r => r.MinuteUtc.Day == 3); // crosses UTC midnight
     }
+
+    [Fact]
+    public void Frames_inside_a_minute_allocate_nothing_once_warm()
+    {
+        var start = new DateTimeOffset(2026, 3, 2, 10, 0, 0, TimeSpan.Zero);
+        var ledger = new MinuteLedger("room-a", "s");
+        LineSpec[] lines = [Mains(2, 1, 0), new(FrameBuilder.Display(75), 75.0, 3, 0.5, 2)];
+        ChannelFault[] faults = [new(3, ChannelFaultKind.Flat, 1)];
+        double end = 8;
+        for (; end <= 180; end += 2)
+        {
+            ledger.Observe(_builder.Frame(end - 8, end, lines, faults, 50.0), start.AddSeconds(end), _rows);
+        }
+
+        // Frames ending at 184 … 236 s lie inside minute 3 (the one ending at 182 s opened it).
+        ledger.Observe(_builder.Frame(end - 8, end, lines, faults, 50.0), start.AddSeconds(end), _rows);
+        end += 2;
+        var rowsBefore = _rows.Rows.Count;
+        var before = GC.GetAllocatedBytesForCurrentThread();
+        for (; end <= 236; end += 2)
+        {
+            ledger.Observe(_builder.Frame(end - 8, end, lines, faults, 50.0), start.AddSeconds(end), _rows);
+        }
+
+        var allocated = GC.GetAllocatedBytesForCurrentThread() - before;
+        Assert.Equal(rowsBefore, _rows.Rows.Count);
+        Assert.Equal(0, allocated);
+    }
 }
