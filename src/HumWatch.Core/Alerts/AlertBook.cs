@@ -23,7 +23,7 @@ public sealed class AlertBook
     private StreamLayout? _layout;
 
     /// <param name="streamId">Stream the events belong to.</param>
-    /// <param name="options">Validated options; copied values are read on each frame.</param>
+    /// <param name="options">Validated options, read on each frame: do not change them while the book is in use.</param>
     public AlertBook(string streamId, AlertOptions options)
     {
         ArgumentException.ThrowIfNullOrWhiteSpace(streamId);
@@ -228,8 +228,18 @@ public sealed class AlertBook
         track.AboveRun++;
         if (track.AboveRun == 1 && !track.Raised)
         {
-            track.OnsetSeconds = frame.StartSeconds;
-            track.OnsetUtc = frameEndUtc - TimeSpan.FromSeconds(frame.EndSeconds - frame.StartSeconds);
+            // The line's own evidence dates the onset to one Welch segment step; otherwise the span start.
+            var onsetSample = frame.StartSampleIndex;
+            if (track.Category == AlertCategory.Line
+                && track.FrameEvidenceEnd > track.FrameEvidenceStart
+                && track.FrameEvidenceStart >= frame.StartSampleIndex
+                && track.FrameEvidenceStart < frame.EndSampleIndex)
+            {
+                onsetSample = track.FrameEvidenceStart;
+            }
+
+            track.OnsetSeconds = onsetSample / frame.Layout.SampleRateHz;
+            track.OnsetUtc = frameEndUtc - TimeSpan.FromSeconds(frame.EndSeconds - track.OnsetSeconds);
             track.PeakAmplitudeUvRms = double.NaN;
         }
 
@@ -417,6 +427,8 @@ public sealed class AlertBook
         public double FrameAmplitudeUvRms;
         public double FrameFrequencyHz;
         public double FrameShare;
+        public long FrameEvidenceStart;
+        public long FrameEvidenceEnd;
         public readonly int[] FrameWorst = new int[FrameLine.MaxWorstChannels];
         public int FrameWorstCount;
         public int AboveRun;
@@ -454,6 +466,8 @@ public sealed class AlertBook
         public void BeginFrame()
         {
             SeenThisFrame = false;
+            FrameEvidenceStart = 0;
+            FrameEvidenceEnd = 0;
             FrameAmplitudeUvRms = double.NaN;
             FrameWorstCount = 0;
         }
@@ -470,6 +484,8 @@ public sealed class AlertBook
             FrameAmplitudeUvRms = line.AmplitudeUvRms;
             FrameFrequencyHz = line.FrequencyHz;
             FrameShare = line.ChannelShare;
+            FrameEvidenceStart = line.EvidenceStartSampleIndex;
+            FrameEvidenceEnd = line.EvidenceEndSampleIndex;
             var worst = line.WorstChannels;
             FrameWorstCount = worst.Length;
             worst.CopyTo(FrameWorst);

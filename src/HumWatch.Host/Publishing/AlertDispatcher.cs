@@ -60,14 +60,16 @@ internal sealed class AlertDispatcher : IAlertEventSink
         {
             // Earlier failures first, so the store keeps event order.
             var recovered = 0;
+            Exception? retryFailure = null;
             while (_unstored.Count > 0)
             {
                 try
                 {
                     _store.AppendAlert(_unstored.Peek());
                 }
-                catch (Exception)
+                catch (Exception ex)
                 {
+                    retryFailure = ex;
                     break;
                 }
 
@@ -96,7 +98,7 @@ internal sealed class AlertDispatcher : IAlertEventSink
             }
 
             Keep(alertEvent);
-            _logger.StoreFailed(new InvalidOperationException("Store still failing."), alertEvent.EventName, alertEvent.Key, alertEvent.StreamId, _unstored.Count);
+            _logger.StoreFailed(retryFailure!, alertEvent.EventName, alertEvent.Key, alertEvent.StreamId, _unstored.Count);
             return false;
         }
     }
@@ -118,11 +120,17 @@ internal sealed class AlertDispatcher : IAlertEventSink
         {
             switch (alertEvent)
             {
+                case AlertRaised { Category: AlertCategory.ChannelFault } f:
+                    _logger.FaultRaised(f.StreamId, f.Key, f.Severity.ToText(), f.Suggestion);
+                    break;
                 case AlertRaised r:
                     _logger.AlertRaised(r.StreamId, r.Key, r.FrequencyHz, r.AmplitudeUvRms, r.Severity.ToText(), string.Join(", ", r.WorstChannels), r.Suggestion);
                     break;
                 case AlertSeverityChanged s:
                     _logger.AlertSeverityChanged(s.StreamId, s.Key, s.PreviousSeverity.ToText(), s.NewSeverity.ToText(), s.AmplitudeUvRms);
+                    break;
+                case AlertCleared { Category: AlertCategory.ChannelFault } f:
+                    _logger.FaultCleared(f.StreamId, f.Key, f.Reason.ToText(), f.DurationSeconds);
                     break;
                 case AlertCleared c:
                     _logger.AlertCleared(c.StreamId, c.Key, c.Reason.ToText(), c.DurationSeconds, c.PeakAmplitudeUvRms, c.PeakSeverity.ToText());

@@ -17,6 +17,12 @@ internal static partial class PublishingLog
         Message = "Alert cleared on {Stream}: {Key} ({Reason}) after {DurationSeconds:0} s, peak {PeakUvRms:0.0} µV RMS, peak severity {PeakSeverity}")]
     public static partial void AlertCleared(this ILogger logger, string stream, string key, string reason, double durationSeconds, double peakUvRms, string peakSeverity);
 
+    [LoggerMessage(EventId = 3003, Level = LogLevel.Warning, Message = "Channel fault on {Stream}: {Key}, {Severity}. {Suggestion}")]
+    public static partial void FaultRaised(this ILogger logger, string stream, string key, string severity, string suggestion);
+
+    [LoggerMessage(EventId = 3004, Level = LogLevel.Information, Message = "Channel fault cleared on {Stream}: {Key} ({Reason}) after {DurationSeconds:0} s")]
+    public static partial void FaultCleared(this ILogger logger, string stream, string key, string reason, double durationSeconds);
+
     [LoggerMessage(EventId = 3010, Level = LogLevel.Error,
         Message = "Could not store the {Event} event of {Key} on {Stream}; it is kept in memory ({Pending} waiting) and retried with the next event")]
     public static partial void StoreFailed(this ILogger logger, Exception exception, string @event, string key, string stream, int pending);

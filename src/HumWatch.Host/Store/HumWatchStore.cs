@@ -17,7 +17,7 @@ namespace HumWatch.Host.Store;
 /// later session's rows for the same minute add to it. Files use their content hash as the session, so re-processing
 /// an interrupted file repeats the same (session, sequence) pairs and adds nothing twice.
 /// </remarks>
-internal sealed class HumWatchStore : IAlertEventStore, IDisposable
+internal sealed class HumWatchStore : IAlertEventStore, ILedgerStore, IDisposable
 {
     private readonly Lock _gate = new();
     private readonly SqliteConnection _connection;

@@ -27,6 +27,7 @@ public sealed class AlertBookTests
         }
     }
 
+    // Raise/clear counts with separate thresholds (hysteresis): common practice, no source.
     [Fact]
     public void Alert_is_raised_exactly_on_the_RaiseAfterFrames_th_consecutive_frame()
     {
@@ -49,6 +50,20 @@ public sealed class AlertBookTests
         Assert.Equal(2, raised.AmplitudeUvRms, 9);
         Assert.Contains("ground", raised.Suggestion, StringComparison.Ordinal);
         Assert.Single(book.Active);
+    }
+
+    [Fact]
+    public void Onset_is_dated_by_the_line_evidence_when_the_analyser_gives_it()
+    {
+        var (book, clock) = NewBook();
+        Feed(book, clock, 2);
+        // Third frame spans 4–12 s; the line shows only in segments from 8 s on.
+        Feed(book, clock, 1, Mains(2) with { Evidence = (8, 12) });
+        Feed(book, clock, 2, Mains(2) with { Evidence = (6, 14) });
+
+        var raised = Assert.IsType<AlertRaised>(Assert.Single(_sink.Events));
+        Assert.Equal(8, raised.OnsetSeconds, 9);
+        Assert.Equal(Start + TimeSpan.FromSeconds(8), raised.OnsetUtc);
     }
 
     [Fact]
@@ -309,5 +324,54 @@ public sealed class AlertBookTests
         Assert.Equal(AlertSeverity.Minor, options.SeverityOf(1));
         Assert.Equal(AlertSeverity.Marked, options.SeverityOf(5));
         Assert.Equal(AlertSeverity.Severe, options.SeverityOf(20));
+    }
+
+    [Theory]
+    [InlineData(3, 5, 11)]
+    [InlineData(1, 1, 12)]
+    [InlineData(4, 2, 13)]
+    public void Raise_and_clear_frames_match_a_plain_counter_model_on_random_presence(int raiseAfter, int clearAfter, int seed)
+    {
+        var (book, clock) = NewBook(new AlertOptions { RaiseAfterFrames = raiseAfter, ClearAfterFrames = clearAfter });
+        var random = new Random(seed);
+        var expected = new List<string>();
+        var actual = new List<string>();
+        bool raised = false;
+        int above = 0, below = 0;
+        for (var frame = 0; frame < 2000; frame++)
+        {
+            var present = random.NextDouble() < 0.6;
+            // Reference model: consecutive-frame counters, written independently of AlertBook.
+            if (present)
+            {
+                above++;
+                below = 0;
+                if (!raised && above == raiseAfter)
+                {
+                    raised = true;
+                    expected.Add($"raised@{frame}");
+                }
+            }
+            else
+            {
+                above = 0;
+                below++;
+                if (raised && below == clearAfter)
+                {
+                    raised = false;
+                    expected.Add($"cleared@{frame}");
+                }
+            }
+
+            var count = _sink.Events.Count;
+            Feed(book, clock, 1, present ? [Mains(2)] : []);
+            for (var i = count; i < _sink.Events.Count; i++)
+            {
+                actual.Add($"{_sink.Events[i].EventName}@{frame}");
+            }
+        }
+
+        Assert.True(expected.Count > 10, "The random sequence should raise and clear several times.");
+        Assert.Equal(expected, actual);
     }
 }

@@ -149,4 +149,63 @@ public sealed class MinuteLedgerTests
         Assert.All(_rows.Rows, r => Assert.Equal("file-3f2a", r.SessionId));
         Assert.Equal(Enumerable.Range(1, _rows.Rows.Count).Select(i => (long)i), _rows.Rows.Select(r => r.Sequence));
     }
+
+    [Fact]
+    public void Random_hops_and_gaps_are_counted_once_each_and_never_overfill_a_minute()
+    {
+        var random = new Random(2026);
+        var start = new DateTimeOffset(2026, 3, 2, 23, 58, 13, TimeSpan.Zero);
+        var ledger = new MinuteLedger("room-a", "s");
+        double spanStart = 0, expectedSeconds = 0, lastEnd = 0;
+        for (var i = 0; i < 500; i++)
+        {
+            if (i > 0 && random.NextDouble() < 0.05)
+            {
+                // Gap: the analyser restarts the span somewhere later.
+                spanStart = lastEnd + 1 + random.Next(0, 90);
+            }
+
+            var end = spanStart + 8;
+            expectedSeconds += end - Math.Max(spanStart, lastEnd);
+            ledger.Observe(_builder.Frame(spanStart, end, [Mains(2)]), start.AddSeconds(end), _rows);
+            lastEnd = end;
+            spanStart += 2;
+        }
+
+        ledger.Flush(_rows);
+        var all = _rows.Rows.Where(r => r.SourceKey == MinuteLedger.AllSourcesKey).ToList();
+        Assert.Equal(expectedSeconds, all.Sum(r => r.MonitoredSeconds), 6);
+        Assert.Equal(expectedSeconds, _rows.Rows.Where(r => r.SourceKey == "mains/h1").Sum(r => r.AffectedSeconds), 6);
+        Assert.All(all, r => Assert.InRange(r.MonitoredSeconds, 1e-9, 60 + 1e-9));
+        Assert.Equal(all.Count, all.Select(r => r.MinuteUtc).Distinct().Count());
+        Assert.Contains(all, r => r.MinuteUtc.Day == 3); // crosses UTC midnight
+    }
+
+    [Fact]
+    public void Frames_inside_a_minute_allocate_nothing_once_warm()
+    {
+        var start = new DateTimeOffset(2026, 3, 2, 10, 0, 0, TimeSpan.Zero);
+        var ledger = new MinuteLedger("room-a", "s");
+        LineSpec[] lines = [Mains(2, 1, 0), new(FrameBuilder.Display(75), 75.0, 3, 0.5, 2)];
+        ChannelFault[] faults = [new(3, ChannelFaultKind.Flat, 1)];
+        double end = 8;
+        for (; end <= 180; end += 2)
+        {
+            ledger.Observe(_builder.Frame(end - 8, end, lines, faults, 50.0), start.AddSeconds(end), _rows);
+        }
+
+        // Frames ending at 184 … 236 s lie inside minute 3 (the one ending at 182 s opened it).
+        ledger.Observe(_builder.Frame(end - 8, end, lines, faults, 50.0), start.AddSeconds(end), _rows);
+        end += 2;
+        var rowsBefore = _rows.Rows.Count;
+        var before = GC.GetAllocatedBytesForCurrentThread();
+        for (; end <= 236; end += 2)
+        {
+            ledger.Observe(_builder.Frame(end - 8, end, lines, faults, 50.0), start.AddSeconds(end), _rows);
+        }
+
+        var allocated = GC.GetAllocatedBytesForCurrentThread() - before;
+        Assert.Equal(rowsBefore, _rows.Rows.Count);
+        Assert.Equal(0, allocated);
+    }
 }

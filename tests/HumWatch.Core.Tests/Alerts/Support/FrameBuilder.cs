@@ -7,7 +7,11 @@ using HumWatch.Core.Signals;
 namespace HumWatch.Core.Tests.Alerts.Support;
 
 /// <summary>A line to put into a built frame.</summary>
-internal sealed record LineSpec(SourceMatch Source, double FrequencyHz, double AmplitudeUvRms, double ChannelShare, params int[] WorstChannels);
+internal sealed record LineSpec(SourceMatch Source, double FrequencyHz, double AmplitudeUvRms, double ChannelShare, params int[] WorstChannels)
+{
+    /// <summary>Where the line's evidence starts and ends within the span, s from the stream start; NaN leaves it unset.</summary>
+    public (double StartSeconds, double EndSeconds) Evidence { get; init; } = (double.NaN, double.NaN);
+}
 
 /// <summary>
 /// Builds frames the way the analyser emits them (one reused frame object, pooled lines) through the internal
@@ -62,6 +66,9 @@ internal sealed class FrameBuilder
             line.MaxAmplitudeUvRms = spec.AmplitudeUvRms;
             line.ChannelShare = spec.ChannelShare;
             line.AffectedChannelCount = (int)Math.Round(spec.ChannelShare * Layout.ChannelCount);
+            var evidenceSet = double.IsFinite(spec.Evidence.StartSeconds);
+            line.EvidenceStartSampleIndex = evidenceSet ? (long)Math.Round(spec.Evidence.StartSeconds * SampleRateHz) : 0;
+            line.EvidenceEndSampleIndex = evidenceSet ? (long)Math.Round(spec.Evidence.EndSeconds * SampleRateHz) : 0;
             for (var w = 0; w < spec.WorstChannels.Length; w++)
             {
                 // Descending amplitudes so the order given is kept.

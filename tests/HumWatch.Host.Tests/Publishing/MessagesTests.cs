@@ -1,0 +1,84 @@
+using System.Text.Json;
+using HumWatch.Core.Alerts;
+using HumWatch.Core.Attribution;
+using HumWatch.Core.Faults;
+using HumWatch.Host.Publishing;
+using HumWatch.Host.Tests.Publishing.Support;
+using Xunit;
+
+namespace HumWatch.Host.Tests.Publishing;
+
+public sealed class MessagesTests
+{
+    private static JsonElement Parse(byte[] body) => JsonDocument.Parse(body).RootElement.Clone();
+
+    [Fact]
+    public void Raised_event_becomes_an_alert_body_with_camel_case_fields()
+    {
+        var (kind, body) = Messages.For(Some.Raised());
+        Assert.Equal("alert", kind);
+        var json = Parse(body);
+        Assert.Equal(1, json.GetProperty("v").GetInt32());
+        Assert.Equal("room-a", json.GetProperty("stream").GetString());
+        Assert.Equal("mains", json.GetProperty("kind").GetString());
+        Assert.Equal("mains", json.GetProperty("source").GetString());
+        Assert.Equal(1, json.GetProperty("harmonic").GetInt32());
+        Assert.False(json.GetProperty("aliased").GetBoolean());
+        Assert.Equal(50.02, json.GetProperty("frequencyHz").GetDouble());
+        Assert.Equal(6.5, json.GetProperty("amplitudeUvRms").GetDouble());
+        Assert.Equal(0.75, json.GetProperty("channelShare").GetDouble());
+        Assert.Equal("marked", json.GetProperty("severity").GetString());
+        Assert.Equal(["Cz", "Fp1"], json.GetProperty("worstChannels").EnumerateArray().Select(e => e.GetString()));
+        Assert.Equal(Some.Utc, json.GetProperty("utc").GetDateTimeOffset());
+        Assert.Equal(JsonValueKind.Null, json.GetProperty("previousSeverity").ValueKind);
+    }
+
+    [Fact]
+    public void Severity_change_names_both_severities()
+    {
+        var (kind, body) = Messages.For(Some.SeverityChanged());
+        Assert.Equal("alert", kind);
+        var json = Parse(body);
+        Assert.Equal("severity", json.GetProperty("event").GetString());
+        Assert.Equal("marked", json.GetProperty("previousSeverity").GetString());
+        Assert.Equal("severe", json.GetProperty("severity").GetString());
+    }
+
+    [Fact]
+    public void Cleared_fault_becomes_a_clear_body_with_nulls_for_missing_numbers()
+    {
+        var cleared = new AlertCleared("room-b", "fault/O1/clipped", AlertCategory.ChannelFault, SourceMatch.None, ChannelFaultKind.Clipped,
+            50, Some.Utc, double.NaN, AlertClearReason.StreamEnded, 20, double.NaN, AlertSeverity.Marked, AlertSeverity.Marked);
+        var (kind, body) = Messages.For(cleared);
+        Assert.Equal("clear", kind);
+        var json = Parse(body);
+        Assert.Equal("fault", json.GetProperty("kind").GetString());
+        Assert.Equal("clipped", json.GetProperty("fault").GetString());
+        Assert.Equal("stream ended", json.GetProperty("reason").GetString());
+        Assert.Equal(JsonValueKind.Null, json.GetProperty("frequencyHz").ValueKind);
+        Assert.Equal(JsonValueKind.Null, json.GetProperty("peakAmplitudeUvRms").ValueKind);
+        Assert.Equal(20, json.GetProperty("durationSeconds").GetDouble());
+    }
+
+    [Fact]
+    public void Status_body_carries_counters_and_lag()
+    {
+        var json = Parse(Messages.For(new StatusMessage(1, "room-a", Some.Utc, 1200, 3, 1, 600, 2, 1, 0.4)));
+        Assert.Equal(1, json.GetProperty("v").GetInt32());
+        Assert.Equal(1200, json.GetProperty("framesAnalysed").GetInt64());
+        Assert.Equal(3, json.GetProperty("linesPresent").GetInt32());
+        Assert.Equal(600, json.GetProperty("chunksAccepted").GetInt64());
+        Assert.Equal(2, json.GetProperty("chunksDropped").GetInt64());
+        Assert.Equal(1, json.GetProperty("chunksRejected").GetInt64());
+        Assert.Equal(0.4, json.GetProperty("lagSeconds").GetDouble());
+
+        var noLag = Parse(Messages.For(new StatusMessage(1, "room-a", Some.Utc, 0, 0, 0, 0, 0, 0, double.NaN)));
+        Assert.Equal(JsonValueKind.Null, noLag.GetProperty("lagSeconds").ValueKind);
+    }
+
+    [Fact]
+    public void Topic_is_kind_slash_stream()
+    {
+        Assert.Equal("summary/room-a", Messages.Topic(Messages.SummaryKind, "room-a"));
+    }
+}

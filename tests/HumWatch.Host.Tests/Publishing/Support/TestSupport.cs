@@ -1,0 +1,69 @@
+using HumWatch.Core.Alerts;
+using HumWatch.Core.Attribution;
+using HumWatch.Core.Ledger;
+using Microsoft.Extensions.Logging;
+
+namespace HumWatch.Host.Tests.Publishing.Support;
+
+/// <summary>A temp folder removed with everything in it.</summary>
+internal sealed class TempDirectory : IDisposable
+{
+    public TempDirectory()
+    {
+        Path = System.IO.Path.Combine(System.IO.Path.GetTempPath(), "humwatch-tests-" + Guid.NewGuid().ToString("N"));
+        Directory.CreateDirectory(Path);
+    }
+
+    public string Path { get; }
+
+    public string File(string name) => System.IO.Path.Combine(Path, name);
+
+    public void Dispose()
+    {
+        if (Directory.Exists(Path))
+        {
+            Directory.Delete(Path, recursive: true);
+        }
+    }
+}
+
+/// <summary>Keeps every log entry; optionally records each call into a shared step list.</summary>
+internal sealed class RecordingLogger<T>(List<string>? steps = null) : ILogger<T>
+{
+    public List<(LogLevel Level, EventId EventId, string Message, Exception? Exception)> Entries { get; } = [];
+
+    public IDisposable? BeginScope<TState>(TState state)
+        where TState : notnull => null;
+
+    public bool IsEnabled(LogLevel logLevel) => true;
+
+    public void Log<TState>(LogLevel logLevel, EventId eventId, TState state, Exception? exception, Func<TState, Exception?, string> formatter)
+    {
+        lock (Entries)
+        {
+            Entries.Add((logLevel, eventId, formatter(state, exception), exception));
+            steps?.Add("log");
+        }
+    }
+}
+
+/// <summary>Test data.</summary>
+internal static class Some
+{
+    public static readonly DateTimeOffset Utc = new(2026, 3, 2, 9, 15, 30, TimeSpan.Zero);
+
+    public static SourceMatch Mains(int harmonic = 1) => new(SourceKind.Mains, "mains", 50, harmonic, false, 50 * harmonic, 0);
+
+    public static AlertRaised Raised(string stream = "room-a", DateTimeOffset? utc = null) => new(
+        stream, "mains/h1", AlertCategory.Line, Mains(), null, 14, utc ?? Utc, 0, (utc ?? Utc).AddSeconds(-14), 50.02, 6.5, 0.75,
+        ["Cz", "Fp1"], "On most channels: check the ground and reference electrodes.", AlertSeverity.Marked);
+
+    public static AlertSeverityChanged SeverityChanged(string stream = "room-a") => new(
+        stream, "mains/h1", AlertCategory.Line, Mains(), null, 20, Utc.AddSeconds(6), 50.01, 22, 0.75, ["Cz"], AlertSeverity.Marked, AlertSeverity.Severe);
+
+    public static AlertCleared Cleared(string stream = "room-a") => new(
+        stream, "mains/h1", AlertCategory.Line, Mains(), null, 40, Utc.AddSeconds(26), 50.0, AlertClearReason.Subsided, 30, 22, AlertSeverity.Severe, AlertSeverity.Minor);
+
+    public static MinuteRow Row(string session, long sequence, double monitoredSeconds, double affectedSeconds, double maxUvRms, double medianUvRms, string key = "mains/h1", string stream = "room-a", double mainsHz = 50.01) =>
+        new(stream, session, sequence, new DateTimeOffset(2026, 3, 2, 9, 15, 0, TimeSpan.Zero), key, monitoredSeconds, affectedSeconds, maxUvRms, medianUvRms, ["Cz"], mainsHz);
+}

@@ -1,0 +1,259 @@
+using HumWatch.Core.Alerts;
+using HumWatch.Core.Ledger;
+using HumWatch.Host.Store;
+using HumWatch.Host.Tests.Publishing.Support;
+using Microsoft.Data.Sqlite;
+using Microsoft.Extensions.Time.Testing;
+using Xunit;
+
+namespace HumWatch.Host.Tests.Store;
+
+public sealed class HumWatchStoreTests : IDisposable
+{
+    private readonly TempDirectory _temp = new();
+    private readonly FakeTimeProvider _time = new(new DateTimeOffset(2026, 3, 2, 12, 0, 0, TimeSpan.Zero));
+
+    public void Dispose() => _temp.Dispose();
+
+    private HumWatchStore Open(string name = "store.db") => new(new StoreOptions { Path = _temp.File(name) }, _time);
+
+    private object? RawScalar(string sql, string name = "store.db")
+    {
+        using var connection = new SqliteConnection(new SqliteConnectionStringBuilder { DataSource = _temp.File(name), Pooling = false }.ToString());
+        connection.Open();
+        using var command = connection.CreateCommand();
+        command.CommandText = sql;
+        return command.ExecuteScalar();
+    }
+
+    [Fact]
+    public void Fresh_store_creates_the_schema_in_WAL_mode()
+    {
+        using (var store = Open("sub/dir/store.db"))
+        {
+            Assert.Equal(1, store.SchemaVersion);
+        }
+
+        Assert.Equal("wal", RawScalar("PRAGMA journal_mode", "sub/dir/store.db")); // SQLite docs: WAL journal mode is persistent across connections (from memory)
+        Assert.Equal(1L, RawScalar("SELECT max(version) FROM schema_version", "sub/dir/store.db"));
+        Assert.Equal(5L, RawScalar("SELECT count(*) FROM sqlite_master WHERE type = 'table' AND name IN ('alerts', 'minute_ledger', 'minute_ledger_parts', 'file_journal', 'schema_version')", "sub/dir/store.db"));
+    }
+
+    [Fact]
+    public void Reopening_keeps_data_and_runs_no_migration_twice()
+    {
+        using (var store = Open())
+        {
+            store.AppendAlert(Some.Raised());
+        }
+
+        using (var store = Open())
+        {
+            Assert.Equal(1, store.SchemaVersion);
+            Assert.Single(store.AlertsBetween(Some.Utc.AddHours(-1), Some.Utc.AddHours(1)));
+        }
+
+        Assert.Equal(1L, RawScalar("SELECT count(*) FROM schema_version"));
+    }
+
+    [Fact]
+    public void A_schema_newer_than_the_build_is_refused_with_a_clear_error()
+    {
+        Open().Dispose();
+        RawScalar("INSERT INTO schema_version (version, applied_utc_ms) VALUES (7, 0)");
+
+        var ex = Assert.Throws<InvalidOperationException>(() => Open());
+        Assert.Contains("schema version 7", ex.Message, StringComparison.Ordinal);
+        Assert.Contains("(1)", ex.Message, StringComparison.Ordinal);
+        Assert.Contains(_temp.File("store.db"), ex.Message, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void A_file_that_is_not_a_database_gives_an_error_naming_it()
+    {
+        File.WriteAllText(_temp.File("junk.db"), new string('x', 4096));
+        var ex = Assert.Throws<InvalidOperationException>(() => Open("junk.db"));
+        Assert.Contains(_temp.File("junk.db"), ex.Message, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void Alert_events_round_trip_and_are_found_by_local_day()
+    {
+        using var store = Open();
+        store.AppendAlert(Some.Raised());
+        store.AppendAlert(Some.SeverityChanged());
+        store.AppendAlert(Some.Cleared());
+        store.AppendAlert(Some.Raised(utc: Some.Utc.AddDays(1)));
+
+        // A fixed +01:00 zone: 2026-03-02 local is [2026-03-01T23:00Z, 2026-03-02T23:00Z).
+        var zone = TimeZoneInfo.CreateCustomTimeZone("Test+1", TimeSpan.FromHours(1), "Test+1", "Test+1");
+        var day = store.AlertsForDay(new DateOnly(2026, 3, 2), zone);
+        Assert.Equal(["raised", "severity", "cleared"], day.Select(a => a.Event));
+
+        var raised = day[0];
+        Assert.Equal("room-a", raised.Stream);
+        Assert.Equal("mains/h1", raised.Key);
+        Assert.Equal("mains", raised.Kind);
+        Assert.Equal("marked", raised.Severity);
+        Assert.Equal(1, raised.Harmonic);
+        Assert.Equal(["Cz", "Fp1"], raised.WorstChannels);
+        Assert.Equal(Some.Utc, raised.Utc);
+        Assert.Equal(Some.Utc.AddSeconds(-14), raised.OnsetUtc);
+        Assert.Equal(6.5, raised.AmplitudeUvRms);
+
+        var cleared = day[2];
+        Assert.Equal("subsided", cleared.Reason);
+        Assert.Equal(30, cleared.DurationSeconds);
+        Assert.Equal(22, cleared.PeakUvRms);
+        Assert.Equal("severe", cleared.PeakSeverity);
+
+        Assert.Equal([new DateOnly(2026, 3, 2), new DateOnly(2026, 3, 3)], store.ListDays(zone));
+        Assert.Equal(["room-a"], store.ListStreams());
+    }
+
+    [Fact]
+    public void Non_finite_values_are_stored_as_null()
+    {
+        using var store = Open();
+        var fault = new AlertCleared("room-a", "fault/Cz/flat", AlertCategory.ChannelFault, Core.Attribution.SourceMatch.None,
+            Core.Faults.ChannelFaultKind.Flat, 20, Some.Utc, double.NaN, AlertClearReason.StreamEnded, 12, double.NaN, AlertSeverity.Marked, AlertSeverity.Marked);
+        store.AppendAlert(fault);
+        var stored = Assert.Single(store.AlertsBetween(Some.Utc, Some.Utc.AddSeconds(1)));
+        Assert.Equal("fault", stored.Kind);
+        Assert.Null(stored.FrequencyHz);
+        Assert.Null(stored.PeakUvRms);
+        Assert.Equal("stream ended", stored.Reason);
+    }
+
+    [Fact]
+    public void Ledger_rows_of_two_sessions_add_seconds_and_keep_the_maximum()
+    {
+        using var store = Open();
+        Assert.Equal(1, store.AddMinuteRows([Some.Row("session-a", 1, 30, 20, maxUvRms: 8, medianUvRms: 4, mainsHz: 50.00)]));
+        Assert.Equal(1, store.AddMinuteRows([Some.Row("session-b", 1, 30, 10, maxUvRms: 5, medianUvRms: 1, mainsHz: 50.02)]));
+
+        var row = Assert.Single(store.LedgerRows("room-a", Some.Utc.AddMinutes(-5), Some.Utc.AddMinutes(5)));
+        Assert.Equal(60, row.MonitoredSeconds, 9);
+        Assert.Equal(30, row.AffectedSeconds, 9);
+        Assert.Equal(8, row.MaxUvRms);
+        Assert.Equal(3, row.MedianUvRms!.Value, 9); // affected-time weighted: (4·20 + 1·10) / 30
+        Assert.Equal(50.01, row.MainsHz!.Value, 9); // monitored-time weighted: (50.00·30 + 50.02·30) / 60
+        Assert.Equal(2, row.Parts);
+    }
+
+    [Fact]
+    public void A_re_delivered_ledger_row_is_not_counted_twice()
+    {
+        using (var store = Open())
+        {
+            MinuteRow[] rows = [Some.Row("file-ab12", 1, 60, 60, 3, 2), Some.Row("file-ab12", 2, 60, 0, double.NaN, double.NaN, key: MinuteLedger.AllSourcesKey)];
+            Assert.Equal(2, store.AddMinuteRows(rows));
+            Assert.Equal(0, store.AddMinuteRows(rows));
+        }
+
+        // After a restart the same file is processed again: same session and sequence numbers.
+        using (var store = Open())
+        {
+            Assert.Equal(0, store.AddMinuteRows([Some.Row("file-ab12", 1, 60, 60, 3, 2)]));
+            var rows = store.LedgerRows("room-a", Some.Utc.AddMinutes(-5), Some.Utc.AddMinutes(5));
+            Assert.Equal(2, rows.Count);
+            Assert.Equal(60, rows.Single(r => r.SourceKey == "mains/h1").MonitoredSeconds, 9);
+            Assert.Null(rows.Single(r => r.SourceKey == MinuteLedger.AllSourcesKey).MaxUvRms);
+        }
+    }
+
+    [Fact]
+    public void Ledger_query_selects_by_stream_and_utc_range()
+    {
+        using var store = Open();
+        store.AddMinuteRows([Some.Row("s", 1, 60, 0, 1, 1), Some.Row("s", 2, 60, 0, 1, 1, stream: "room-b")]);
+        var minute = new DateTimeOffset(2026, 3, 2, 9, 15, 0, TimeSpan.Zero);
+        Assert.Single(store.LedgerRows("room-a", minute, minute.AddMinutes(1)));
+        Assert.Empty(store.LedgerRows("room-a", minute.AddMinutes(1), minute.AddMinutes(2)));
+        Assert.Empty(store.LedgerRows("room-a", minute.AddMinutes(-1), minute));
+    }
+
+    [Fact]
+    public void File_journal_hands_out_each_file_exactly_once_across_restarts()
+    {
+        const string sha = "9F86D081884C7D659A2FEAA0C55AD015A3BF4F1B2B0B822CD15D6C15B0F00A08";
+        var mtime = new DateTimeOffset(2026, 3, 2, 8, 0, 0, TimeSpan.Zero);
+        using (var store = Open())
+        {
+            Assert.True(store.TryBegin("/in/a.edf", 1234, mtime, sha, out var first));
+            Assert.Equal(FileJournalState.Received, first.State);
+            Assert.Equal(_time.GetUtcNow(), first.Utc);
+            Assert.Equal(sha.ToLowerInvariant(), first.Sha256);
+
+            // Same content again while the first is in progress (e.g. copied under another name).
+            Assert.False(store.TryBegin("/in/copy-of-a.edf", 1234, mtime, sha, out var busy));
+            Assert.Equal(FileJournalState.Received, busy.State);
+        }
+
+        // Crash before Complete: after restart the file is handed out again, counted as a second attempt.
+        _time.Advance(TimeSpan.FromMinutes(3));
+        using (var store = Open())
+        {
+            Assert.True(store.TryBegin("/in/a.edf", 1234, mtime, sha, out var retry));
+            Assert.Equal(2, retry.Attempts);
+            var done = store.Complete(sha, 1234, FileJournalState.Archived, "/reports/a.json");
+            Assert.Equal(FileJournalState.Archived, done.State);
+            Assert.Equal("/reports/a.json", done.ReportPath);
+            Assert.Equal(_time.GetUtcNow(), done.Utc);
+        }
+
+        using (var store = Open())
+        {
+            Assert.False(store.TryBegin("/in/a-again.edf", 1234, mtime, sha, out var again));
+            Assert.Equal(FileJournalState.Archived, again.State);
+            Assert.Throws<InvalidOperationException>(() => store.Complete(sha, 1234, FileJournalState.Rejected));
+
+            Assert.True(store.TryBegin("/in/b.edf", 10, mtime, "00ff", out _));
+            var rejected = store.Complete("00FF", 10, FileJournalState.Rejected, reason: "not an EDF header");
+            Assert.Equal("not an EDF header", rejected.Reason);
+            Assert.False(store.TryBegin("/in/b.edf", 10, mtime, "00ff", out _));
+        }
+    }
+
+    [Fact]
+    public void Options_validation_names_the_keys()
+    {
+        var errors = new StoreOptions { Path = " ", BusyTimeoutMs = -1 }.Validate();
+        Assert.Contains(errors, e => e.StartsWith("Store:Path", StringComparison.Ordinal));
+        Assert.Contains(errors, e => e.StartsWith("Store:BusyTimeoutMs", StringComparison.Ordinal));
+        Assert.Empty(new StoreOptions().Validate());
+    }
+
+    [Fact]
+    public void Concurrent_claims_of_one_file_hand_it_out_once()
+    {
+        using var store = Open();
+        var wins = 0;
+        Parallel.For(0, 8, i =>
+        {
+            if (store.TryBegin("/in/c.edf", 99, Some.Utc, "abcdef", out _))
+            {
+                Interlocked.Increment(ref wins);
+            }
+        });
+
+        Assert.Equal(1, wins);
+    }
+
+    [Fact]
+    public void Concurrent_writers_share_one_store_safely()
+    {
+        using var store = Open();
+        Parallel.For(0, 40, i =>
+        {
+            store.AppendAlert(Some.Raised(stream: $"room-{i % 4}"));
+            store.AddMinuteRows([Some.Row($"session-{i}", 1, 1, 1, i, i)]);
+        });
+
+        Assert.Equal(40, store.AlertsBetween(Some.Utc, Some.Utc.AddSeconds(1)).Count);
+        var row = Assert.Single(store.LedgerRows("room-a", Some.Utc.AddMinutes(-1), Some.Utc.AddMinutes(1)));
+        Assert.Equal(40, row.MonitoredSeconds, 9);
+        Assert.Equal(39, row.MaxUvRms);
+        Assert.Equal(40, row.Parts);
+    }
+}

@@ -1,0 +1,69 @@
+using HumWatch.Core.Ledger;
+using HumWatch.Host.Store;
+using HumWatch.Host.Tests.Publishing.Support;
+using Microsoft.Extensions.Time.Testing;
+using Xunit;
+
+namespace HumWatch.Host.Tests.Store;
+
+public sealed class LedgerWriterTests : IDisposable
+{
+    private readonly TempDirectory _temp = new();
+
+    public void Dispose() => _temp.Dispose();
+
+    /// <summary>Fails the first N writes, then passes them to the real store.</summary>
+    private sealed class FlakyLedgerStore(ILedgerStore inner, int failures) : ILedgerStore
+    {
+        private int _failuresLeft = failures;
+
+        public int AddMinuteRows(IReadOnlyList<MinuteRow> rows)
+        {
+            if (_failuresLeft-- > 0)
+            {
+                throw new IOException("database is locked");
+            }
+
+            return inner.AddMinuteRows(rows);
+        }
+    }
+
+    [Fact]
+    public void Rows_refused_by_the_store_are_written_later_exactly_once()
+    {
+        using var store = new HumWatchStore(new StoreOptions { Path = _temp.File("l.db") }, new FakeTimeProvider(Some.Utc));
+        var logger = new RecordingLogger<LedgerWriter>();
+        var writer = new LedgerWriter(new FlakyLedgerStore(store, failures: 2), logger);
+
+        writer.OnMinuteRow(Some.Row("s1", 1, 20, 10, 3, 2));
+        Assert.False(writer.Flush());
+        writer.OnMinuteRow(Some.Row("s1", 2, 20, 10, 5, 4, key: MinuteLedger.AllSourcesKey));
+        Assert.False(writer.Flush());
+        Assert.Equal(2, writer.PendingCount);
+
+        Assert.True(writer.Flush());
+        Assert.Equal(0, writer.PendingCount);
+        Assert.True(writer.Flush());
+
+        var rows = store.LedgerRows("room-a", Some.Utc.AddMinutes(-1), Some.Utc.AddMinutes(1));
+        Assert.Equal(2, rows.Count);
+        Assert.All(rows, r => Assert.Equal(20, r.MonitoredSeconds, 9));
+        Assert.Equal(2, logger.Entries.Count(e => e.EventId.Id == 3100));
+        Assert.Contains(logger.Entries, e => e.EventId.Id == 3102);
+    }
+
+    [Fact]
+    public void The_backlog_is_bounded_and_drops_are_logged()
+    {
+        var logger = new RecordingLogger<LedgerWriter>();
+        var writer = new LedgerWriter(new FlakyLedgerStore(null!, failures: int.MaxValue), logger, maxPendingRows: 3);
+        for (var i = 1; i <= 5; i++)
+        {
+            writer.OnMinuteRow(Some.Row("s", i, 1, 0, 1, 1));
+        }
+
+        Assert.Equal(3, writer.PendingCount);
+        Assert.Equal(2, logger.Entries.Count(e => e.EventId.Id == 3101));
+        Assert.False(writer.Flush());
+    }
+}
