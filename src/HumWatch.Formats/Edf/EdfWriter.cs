@@ -2,8 +2,9 @@ using System.Buffers.Binary;
 using System.Globalization;
 using System.Runtime.InteropServices;
 using System.Text;
+using HumWatch.Formats.Edf;
 
-namespace HumWatch.Formats.Edf;
+namespace HumWatch.Formats;
 
 /// <summary>
 /// Streams an EDF, EDF+C, BDF or BDF+C file: the header first (record count −1), then one data record per

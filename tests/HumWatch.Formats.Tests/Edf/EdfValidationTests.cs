@@ -142,7 +142,7 @@ public sealed class EdfValidationTests : IDisposable
     [Fact]
     public void Non_ascii_label_in_plain_edf_is_accepted()
     {
-        var bytes = EdfBytes.SmallEdfPlus(kind: HumWatch.Formats.Edf.EdfFileKind.Edf);
+        var bytes = EdfBytes.SmallEdfPlus(kind: EdfFileKind.Edf);
         bytes[EdfBytes.SignalFieldOffset(2, 0, 0) + 3] = 0xE9; // "Fp1é" in Latin-1
         var path = _folder.Write("plain.edf", bytes);
         using var reader = RecordingReader.Open(path);
