@@ -131,3 +131,30 @@ public sealed class CsvReaderTests : IDisposable
         Assert.Equal(("O1", null), HumWatch.Formats.Csv.CsvRecordingReader.SplitUnit("O1"));
     }
 }
+
+public sealed class CsvEncodingTests : IDisposable
+{
+    private readonly TempFolder _folder = new();
+
+    public void Dispose() => _folder.Dispose();
+
+    [Fact]
+    public void Utf8_bom_crlf_line_ends_and_quoted_headers_are_accepted()
+    {
+        var path = _folder.File("bom.csv");
+        File.WriteAllText(path, "\"time\",\"Fp1 [µV]\"\r\n0,1.5\r\n0.002,2.5\r\n0.004,3.5\r\n", new System.Text.UTF8Encoding(encoderShouldEmitUTF8Identifier: true));
+        using var reader = RecordingReader.Open(path);
+        Assert.Equal(500.0, reader.Info.Groups[0].Layout.SampleRateHz);
+        Assert.Equal("Fp1", reader.Info.Groups[0].Layout.Channels[0].Label);
+        Assert.Equal([1.5f, 2.5f, 3.5f], reader.ReadChunks().Single().Chunk.Channel(0).ToArray());
+    }
+
+    [Fact]
+    public void Semicolon_file_may_use_decimal_commas()
+    {
+        var path = _folder.WriteText("comma.csv", "time;Cz\n0;1,25\n0,01;-2,5\n0,02;3\n");
+        using var reader = RecordingReader.Open(path);
+        Assert.Equal(100.0, reader.Info.Groups[0].Layout.SampleRateHz);
+        Assert.Equal([1.25f, -2.5f, 3f], reader.ReadChunks().Single().Chunk.Channel(0).ToArray());
+    }
+}
