@@ -244,9 +244,7 @@ public sealed class EdfWriter : IDisposable
         var used = Encoding.ASCII.GetBytes(keeping, target);
         while (_pendingAnnotations.Count > 0 && used + _pendingAnnotations.Peek().Bytes <= target.Length)
         {
-            var (tal, bytes) = _pendingAnnotations.Dequeue();
-            used += Encoding.UTF8.GetBytes(tal, target[used..]);
-            _ = bytes;
+            used += Encoding.UTF8.GetBytes(_pendingAnnotations.Dequeue().Tal, target[used..]);
         }
     }
 
