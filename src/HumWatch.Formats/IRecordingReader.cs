@@ -9,7 +9,7 @@ public interface IRecordingReader : IDisposable
     /// <summary>
     /// Streams the file once from the start, yielding chunks of about <paramref name="chunkSeconds"/> per signal group
     /// (whole EDF data records; at least one record). Each chunk owns its sample buffer, so it may be queued to
-    /// another thread. Memory stays bounded whatever the file size. Can be enumerated only once per reader.
+    /// another thread. Memory stays bounded whatever the file size. Each enumeration restarts at the first record; do not run two at once.
     /// </summary>
     /// <param name="chunkSeconds">Target chunk length in seconds; default 2 s; must be in (0, 3600].</param>
     /// <exception cref="RecordingFormatException">The file turns out to be malformed part-way through.</exception>

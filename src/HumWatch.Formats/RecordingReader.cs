@@ -20,6 +20,11 @@ public static class RecordingReader
         options ??= new RecordingReadOptions();
         options.Validate();
 
+        if (Directory.Exists(path))
+        {
+            throw new RecordingFormatException(path, "is a folder, not a recording file");
+        }
+
         Span<byte> magic = stackalloc byte[8];
         int read;
         try

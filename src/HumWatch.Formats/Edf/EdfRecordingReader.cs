@@ -1,6 +1,7 @@
 using System.Buffers;
 using System.Buffers.Binary;
 using System.Globalization;
+using System.Runtime.InteropServices;
 using HumWatch.Core.Signals;
 
 namespace HumWatch.Formats.Edf;
@@ -367,6 +368,14 @@ internal sealed class EdfRecordingReader : IRecordingReader
                         var j = i * 3;
                         var digital = src[j] | (src[j + 1] << 8) | ((sbyte)src[j + 2] << 16);
                         dst[i] = (float)((digital * scale) + offset);
+                    }
+                }
+                else if (BitConverter.IsLittleEndian)
+                {
+                    var src = MemoryMarshal.Cast<byte, short>(record.AsSpan(Plan.ByteOffsets[c], n * 2));
+                    for (var i = 0; i < dst.Length; i++)
+                    {
+                        dst[i] = (float)((src[i] * scale) + offset);
                     }
                 }
                 else

@@ -1,8 +1,10 @@
 using System.Buffers.Binary;
 using System.Globalization;
+using System.Runtime.InteropServices;
 using System.Text;
+using HumWatch.Formats.Edf;
 
-namespace HumWatch.Formats.Edf;
+namespace HumWatch.Formats;
 
 /// <summary>
 /// Streams an EDF, EDF+C, BDF or BDF+C file: the header first (record count −1), then one data record per
@@ -149,20 +151,29 @@ public sealed class EdfWriter : IDisposable
             double high = s.DigitalMax;
             var values = physical.Slice(src, s.SamplesPerRecord);
             var bytes = _record.AsSpan(dst, s.SamplesPerRecord * _bytesPerSample);
-            for (var j = 0; j < values.Length; j++)
+            if (_isBdf)
             {
-                var d = Math.Round((values[j] * inverse) + offset);
-                d = double.IsNaN(d) ? low : Math.Clamp(d, low, high);
-                var digital = (int)d;
-                if (_isBdf)
+                for (var j = 0; j < values.Length; j++)
                 {
+                    var digital = ToDigital(values[j], inverse, offset, low, high);
                     bytes[j * 3] = (byte)digital;
                     bytes[(j * 3) + 1] = (byte)(digital >> 8);
                     bytes[(j * 3) + 2] = (byte)(digital >> 16);
                 }
-                else
+            }
+            else if (BitConverter.IsLittleEndian)
+            {
+                var shorts = MemoryMarshal.Cast<byte, short>(bytes);
+                for (var j = 0; j < values.Length; j++)
                 {
-                    BinaryPrimitives.WriteInt16LittleEndian(bytes.Slice(j * 2, 2), (short)digital);
+                    shorts[j] = (short)ToDigital(values[j], inverse, offset, low, high);
+                }
+            }
+            else
+            {
+                for (var j = 0; j < values.Length; j++)
+                {
+                    BinaryPrimitives.WriteInt16LittleEndian(bytes.Slice(j * 2, 2), (short)ToDigital(values[j], inverse, offset, low, high));
                 }
             }
 
@@ -177,6 +188,18 @@ public sealed class EdfWriter : IDisposable
 
         _stream.Write(_record);
         RecordCount++;
+    }
+
+    private static int ToDigital(float value, double inverseGain, double offset, double low, double high)
+    {
+        var d = Math.Round((value * inverseGain) + offset);
+        if (!(d >= low))
+        {
+            // Also catches NaN, which has no digital code.
+            return (int)low;
+        }
+
+        return d > high ? (int)high : (int)d;
     }
 
     public void Dispose()
@@ -221,9 +244,7 @@ public sealed class EdfWriter : IDisposable
         var used = Encoding.ASCII.GetBytes(keeping, target);
         while (_pendingAnnotations.Count > 0 && used + _pendingAnnotations.Peek().Bytes <= target.Length)
         {
-            var (tal, bytes) = _pendingAnnotations.Dequeue();
-            used += Encoding.UTF8.GetBytes(tal, target[used..]);
-            _ = bytes;
+            used += Encoding.UTF8.GetBytes(_pendingAnnotations.Dequeue().Tal, target[used..]);
         }
     }
 

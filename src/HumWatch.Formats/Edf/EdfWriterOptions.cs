@@ -1,4 +1,4 @@
-namespace HumWatch.Formats.Edf;
+namespace HumWatch.Formats;
 
 /// <summary>Which flavour of file <see cref="EdfWriter"/> produces.</summary>
 public enum EdfFileKind

@@ -142,7 +142,7 @@ public sealed class EdfValidationTests : IDisposable
     [Fact]
     public void Non_ascii_label_in_plain_edf_is_accepted()
     {
-        var bytes = EdfBytes.SmallEdfPlus(kind: HumWatch.Formats.Edf.EdfFileKind.Edf);
+        var bytes = EdfBytes.SmallEdfPlus(kind: EdfFileKind.Edf);
         bytes[EdfBytes.SignalFieldOffset(2, 0, 0) + 3] = 0xE9; // "Fp1é" in Latin-1
         var path = _folder.Write("plain.edf", bytes);
         using var reader = RecordingReader.Open(path);
@@ -197,5 +197,52 @@ public sealed class EdfValidationTests : IDisposable
         using var reader = RecordingReader.Open(path);
         var ex = Assert.Throws<ArgumentOutOfRangeException>(() => reader.ReadChunks(0));
         Assert.Equal("chunkSeconds", ex.ParamName);
+    }
+}
+
+public sealed class RecordingReaderBoundaryTests : IDisposable
+{
+    private readonly TempFolder _folder = new();
+
+    public void Dispose() => _folder.Dispose();
+
+    [Fact]
+    public void A_folder_is_not_a_recording()
+    {
+        var ex = Assert.Throws<RecordingFormatException>(() => RecordingReader.Open(_folder.FullPath));
+        Assert.Equal(_folder.FullPath + ": is a folder, not a recording file", ex.Message);
+    }
+
+    [Theory]
+    [InlineData(0.0)]
+    [InlineData(-1.0)]
+    [InlineData(double.NaN)]
+    public void Minimum_analysis_rate_must_be_positive(double rateHz)
+    {
+        var path = _folder.Write("ok.edf", EdfBytes.SmallEdfPlus());
+        var ex = Assert.Throws<ArgumentOutOfRangeException>(() => RecordingReader.Open(path, new RecordingReadOptions { MinAnalysisRateHz = rateHz }));
+        Assert.Equal(nameof(RecordingReadOptions.MinAnalysisRateHz), ex.ParamName);
+    }
+
+    [Fact]
+    public void Bdf_digital_range_must_fit_24_bit_samples()
+    {
+        var bytes = EdfBytes.Patch(EdfBytes.SmallEdfPlus(kind: EdfFileKind.BdfPlusC), EdfBytes.SignalFieldOffset(3, 5, 0), 8, "-9000000");
+        var path = _folder.Write("range.bdf", bytes);
+        var ex = Assert.Throws<RecordingFormatException>(() => RecordingReader.Open(path));
+        Assert.Contains("signal 1 of 3 ('Fp1') digital range -9000000..8388607 does not fit the 24-bit samples", ex.Message, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void Bdf_plus_round_trips_through_the_reader()
+    {
+        var path = _folder.Write("ok.bdf", EdfBytes.SmallEdfPlus(records: 3, kind: EdfFileKind.BdfPlusC));
+        using var reader = RecordingReader.Open(path);
+        Assert.Equal("BDF+C", reader.Info.Format);
+        var chunks = reader.ReadChunks().Select(c => c.Chunk).ToList();
+        Assert.Equal([0L, 512L], chunks.Select(c => c.FirstSampleIndex));
+
+        // Fp1 = 100·sin(2π·50·n/256) µV, 24-bit steps of ~0.03 µV.
+        Assert.Equal(100 * Math.Sin(2 * Math.PI * 50 * 5 / 256.0), chunks[0].Channel(0)[5], 0.02);
     }
 }
