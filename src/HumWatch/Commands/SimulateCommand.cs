@@ -1,6 +1,6 @@
 using System.CommandLine;
 using System.Text.Json;
-using HumWatch.Formats.Edf;
+using HumWatch.Formats;
 using HumWatch.Simulation;
 
 namespace HumWatch.Cli.Commands;

@@ -1,6 +1,6 @@
 using System.Text;
 using System.Text.Json;
-using HumWatch.Formats.Edf;
+using HumWatch.Formats;
 using HumWatch.Formats.Wire;
 using HumWatch.Host.Ingest;
 using HumWatch.Host.Tests.Ingest;
