@@ -1,0 +1,188 @@
+using System.Text.Json;
+using HumWatch.Formats;
+using HumWatch.Simulation;
+using Xunit;
+
+namespace HumWatch.Cli.Tests;
+
+/// <summary>`humwatch check` as a pipeline uses it: exit codes, JSON report, readable report, bad input.</summary>
+public sealed class CheckCommandTests : IClassFixture<CheckCommandTests.Recordings>
+{
+    private readonly Recordings _files;
+
+    public CheckCommandTests(Recordings files) => _files = files;
+
+    [Fact]
+    public async Task A_recording_with_strong_mains_fails_with_exit_code_1_and_a_JSON_report_in_the_documented_shape()
+    {
+        var (code, output, _) = await CliRunner.RunAsync("check", _files.Mains, "--json");
+
+        Assert.Equal(1, code);
+        using var json = JsonDocument.Parse(output);
+        var report = json.RootElement;
+        Assert.Equal(_files.Mains, report.GetProperty("file").GetString());
+        Assert.Equal("fail", report.GetProperty("verdict").GetString());
+        Assert.Equal(250, report.GetProperty("sampleRateHz").GetDouble());
+        Assert.Equal(8, report.GetProperty("channelCount").GetInt32());
+        Assert.Equal(60, report.GetProperty("durationSeconds").GetDouble(), 3);
+        var mains = report.GetProperty("lines").EnumerateArray().Single(l => l.GetProperty("source").GetString() == "mains" && l.GetProperty("harmonic").GetInt32() == 1);
+        foreach (var field in new[] { "frequencyHz", "source", "harmonic", "aliased", "alsoPossible", "amplitudeUvRms", "prominenceDb", "channelShare", "worstChannels", "firstSeconds", "lastSeconds" })
+        {
+            Assert.True(mains.TryGetProperty(field, out _), $"line field {field} missing");
+        }
+
+        Assert.Equal(50, mains.GetProperty("frequencyHz").GetDouble(), 0.05);
+        Assert.InRange(mains.GetProperty("amplitudeUvRms").GetDouble(), 9 * 0.9, 9 * 1.1); // simulated 9 µV RMS
+        Assert.Equal(1.0, mains.GetProperty("channelShare").GetDouble(), 2);
+        Assert.False(mains.GetProperty("aliased").GetBoolean());
+        Assert.True(report.TryGetProperty("channelFaults", out _));
+        Assert.NotNull(report.GetProperty("caution").GetString());
+    }
+
+    [Fact]
+    public async Task A_quiet_recording_passes_with_exit_code_0()
+    {
+        var (code, output, error) = await CliRunner.RunAsync("check", _files.Quiet, "--json");
+
+        Assert.True(code == 0, error + output);
+        using var json = JsonDocument.Parse(output);
+        Assert.Equal("pass", json.RootElement.GetProperty("verdict").GetString());
+    }
+
+    [Fact]
+    public async Task Several_files_give_a_JSON_array_every_file_is_checked_and_the_worst_exit_code_wins()
+    {
+        var missing = Path.Combine(_files.Folder, "missing.edf");
+        var (code, output, error) = await CliRunner.RunAsync("check", _files.Quiet, _files.Garbage, missing, _files.Mains, "--json");
+
+        Assert.Equal(2, code);
+        using var json = JsonDocument.Parse(output);
+        var verdicts = json.RootElement.EnumerateArray().Select(r => r.GetProperty("verdict").GetString()).ToList();
+        Assert.Equal(["pass", "error", "error", "fail"], verdicts);
+
+        // One clear line on stderr per unreadable file, naming it.
+        var lines = error.Split('\n', StringSplitOptions.RemoveEmptyEntries).Where(l => l.StartsWith("humwatch check:", StringComparison.Ordinal)).ToList();
+        Assert.Contains(lines, l => l.Contains(_files.Garbage, StringComparison.Ordinal));
+        Assert.Contains(lines, l => l.Contains(missing, StringComparison.Ordinal));
+    }
+
+    [Fact]
+    public async Task The_readable_report_shows_the_line_its_explanation_and_the_safety_caution_once()
+    {
+        var (code, output, _) = await CliRunner.RunAsync("check", _files.Mains, _files.Mains);
+
+        Assert.Equal(1, code);
+        Assert.Contains("FAIL", output, StringComparison.Ordinal);
+        Assert.Contains("50.0", output, StringComparison.Ordinal);
+        Assert.Contains("mains", output, StringComparison.Ordinal);
+        Assert.Equal(1, CountOf(output, "Caution:"));
+    }
+
+    [Theory]
+    [InlineData("--mains", "55")]
+    [InlineData("--no-such-option", "1")]
+    public async Task Bad_arguments_exit_with_code_2(string option, string value)
+    {
+        var (code, _, error) = await CliRunner.RunAsync("check", _files.Quiet, option, value);
+
+        Assert.Equal(2, code);
+        Assert.Contains("humwatch", error, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public async Task A_configuration_value_out_of_range_exits_with_code_2_naming_the_key()
+    {
+        var config = Path.Combine(_files.Folder, "bad.json");
+        await File.WriteAllTextAsync(config, """{ "Analysis": { "Lines": { "MinProminenceDb": 1 } } }""");
+
+        var (code, _, error) = await CliRunner.RunAsync("check", _files.Quiet, "--config", config);
+
+        Assert.Equal(2, code);
+        Assert.Contains("Analysis:Lines:MinProminenceDb", error, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public async Task The_60_Hz_profile_names_a_60_Hz_line_mains_and_lists_a_60_Hz_display_as_also_possible()
+    {
+        var profile = Path.Combine(AppContext.BaseDirectory, "config", "site-60hz.json");
+
+        var (code, output, error) = await CliRunner.RunAsync("check", _files.Mains60, "--json", "--config", profile);
+
+        Assert.True(code == 1, error);
+        using var json = JsonDocument.Parse(output);
+        var line = json.RootElement.GetProperty("lines").EnumerateArray().First(l => Math.Abs(l.GetProperty("frequencyHz").GetDouble() - 60) < 0.3);
+        Assert.Equal("mains", line.GetProperty("source").GetString());
+        Assert.Contains(line.GetProperty("alsoPossible").EnumerateArray(), a => a.GetString()!.Contains("display 60", StringComparison.Ordinal));
+    }
+
+    [Fact]
+    public async Task A_run_with_an_invalid_setting_stops_at_start_with_code_2_naming_the_key()
+    {
+        var (code, _, error) = await CliRunner.RunAsync("run", "--set", "Alerts:RaiseAfterFrames=0", "--set", "Site:TimeZone=Mars/Olympus");
+
+        Assert.Equal(2, code);
+        Assert.Contains("Alerts:RaiseAfterFrames", error, StringComparison.Ordinal);
+        Assert.Contains("Site:TimeZone", error, StringComparison.Ordinal);
+    }
+
+    private static int CountOf(string text, string what)
+    {
+        var count = 0;
+        for (var i = text.IndexOf(what, StringComparison.Ordinal); i >= 0; i = text.IndexOf(what, i + 1, StringComparison.Ordinal))
+        {
+            count++;
+        }
+
+        return count;
+    }
+
+    /// <summary>Recordings made once for the class: simulated rooms written as EDF+ with the project's writer.</summary>
+    public sealed class Recordings : IDisposable
+    {
+        private readonly TempFolder _temp = new();
+
+        public Recordings()
+        {
+            Mains = Write("mains.edf", Room(50, 9));
+            Mains60 = Write("mains60.edf", Room(60, 9));
+            Quiet = Write("quiet.edf", Room(50, 0));
+            Garbage = Path.Combine(Folder, "garbage.edf");
+            File.WriteAllBytes(Garbage, [.. Enumerable.Range(0, 5000).Select(i => (byte)(i * 31))]);
+        }
+
+        public string Folder => _temp.Path;
+
+        public string Mains { get; }
+
+        public string Mains60 { get; }
+
+        public string Quiet { get; }
+
+        public string Garbage { get; }
+
+        public void Dispose() => _temp.Dispose();
+
+        private static SimulatedRoom Room(double mainsHz, double amplitudeUvRms) => new()
+        {
+            Name = "cli-room",
+            SampleRateHz = 250,
+            Channels = SimulatedRoom.Montage(8),
+            Tones = amplitudeUvRms > 0 ? [new SimulatedTone { Name = "mains", FrequencyHz = mainsHz, AmplitudeUvRms = amplitudeUvRms, WanderHz = 0.02 }] : [],
+        };
+
+        private string Write(string name, SimulatedRoom room)
+        {
+            var path = Path.Combine(Folder, name);
+            var simulator = new RoomSimulator(room, seed: 3);
+            var options = new EdfWriterOptions { Signals = [.. simulator.Layout.Channels.Select(c => EdfWriterSignal.Edf16(c.Label, 250))] };
+            using var writer = new EdfWriter(path, options);
+            for (var second = 0; second < 60; second++)
+            {
+                var chunk = simulator.Next(250);
+                writer.WriteRecord(chunk.SamplesUv.AsSpan(0, 250 * 8));
+            }
+
+            return path;
+        }
+    }
+}
