@@ -1,6 +1,7 @@
 using System.Runtime.CompilerServices;
 using System.Runtime.InteropServices;
 using System.Runtime.Intrinsics;
+using System.Runtime.Intrinsics.X86;
 
 namespace HumWatch.Core.Spectra.Fft;
 
@@ -21,13 +22,18 @@ internal sealed class FftPeriodogramKernel : IPeriodogramKernel
     private readonly double[] _splitTwiddles;
     private readonly AlignedScratch _re;
     private readonly AlignedScratch _im;
+
+    // Vectorized even N: the four channels' raw samples as lanes, natural order (z[n] = x[2n] + i·x[2n+1]), before the
+    // digit-reversed, detrended, windowed copy into _re/_im. Transposing first keeps the input reads sequential.
+    private readonly AlignedScratch _rawRe;
+    private readonly AlignedScratch _rawIm;
     private readonly double _densityScale;
     private readonly bool _even;
     private readonly bool _vectorized;
 
     /// <summary>Creates a kernel for <paramref name="segmentLength"/>-sample segments (≥ 2, 2·3·5-smooth) at <paramref name="sampleRateHz"/> (> 0).</summary>
     public FftPeriodogramKernel(int segmentLength, double sampleRateHz)
-        : this(segmentLength, sampleRateHz, Vector256.IsHardwareAccelerated, 0)
+        : this(segmentLength, sampleRateHz, Vector256.IsHardwareAccelerated && Avx.IsSupported, 0)
     {
     }
 
@@ -48,7 +54,8 @@ internal sealed class FftPeriodogramKernel : IPeriodogramKernel
         SegmentLength = segmentLength;
         BinCount = (segmentLength / 2) + 1;
         _even = (segmentLength & 1) == 0;
-        _vectorized = vectorized;
+        // The vector path's lane transposes use AVX shuffles (Vector256 is only hardware accelerated on x64 with AVX anyway).
+        _vectorized = vectorized && Avx.IsSupported;
         var m = _even ? segmentLength / 2 : segmentLength;
         _plan = ComplexFftPlan.Get(m);
 
@@ -73,9 +80,12 @@ internal sealed class FftPeriodogramKernel : IPeriodogramKernel
             }
         }
 
-        var lanes = vectorized ? Vector256<double>.Count : 1;
+        var lanes = _vectorized ? Vector256<double>.Count : 1;
         _re = new AlignedScratch(m * lanes, misalignBytes);
         _im = new AlignedScratch(m * lanes, misalignBytes);
+        var raw = _vectorized && _even ? m * lanes : 0;
+        _rawRe = new AlignedScratch(raw, misalignBytes);
+        _rawIm = new AlignedScratch(raw, misalignBytes);
     }
 
     /// <inheritdoc/>
@@ -165,24 +175,63 @@ internal sealed class FftPeriodogramKernel : IPeriodogramKernel
         Span<Vector256<double>> re,
         Span<Vector256<double>> im)
     {
-        var mean = Vector256.Create(Mean(s0), Mean(s1), Mean(s2), Mean(s3));
         var window = _window.AsSpan();
         var permutation = _plan.Permutation;
         var m = permutation.Length;
 
-        // Detrend and window while gathering the four channels into lanes, straight into digit-reversed order.
         if (_even)
         {
+            // Pass 1, sequential: four samples of each channel (z[n], z[n+1]) per load, a 4×4 transpose into lanes, and
+            // the per-channel sums for the mean on the way.
+            var rawRe = MemoryMarshal.Cast<double, Vector256<double>>(_rawRe.Span);
+            var rawIm = MemoryMarshal.Cast<double, Vector256<double>>(_rawIm.Span);
+            var v0 = MemoryMarshal.Cast<double, Vector256<double>>(s0);
+            var v1 = MemoryMarshal.Cast<double, Vector256<double>>(s1);
+            var v2 = MemoryMarshal.Cast<double, Vector256<double>>(s2);
+            var v3 = MemoryMarshal.Cast<double, Vector256<double>>(s3);
+            // One accumulator, samples in order: each lane sums its channel exactly as the scalar path does, so the mean (and
+            // the ill-conditioned DC bin after detrending) does not depend on the path taken.
+            var sum = Vector256<double>.Zero;
+            for (var q = 0; q < v0.Length; q++)
+            {
+                var lo01 = Avx.UnpackLow(v0[q], v1[q]);
+                var hi01 = Avx.UnpackHigh(v0[q], v1[q]);
+                var lo23 = Avx.UnpackLow(v2[q], v3[q]);
+                var hi23 = Avx.UnpackHigh(v2[q], v3[q]);
+                var re0 = Avx.Permute2x128(lo01, lo23, 0x20);
+                var im0 = Avx.Permute2x128(hi01, hi23, 0x20);
+                var re1 = Avx.Permute2x128(lo01, lo23, 0x31);
+                var im1 = Avx.Permute2x128(hi01, hi23, 0x31);
+                rawRe[2 * q] = re0;
+                rawIm[2 * q] = im0;
+                rawRe[(2 * q) + 1] = re1;
+                rawIm[(2 * q) + 1] = im1;
+                sum = sum + re0 + im0 + re1 + im1;
+            }
+
+            // N ≡ 2 (mod 4): one complex sample left over.
+            for (var n = 2 * v0.Length; n < m; n++)
+            {
+                var e = 2 * n;
+                rawRe[n] = Vector256.Create(s0[e], s1[e], s2[e], s3[e]);
+                rawIm[n] = Vector256.Create(s0[e + 1], s1[e + 1], s2[e + 1], s3[e + 1]);
+                sum = sum + rawRe[n] + rawIm[n];
+            }
+
+            var mean = sum / SegmentLength;
+
+            // Pass 2: detrend and window into digit-reversed order (whole-vector reads, sequential writes).
             for (var p = 0; p < m; p++)
             {
-                var e = 2 * permutation[p];
-                var o = e + 1;
-                re[p] = (Vector256.Create(s0[e], s1[e], s2[e], s3[e]) - mean) * window[e];
-                im[p] = (Vector256.Create(s0[o], s1[o], s2[o], s3[o]) - mean) * window[o];
+                var n = permutation[p];
+                var e = 2 * n;
+                re[p] = (rawRe[n] - mean) * window[e];
+                im[p] = (rawIm[n] - mean) * window[e + 1];
             }
         }
         else
         {
+            var mean = Vector256.Create(Mean(s0), Mean(s1), Mean(s2), Mean(s3));
             for (var p = 0; p < m; p++)
             {
                 var e = permutation[p];
@@ -301,10 +350,36 @@ internal sealed class FftPeriodogramKernel : IPeriodogramKernel
 
         // Bins stored in re: all M for even N (bin M is in im[0]); all (N+1)/2 for odd N.
         var fromRe = _even ? bins - 1 : bins;
+        var done = 0;
+        if (lanes == 4 && count == 4)
+        {
+            // Full group: 4×4 transposes turn four bins × four channels into four bins of each channel's row.
+            var vectors = MemoryMarshal.Cast<double, Vector256<double>>(re);
+            var row0 = rows[..bins];
+            var row1 = rows.Slice(bins, bins);
+            var row2 = rows.Slice(2 * bins, bins);
+            var row3 = rows.Slice(3 * bins, bins);
+            for (; done + 4 <= fromRe; done += 4)
+            {
+                var r0 = vectors[done];
+                var r1 = vectors[done + 1];
+                var r2 = vectors[done + 2];
+                var r3 = vectors[done + 3];
+                var lo01 = Avx.UnpackLow(r0, r1);
+                var hi01 = Avx.UnpackHigh(r0, r1);
+                var lo23 = Avx.UnpackLow(r2, r3);
+                var hi23 = Avx.UnpackHigh(r2, r3);
+                Avx.Permute2x128(lo01, lo23, 0x20).CopyTo(row0[done..]);
+                Avx.Permute2x128(hi01, hi23, 0x20).CopyTo(row1[done..]);
+                Avx.Permute2x128(lo01, lo23, 0x31).CopyTo(row2[done..]);
+                Avx.Permute2x128(hi01, hi23, 0x31).CopyTo(row3[done..]);
+            }
+        }
+
         for (var c = 0; c < count; c++)
         {
             var row = rows.Slice(c * bins, bins);
-            for (var k = 0; k < fromRe; k++)
+            for (var k = done; k < fromRe; k++)
             {
                 row[k] = re[(k * lanes) + c];
             }
