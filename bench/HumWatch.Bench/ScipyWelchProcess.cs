@@ -32,9 +32,12 @@ internal sealed class ScipyWelchProcess : IDisposable
         for line in sys.stdin:
             if line.strip() != "run":
                 break
+            c0 = time.thread_time()
             t0 = time.perf_counter()
             run()
-            print(repr(time.perf_counter() - t0), flush=True)
+            t1 = time.perf_counter()
+            c1 = time.thread_time()
+            print(repr(c1 - c0) + " " + repr(t1 - t0), flush=True)
         """;
 
     private readonly Process _process;
@@ -107,13 +110,14 @@ internal sealed class ScipyWelchProcess : IDisposable
         return new ScipyWelchProcess(process, scriptPath, first["ready ".Length..]);
     }
 
-    /// <summary>One timed scipy.signal.welch call, in seconds (measured inside Python with perf_counter).</summary>
-    public double RunOnce()
+    /// <summary>One timed scipy.signal.welch call: thread CPU seconds (time.thread_time) and wall seconds (time.perf_counter), measured inside Python.</summary>
+    public (double CpuSeconds, double WallSeconds) RunOnce()
     {
         _process.StandardInput.WriteLine("run");
         _process.StandardInput.Flush();
         var line = _process.StandardOutput.ReadLine() ?? throw new InvalidOperationException($"{PythonPath} ended early: {_process.StandardError.ReadToEnd()}");
-        return double.Parse(line, CultureInfo.InvariantCulture);
+        var space = line.IndexOf(' ', StringComparison.Ordinal);
+        return (double.Parse(line.AsSpan(0, space), CultureInfo.InvariantCulture), double.Parse(line.AsSpan(space + 1), CultureInfo.InvariantCulture));
     }
 
     public void Dispose()
