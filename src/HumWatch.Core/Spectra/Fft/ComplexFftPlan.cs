@@ -1,0 +1,413 @@
+using System.Collections.Concurrent;
+using System.Runtime.CompilerServices;
+
+namespace HumWatch.Core.Spectra.Fft;
+
+/// <summary>
+/// Immutable plan for an unscaled forward complex DFT, X[k] = Σ x[n]·e^(−2πi·nk/M), of a 2·3·5-smooth length M:
+/// iterative decimation in time with radix-4, 2, 3 and 5 stages. Input is loaded in digit-reversed order
+/// (<see cref="Permutation"/>), so the stages run in place and the output comes out in natural order.
+/// Plans are cached per length (<see cref="Get"/>) and shared between threads; they hold no mutable state.
+/// </summary>
+internal sealed class ComplexFftPlan
+{
+    private static readonly ConcurrentDictionary<int, ComplexFftPlan> Cache = new();
+
+    private static readonly double Sin2Pi5 = Math.Sin(2 * Math.PI / 5);
+    private static readonly double Sin4Pi5 = Math.Sin(4 * Math.PI / 5);
+    private static readonly double Cos2Pi5 = Math.Cos(2 * Math.PI / 5);
+    private static readonly double Cos4Pi5 = Math.Cos(4 * Math.PI / 5);
+    private static readonly double HalfSqrt3 = Math.Sqrt(3) / 2;
+
+    private readonly int[] _radices;
+
+    // All stages' twiddles, (cos, sin) pairs of e^(−2πi·qj/L): stage s, sub-transform offset j, q = 1 … r − 1.
+    private readonly double[] _twiddles;
+    private readonly int[] _twiddleOffsets;
+    private readonly int[] _permutation;
+
+    private ComplexFftPlan(int length)
+    {
+        Length = length;
+        _radices = Factor(length);
+        _permutation = new int[length];
+        for (var p = 0; p < length; p++)
+        {
+            // Output position p of the digit-reversed load takes input index Σ digit·stride, last stage's radix first:
+            // DIT splits x into r_last interleaved subsequences stored one after another, then recurses.
+            var rest = p;
+            var span = length;
+            var stride = 1;
+            var index = 0;
+            for (var s = _radices.Length - 1; s >= 0; s--)
+            {
+                var r = _radices[s];
+                span /= r;
+                index += rest / span * stride;
+                rest %= span;
+                stride *= r;
+            }
+
+            _permutation[p] = index;
+        }
+
+        _twiddleOffsets = new int[_radices.Length];
+        var total = 0;
+        var subLength = 1;
+        for (var s = 0; s < _radices.Length; s++)
+        {
+            _twiddleOffsets[s] = total;
+            total += 2 * subLength * (_radices[s] - 1);
+            subLength *= _radices[s];
+        }
+
+        _twiddles = new double[total];
+        subLength = 1;
+        for (var s = 0; s < _radices.Length; s++)
+        {
+            var r = _radices[s];
+            var l = subLength * r;
+            var offset = _twiddleOffsets[s];
+            for (var j = 0; j < subLength; j++)
+            {
+                for (var q = 1; q < r; q++)
+                {
+                    // Reduce the exponent exactly in integers before going to floating point.
+                    var k = (long)q * j % l;
+                    var angle = -2 * Math.PI * k / l;
+                    var at = offset + (2 * ((j * (r - 1)) + q - 1));
+                    _twiddles[at] = Math.Cos(angle);
+                    _twiddles[at + 1] = Math.Sin(angle);
+                }
+            }
+
+            subLength = l;
+        }
+    }
+
+    /// <summary>Transform length M.</summary>
+    public int Length { get; }
+
+    /// <summary>Stage radices, first stage first (each 2, 3, 4 or 5).</summary>
+    public ReadOnlySpan<int> Radices => _radices;
+
+    /// <summary>Position p of the stage input holds x[Permutation[p]].</summary>
+    public ReadOnlySpan<int> Permutation => _permutation;
+
+    /// <summary>True when <paramref name="length"/> (≥ 1) has no prime factor other than 2, 3 and 5.</summary>
+    public static bool Supports(int length)
+    {
+        if (length < 1)
+        {
+            return false;
+        }
+
+        foreach (var p in (ReadOnlySpan<int>)[2, 3, 5])
+        {
+            while (length % p == 0)
+            {
+                length /= p;
+            }
+        }
+
+        return length == 1;
+    }
+
+    /// <summary>The shared plan for <paramref name="length"/> (2·3·5-smooth, ≥ 1).</summary>
+    public static ComplexFftPlan Get(int length)
+    {
+        if (!Supports(length))
+        {
+            throw new ArgumentOutOfRangeException(nameof(length), length, "FFT length must be ≥ 1 with no prime factor other than 2, 3 and 5.");
+        }
+
+        return Cache.GetOrAdd(length, static m => new ComplexFftPlan(m));
+    }
+
+    /// <summary>
+    /// Runs all stages in place on split-complex data already loaded in <see cref="Permutation"/> order;
+    /// each element is one lane pack (1 or 4 channels). Output in natural order, unscaled.
+    /// </summary>
+    public void Forward<TOps, TVec>(Span<TVec> re, Span<TVec> im)
+        where TOps : struct, ILaneOps<TVec>
+        where TVec : struct
+    {
+        if (re.Length < Length || im.Length < Length)
+        {
+            throw new ArgumentException($"FFT of length {Length} needs {Length} values per part (got {re.Length} and {im.Length}).", nameof(re));
+        }
+
+        re = re[..Length];
+        im = im[..Length];
+        var subLength = 1;
+        for (var s = 0; s < _radices.Length; s++)
+        {
+            var r = _radices[s];
+            ReadOnlySpan<double> twiddles = _twiddles.AsSpan(_twiddleOffsets[s], 2 * subLength * (r - 1));
+            switch (r)
+            {
+                case 4:
+                    Radix4<TOps, TVec>(re, im, subLength, twiddles);
+                    break;
+                case 2:
+                    Radix2<TOps, TVec>(re, im, subLength, twiddles);
+                    break;
+                case 3:
+                    Radix3<TOps, TVec>(re, im, subLength, twiddles);
+                    break;
+                default:
+                    Radix5<TOps, TVec>(re, im, subLength, twiddles);
+                    break;
+            }
+
+            subLength *= r;
+        }
+    }
+
+    private static int[] Factor(int length)
+    {
+        // Radix-4 first (cheapest per point, and the first stage needs no twiddles), then 2, 3, 5.
+        var radices = new List<int>();
+        while (length % 4 == 0)
+        {
+            radices.Add(4);
+            length /= 4;
+        }
+
+        while (length % 2 == 0)
+        {
+            radices.Add(2);
+            length /= 2;
+        }
+
+        while (length % 3 == 0)
+        {
+            radices.Add(3);
+            length /= 3;
+        }
+
+        while (length % 5 == 0)
+        {
+            radices.Add(5);
+            length /= 5;
+        }
+
+        return radices.ToArray();
+    }
+
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    private static void Twiddle<TOps, TVec>(ref TVec xr, ref TVec xi, double wr, double wi)
+        where TOps : struct, ILaneOps<TVec>
+        where TVec : struct
+    {
+        var vr = TOps.Splat(wr);
+        var vi = TOps.Splat(wi);
+        var r = TOps.NegMulAdd(xi, vi, TOps.Mul(xr, vr));
+        xi = TOps.MulAdd(xi, vr, TOps.Mul(xr, vi));
+        xr = r;
+    }
+
+    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
+    private static void Radix2<TOps, TVec>(Span<TVec> re, Span<TVec> im, int subLength, ReadOnlySpan<double> twiddles)
+        where TOps : struct, ILaneOps<TVec>
+        where TVec : struct
+    {
+        var n = re.Length;
+        var l = subLength * 2;
+        for (var b = 0; b < n; b += l)
+        {
+            for (var j = 0; j < subLength; j++)
+            {
+                var i0 = b + j;
+                var i1 = i0 + subLength;
+                var a1r = re[i1];
+                var a1i = im[i1];
+                if (subLength > 1)
+                {
+                    Twiddle<TOps, TVec>(ref a1r, ref a1i, twiddles[2 * j], twiddles[(2 * j) + 1]);
+                }
+
+                var a0r = re[i0];
+                var a0i = im[i0];
+                re[i0] = TOps.Add(a0r, a1r);
+                im[i0] = TOps.Add(a0i, a1i);
+                re[i1] = TOps.Sub(a0r, a1r);
+                im[i1] = TOps.Sub(a0i, a1i);
+            }
+        }
+    }
+
+    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
+    private static void Radix4<TOps, TVec>(Span<TVec> re, Span<TVec> im, int subLength, ReadOnlySpan<double> twiddles)
+        where TOps : struct, ILaneOps<TVec>
+        where TVec : struct
+    {
+        var n = re.Length;
+        var l = subLength * 4;
+        for (var b = 0; b < n; b += l)
+        {
+            for (var j = 0; j < subLength; j++)
+            {
+                var i0 = b + j;
+                var i1 = i0 + subLength;
+                var i2 = i1 + subLength;
+                var i3 = i2 + subLength;
+                var a0r = re[i0];
+                var a0i = im[i0];
+                var a1r = re[i1];
+                var a1i = im[i1];
+                var a2r = re[i2];
+                var a2i = im[i2];
+                var a3r = re[i3];
+                var a3i = im[i3];
+                if (subLength > 1)
+                {
+                    var t = 6 * j;
+                    Twiddle<TOps, TVec>(ref a1r, ref a1i, twiddles[t], twiddles[t + 1]);
+                    Twiddle<TOps, TVec>(ref a2r, ref a2i, twiddles[t + 2], twiddles[t + 3]);
+                    Twiddle<TOps, TVec>(ref a3r, ref a3i, twiddles[t + 4], twiddles[t + 5]);
+                }
+
+                var t0r = TOps.Add(a0r, a2r);
+                var t0i = TOps.Add(a0i, a2i);
+                var t1r = TOps.Sub(a0r, a2r);
+                var t1i = TOps.Sub(a0i, a2i);
+                var t2r = TOps.Add(a1r, a3r);
+                var t2i = TOps.Add(a1i, a3i);
+                var t3r = TOps.Sub(a1r, a3r);
+                var t3i = TOps.Sub(a1i, a3i);
+
+                // X1 = t1 − i·t3, X3 = t1 + i·t3 (forward transform, W = e^(−2πi/4) = −i).
+                re[i0] = TOps.Add(t0r, t2r);
+                im[i0] = TOps.Add(t0i, t2i);
+                re[i2] = TOps.Sub(t0r, t2r);
+                im[i2] = TOps.Sub(t0i, t2i);
+                re[i1] = TOps.Add(t1r, t3i);
+                im[i1] = TOps.Sub(t1i, t3r);
+                re[i3] = TOps.Sub(t1r, t3i);
+                im[i3] = TOps.Add(t1i, t3r);
+            }
+        }
+    }
+
+    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
+    private static void Radix3<TOps, TVec>(Span<TVec> re, Span<TVec> im, int subLength, ReadOnlySpan<double> twiddles)
+        where TOps : struct, ILaneOps<TVec>
+        where TVec : struct
+    {
+        var n = re.Length;
+        var l = subLength * 3;
+        var half = TOps.Splat(0.5);
+        var s = TOps.Splat(HalfSqrt3);
+        for (var b = 0; b < n; b += l)
+        {
+            for (var j = 0; j < subLength; j++)
+            {
+                var i0 = b + j;
+                var i1 = i0 + subLength;
+                var i2 = i1 + subLength;
+                var a1r = re[i1];
+                var a1i = im[i1];
+                var a2r = re[i2];
+                var a2i = im[i2];
+                if (subLength > 1)
+                {
+                    var t = 4 * j;
+                    Twiddle<TOps, TVec>(ref a1r, ref a1i, twiddles[t], twiddles[t + 1]);
+                    Twiddle<TOps, TVec>(ref a2r, ref a2i, twiddles[t + 2], twiddles[t + 3]);
+                }
+
+                var a0r = re[i0];
+                var a0i = im[i0];
+                var t1r = TOps.Add(a1r, a2r);
+                var t1i = TOps.Add(a1i, a2i);
+                var t2r = TOps.Sub(a1r, a2r);
+                var t2i = TOps.Sub(a1i, a2i);
+
+                // X1,2 = a0 − t1/2 ∓ i·(√3/2)·t2.
+                var mr = TOps.NegMulAdd(t1r, half, a0r);
+                var mi = TOps.NegMulAdd(t1i, half, a0i);
+                var sr = TOps.Mul(s, t2i);
+                var si = TOps.Mul(s, t2r);
+                re[i0] = TOps.Add(a0r, t1r);
+                im[i0] = TOps.Add(a0i, t1i);
+                re[i1] = TOps.Add(mr, sr);
+                im[i1] = TOps.Sub(mi, si);
+                re[i2] = TOps.Sub(mr, sr);
+                im[i2] = TOps.Add(mi, si);
+            }
+        }
+    }
+
+    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
+    private static void Radix5<TOps, TVec>(Span<TVec> re, Span<TVec> im, int subLength, ReadOnlySpan<double> twiddles)
+        where TOps : struct, ILaneOps<TVec>
+        where TVec : struct
+    {
+        var n = re.Length;
+        var l = subLength * 5;
+        var c1 = TOps.Splat(Cos2Pi5);
+        var c2 = TOps.Splat(Cos4Pi5);
+        var s1 = TOps.Splat(Sin2Pi5);
+        var s2 = TOps.Splat(Sin4Pi5);
+        for (var b = 0; b < n; b += l)
+        {
+            for (var j = 0; j < subLength; j++)
+            {
+                var i0 = b + j;
+                var i1 = i0 + subLength;
+                var i2 = i1 + subLength;
+                var i3 = i2 + subLength;
+                var i4 = i3 + subLength;
+                var a1r = re[i1];
+                var a1i = im[i1];
+                var a2r = re[i2];
+                var a2i = im[i2];
+                var a3r = re[i3];
+                var a3i = im[i3];
+                var a4r = re[i4];
+                var a4i = im[i4];
+                if (subLength > 1)
+                {
+                    var t = 8 * j;
+                    Twiddle<TOps, TVec>(ref a1r, ref a1i, twiddles[t], twiddles[t + 1]);
+                    Twiddle<TOps, TVec>(ref a2r, ref a2i, twiddles[t + 2], twiddles[t + 3]);
+                    Twiddle<TOps, TVec>(ref a3r, ref a3i, twiddles[t + 4], twiddles[t + 5]);
+                    Twiddle<TOps, TVec>(ref a4r, ref a4i, twiddles[t + 6], twiddles[t + 7]);
+                }
+
+                var a0r = re[i0];
+                var a0i = im[i0];
+                var t1r = TOps.Add(a1r, a4r);
+                var t1i = TOps.Add(a1i, a4i);
+                var t2r = TOps.Add(a2r, a3r);
+                var t2i = TOps.Add(a2i, a3i);
+                var t3r = TOps.Sub(a1r, a4r);
+                var t3i = TOps.Sub(a1i, a4i);
+                var t4r = TOps.Sub(a2r, a3r);
+                var t4i = TOps.Sub(a2i, a3i);
+
+                // b1 = a0 + c1·t1 + c2·t2, b2 = a0 + c2·t1 + c1·t2; d1 = s1·t3 + s2·t4, d2 = s2·t3 − s1·t4;
+                // X1,4 = b1 ∓ i·d1, X2,3 = b2 ∓ i·d2 (W = e^(−2πi/5) = c1 − i·s1).
+                var b1r = TOps.MulAdd(c2, t2r, TOps.MulAdd(c1, t1r, a0r));
+                var b1i = TOps.MulAdd(c2, t2i, TOps.MulAdd(c1, t1i, a0i));
+                var b2r = TOps.MulAdd(c1, t2r, TOps.MulAdd(c2, t1r, a0r));
+                var b2i = TOps.MulAdd(c1, t2i, TOps.MulAdd(c2, t1i, a0i));
+                var d1r = TOps.MulAdd(s2, t4r, TOps.Mul(s1, t3r));
+                var d1i = TOps.MulAdd(s2, t4i, TOps.Mul(s1, t3i));
+                var d2r = TOps.NegMulAdd(s1, t4r, TOps.Mul(s2, t3r));
+                var d2i = TOps.NegMulAdd(s1, t4i, TOps.Mul(s2, t3i));
+                re[i0] = TOps.Add(a0r, TOps.Add(t1r, t2r));
+                im[i0] = TOps.Add(a0i, TOps.Add(t1i, t2i));
+                re[i1] = TOps.Add(b1r, d1i);
+                im[i1] = TOps.Sub(b1i, d1r);
+                re[i4] = TOps.Sub(b1r, d1i);
+                im[i4] = TOps.Add(b1i, d1r);
+                re[i2] = TOps.Add(b2r, d2i);
+                im[i2] = TOps.Sub(b2i, d2r);
+                re[i3] = TOps.Sub(b2r, d2i);
+                im[i3] = TOps.Add(b2i, d2r);
+            }
+        }
+    }
+}
