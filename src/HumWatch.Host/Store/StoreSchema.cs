@@ -79,6 +79,7 @@ internal static class StoreSchema
             )
             """,
         ],
+        SummarySchema.Migration,
     ];
 
     /// <summary>Newest schema version this build knows.</summary>

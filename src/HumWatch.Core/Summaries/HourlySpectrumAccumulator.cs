@@ -1,0 +1,187 @@
+using HumWatch.Core.Alerts;
+using HumWatch.Core.Analysis;
+using HumWatch.Core.Attribution;
+
+namespace HumWatch.Core.Summaries;
+
+/// <summary>Frequency sum and frame count of one line key within a spectrum part (additive across parts).</summary>
+public readonly record struct LineFrequencyTally(double SumHz, int Frames);
+
+/// <summary>
+/// Part of one UTC hour's mean spectrum of one stream session. Parts are additive: the hour's mean is the
+/// seconds-weighted mean of its parts. (stream, session, sequence) identifies a part so a re-delivery counts once.
+/// </summary>
+/// <param name="StreamId">Stream.</param>
+/// <param name="SessionId">Session (same meaning as in the minute ledger).</param>
+/// <param name="Sequence">Running number within the session, from 1.</param>
+/// <param name="HourUtc">Start of the UTC hour.</param>
+/// <param name="BinWidthHz">Bin spacing, Hz.</param>
+/// <param name="Seconds">Analysed time covered, s.</param>
+/// <param name="MeanPsdUv2PerHz">Mean PSD over that time, µV²/Hz.</param>
+/// <param name="Lines">Frequency sums of the lines at or above the ledger level, by ledger key.</param>
+public sealed record SpectrumPart(
+    string StreamId,
+    string SessionId,
+    long Sequence,
+    DateTimeOffset HourUtc,
+    double BinWidthHz,
+    double Seconds,
+    float[] MeanPsdUv2PerHz,
+    IReadOnlyDictionary<string, LineFrequencyTally> Lines);
+
+/// <summary>Receives completed spectrum parts.</summary>
+public interface ISpectrumPartSink
+{
+    void OnSpectrumPart(SpectrumPart part);
+}
+
+/// <summary>
+/// Accumulates a stream session's frames into hourly mean spectra for the daily summary plot. Feed it the same frames
+/// as the minute ledger (<see cref="Observe"/> from the session's frame handler, <see cref="Flush"/> at its end).
+/// A part is emitted when the UTC hour changes and at least every <c>flushEverySeconds</c> of stream time, so a
+/// kill loses at most that much spectrum. Pure and not thread-safe; steady state allocates only when a part is emitted.
+/// </summary>
+public sealed class HourlySpectrumAccumulator
+{
+    private readonly double _minAmplitudeUvRms;
+    private readonly double _flushEverySeconds;
+    private readonly Dictionary<(SourceKind Kind, string Name, int Harmonic), string> _keys = [];
+    private readonly Dictionary<string, LineFrequencyTally> _lines = new(StringComparer.Ordinal);
+    private double[] _sum = [];
+    private double _binWidthHz;
+    private double _seconds;
+    private double _lastEndSeconds = double.NegativeInfinity;
+    private long _openHourTicks = long.MinValue;
+    private long _sequence;
+
+    /// <param name="streamId">Stream.</param>
+    /// <param name="sessionId">Session id; use the ledger's.</param>
+    /// <param name="minAmplitudeUvRms">Lines at or above this amplitude are marked, µV RMS. The default is 1 µV (the ledger's level).</param>
+    /// <param name="flushEverySeconds">Most stream time held before a part is emitted, s; 10 to 3600. The default is 300 s.</param>
+    public HourlySpectrumAccumulator(string streamId, string sessionId, double minAmplitudeUvRms = 1.0, double flushEverySeconds = 300)
+    {
+        ArgumentException.ThrowIfNullOrWhiteSpace(streamId);
+        ArgumentException.ThrowIfNullOrWhiteSpace(sessionId);
+        if (!(minAmplitudeUvRms >= 0) || !double.IsFinite(minAmplitudeUvRms))
+        {
+            throw new ArgumentOutOfRangeException(nameof(minAmplitudeUvRms), minAmplitudeUvRms, "Level must be zero or a finite positive number of µV RMS.");
+        }
+
+        if (!(flushEverySeconds >= 10 && flushEverySeconds <= 3600))
+        {
+            throw new ArgumentOutOfRangeException(nameof(flushEverySeconds), flushEverySeconds, "Must be between 10 and 3600 s.");
+        }
+
+        StreamId = streamId;
+        SessionId = sessionId;
+        _minAmplitudeUvRms = minAmplitudeUvRms;
+        _flushEverySeconds = flushEverySeconds;
+    }
+
+    /// <summary>Stream the parts belong to.</summary>
+    public string StreamId { get; }
+
+    /// <summary>Session the parts belong to.</summary>
+    public string SessionId { get; }
+
+    /// <summary>Feeds one frame; may emit the part it moves past.</summary>
+    /// <param name="frame">The analyser's frame (nothing of it is kept).</param>
+    /// <param name="frameEndUtc">UTC time of the frame's last sample.</param>
+    /// <param name="sink">Receives completed parts.</param>
+    public void Observe(AnalysisFrame frame, DateTimeOffset frameEndUtc, ISpectrumPartSink sink)
+    {
+        ArgumentNullException.ThrowIfNull(frame);
+        ArgumentNullException.ThrowIfNull(sink);
+
+        // Only stream time not covered by the previous frame is new, as in the minute ledger.
+        var newSeconds = frame.EndSeconds - Math.Max(frame.StartSeconds, _lastEndSeconds);
+        if (!(newSeconds > 0) || frame.AnalysedChannelCount == 0)
+        {
+            _lastEndSeconds = Math.Max(_lastEndSeconds, frame.EndSeconds);
+            return;
+        }
+
+        _lastEndSeconds = frame.EndSeconds;
+        var psd = frame.MeanPsdUv2PerHz;
+        var ticks = frameEndUtc.UtcTicks;
+        var hourTicks = ticks - (ticks % TimeSpan.TicksPerHour);
+        if (hourTicks != _openHourTicks || psd.Length != _sum.Length || frame.BinWidthHz != _binWidthHz || _seconds >= _flushEverySeconds)
+        {
+            Emit(sink);
+            if (psd.Length != _sum.Length)
+            {
+                _sum = new double[psd.Length];
+            }
+
+            _binWidthHz = frame.BinWidthHz;
+            _openHourTicks = hourTicks;
+        }
+
+        var sum = _sum;
+        for (var k = 0; k < psd.Length; k++)
+        {
+            sum[k] += psd[k] * newSeconds;
+        }
+
+        _seconds += newSeconds;
+        var lines = frame.Lines;
+        for (var i = 0; i < lines.Length; i++)
+        {
+            var line = lines[i];
+            if (!(line.AmplitudeUvRms >= _minAmplitudeUvRms))
+            {
+                continue;
+            }
+
+            var key = KeyOf(line.Source, line.FrequencyHz, frame.BinWidthHz);
+            var tally = _lines.GetValueOrDefault(key);
+            _lines[key] = new LineFrequencyTally(tally.SumHz + line.FrequencyHz, tally.Frames + 1);
+        }
+    }
+
+    /// <summary>Emits the open part (end of stream or shutdown).</summary>
+    public void Flush(ISpectrumPartSink sink)
+    {
+        ArgumentNullException.ThrowIfNull(sink);
+        Emit(sink);
+    }
+
+    private string KeyOf(SourceMatch source, double frequencyHz, double binWidthHz)
+    {
+        // Same keys as the minute ledger: unidentified lines by their nearest bin.
+        var harmonic = source.IsIdentified ? source.Harmonic : (int)Math.Round(frequencyHz / binWidthHz);
+        if (!_keys.TryGetValue((source.Kind, source.Name, harmonic), out var key))
+        {
+            if (_keys.Count >= 4096)
+            {
+                _keys.Clear();
+            }
+
+            key = AlertKeys.ForLine(source, source.IsIdentified ? frequencyHz : harmonic * binWidthHz);
+            _keys.Add((source.Kind, source.Name, harmonic), key);
+        }
+
+        return key;
+    }
+
+    private void Emit(ISpectrumPartSink sink)
+    {
+        if (_openHourTicks == long.MinValue || !(_seconds > 0))
+        {
+            return;
+        }
+
+        var mean = new float[_sum.Length];
+        for (var k = 0; k < mean.Length; k++)
+        {
+            mean[k] = (float)(_sum[k] / _seconds);
+        }
+
+        var lines = new Dictionary<string, LineFrequencyTally>(_lines, StringComparer.Ordinal);
+        sink.OnSpectrumPart(new SpectrumPart(StreamId, SessionId, ++_sequence, new DateTimeOffset(_openHourTicks, TimeSpan.Zero), _binWidthHz, _seconds, mean, lines));
+        Array.Clear(_sum);
+        _lines.Clear();
+        _seconds = 0;
+        _openHourTicks = long.MinValue;
+    }
+}

@@ -1,0 +1,150 @@
+using System.CommandLine;
+using System.Globalization;
+using HumWatch.Host.Composition;
+using HumWatch.Host.Configuration;
+using HumWatch.Host.Store;
+using HumWatch.Host.Summaries;
+using Microsoft.Extensions.Configuration;
+
+namespace HumWatch.Cli.Commands;
+
+/// <summary>`humwatch summary --day YYYY-MM-DD [--stream ID] [--out DIR] [--config PATH]` and `humwatch summary --list`.</summary>
+internal static class SummaryCommand
+{
+    public static Command Create()
+    {
+        var day = new Option<string?>("--day") { Description = "Local day to render, YYYY-MM-DD (site time zone from configuration)." };
+        var stream = new Option<string?>("--stream") { Description = "Render only this stream (the day page still lists every room)." };
+        var output = new Option<string?>("--out") { Description = "Output folder (default: Summaries:Folder from configuration)." };
+        var list = new Option<bool>("--list") { Description = "List the local days the store holds, with their streams and whether their summaries were written." };
+        var config = new Option<string[]>("--config")
+        {
+            Description = "Configuration file(s) layered over the defaults (repeatable).",
+            AllowMultipleArgumentsPerToken = false,
+        };
+
+        var command = new Command("summary", "Re-renders a day's summaries (JSON, Markdown page, PNG plots) from the store, or lists the days it holds.")
+        {
+            day,
+            stream,
+            output,
+            list,
+            config,
+        };
+        command.SetAction(parse => Run(
+            parse.GetValue(day),
+            parse.GetValue(stream),
+            parse.GetValue(output),
+            parse.GetValue(list),
+            parse.GetValue(config) ?? [],
+            Console.Out,
+            Console.Error));
+        return command;
+    }
+
+    /// <summary>Runs the command; returns the exit code.</summary>
+    internal static int Run(string? dayText, string? stream, string? output, bool list, string[] configFiles, TextWriter stdout, TextWriter stderr)
+    {
+        if (list == (dayText is not null))
+        {
+            stderr.WriteLine("humwatch summary: give either --day YYYY-MM-DD or --list.");
+            return ExitCodes.BadInput;
+        }
+
+        DateOnly day = default;
+        if (dayText is not null && !DateOnly.TryParseExact(dayText, "yyyy-MM-dd", CultureInfo.InvariantCulture, DateTimeStyles.None, out day))
+        {
+            stderr.WriteLine($"humwatch summary: --day must be a date as YYYY-MM-DD (got \"{dayText}\").");
+            return ExitCodes.BadInput;
+        }
+
+        StoreOptions storeOptions;
+        SiteOptions site;
+        SummariesOptions options;
+        TimeZoneInfo zone;
+        try
+        {
+            var configuration = HumWatchHost.BuildConfiguration(new HumWatchHostSettings { ConfigFiles = configFiles });
+            storeOptions = Bind<StoreOptions>(configuration, "Store");
+            site = Bind<SiteOptions>(configuration, "Site");
+            options = SummariesServiceCollectionExtensions.Bind(configuration);
+            var errors = new List<string>();
+            errors.AddRange(storeOptions.Validate());
+            errors.AddRange(site.Validate());
+            if (errors.Count > 0)
+            {
+                throw new ConfigurationException(string.Join(Environment.NewLine, errors));
+            }
+
+            zone = site.ResolveTimeZone();
+        }
+        catch (ConfigurationException ex)
+        {
+            stderr.WriteLine($"humwatch summary: {ex.Message}");
+            return ExitCodes.BadInput;
+        }
+
+        if (!File.Exists(storeOptions.Path))
+        {
+            stderr.WriteLine($"humwatch summary: store {Path.GetFullPath(storeOptions.Path)} does not exist (Store:Path).");
+            return ExitCodes.BadInput;
+        }
+
+        try
+        {
+            return list ? List(storeOptions, zone, stdout) : Render(storeOptions, options, site.Name, zone, day, stream, output, stdout, stderr);
+        }
+        catch (Exception ex) when (ex is InvalidOperationException or IOException or UnauthorizedAccessException)
+        {
+            stderr.WriteLine($"humwatch summary: {ex.Message}");
+            return ExitCodes.BadInput;
+        }
+    }
+
+    private static int List(StoreOptions storeOptions, TimeZoneInfo zone, TextWriter stdout)
+    {
+        var days = SummaryOnDemand.ListDays(storeOptions, zone);
+        var path = Path.GetFullPath(storeOptions.Path);
+        if (days.Count == 0)
+        {
+            stdout.WriteLine($"The store {path} holds no days yet.");
+            return ExitCodes.Ok;
+        }
+
+        stdout.WriteLine($"Days in {path} (time zone {zone.Id}):");
+        foreach (var d in days)
+        {
+            stdout.WriteLine(string.Create(CultureInfo.InvariantCulture, $"  {d.Day:yyyy-MM-dd}  {d.HoursInDay} h  {d.Streams.Count} stream(s), {d.SummariesWritten} summary(ies) written  {string.Join(", ", d.Streams)}"));
+        }
+
+        return ExitCodes.Ok;
+    }
+
+    private static int Render(StoreOptions storeOptions, SummariesOptions options, string siteName, TimeZoneInfo zone, DateOnly day, string? stream, string? output, TextWriter stdout, TextWriter stderr)
+    {
+        var rendered = SummaryOnDemand.Render(storeOptions, options, siteName, zone, day, stream, output);
+        if (rendered.Count == 0)
+        {
+            stderr.WriteLine(stream is null
+                ? string.Create(CultureInfo.InvariantCulture, $"humwatch summary: the store holds nothing for {day:yyyy-MM-dd} ({zone.Id}); see 'humwatch summary --list'.")
+                : string.Create(CultureInfo.InvariantCulture, $"humwatch summary: the store holds nothing for stream \"{stream}\" on {day:yyyy-MM-dd} ({zone.Id})."));
+            return ExitCodes.BadInput;
+        }
+
+        foreach (var s in rendered)
+        {
+            stdout.WriteLine(string.Create(CultureInfo.InvariantCulture, $"{s.Stream}: {s.Verdict}, monitored {s.HoursMonitored:0.0} h, affected {s.AffectedMinutes:0.#} min, alerts raised {s.Alerts.Raised}"));
+        }
+
+        stdout.WriteLine($"Written to {Path.GetFullPath(SummaryOnDemand.DayFolder(output ?? options.Folder, day))}");
+        return ExitCodes.Ok;
+    }
+
+    private static T Bind<T>(IConfiguration configuration, string section)
+        where T : new()
+    {
+        var options = new T();
+        ConfigLoader.BindStrict(configuration.GetSection(section), options, section);
+        return options;
+    }
+}

@@ -1,0 +1,195 @@
+using HumWatch.Core.Ledger;
+using HumWatch.Core.Summaries;
+using Xunit;
+
+namespace HumWatch.Core.Tests.Summaries;
+
+public sealed class DaySummarizerTests
+{
+    private static readonly TimeZoneInfo Berlin = TimeZoneInfo.FindSystemTimeZoneById("Europe/Berlin");
+    private static readonly TimeZoneInfo NewYork = TimeZoneInfo.FindSystemTimeZoneById("America/New_York");
+
+    [Theory]
+    // IANA tz database, EU rule: clocks go forward on the last Sunday of March and back on the last Sunday of October, at 01:00 UTC.
+    [InlineData("Europe/Berlin", "2026-03-29", "2026-03-28T23:00:00Z", "2026-03-29T22:00:00Z", 23)]
+    [InlineData("Europe/Berlin", "2026-10-25", "2026-10-24T22:00:00Z", "2026-10-25T23:00:00Z", 25)]
+    [InlineData("Europe/Berlin", "2026-06-15", "2026-06-14T22:00:00Z", "2026-06-15T22:00:00Z", 24)]
+    // IANA tz database, US rule: forward on the second Sunday of March, back on the first Sunday of November, at 02:00 local.
+    [InlineData("America/New_York", "2026-03-08", "2026-03-08T05:00:00Z", "2026-03-09T04:00:00Z", 23)]
+    [InlineData("America/New_York", "2026-11-01", "2026-11-01T04:00:00Z", "2026-11-02T05:00:00Z", 25)]
+    public void Local_days_have_the_length_the_tz_rules_give(string zoneId, string day, string fromUtc, string toUtc, int hours)
+    {
+        var zone = TimeZoneInfo.FindSystemTimeZoneById(zoneId);
+        var (from, to) = LocalDay.RangeUtc(DateOnly.Parse(day, System.Globalization.CultureInfo.InvariantCulture), zone);
+        Assert.Equal(DateTimeOffset.Parse(fromUtc, System.Globalization.CultureInfo.InvariantCulture), from);
+        Assert.Equal(DateTimeOffset.Parse(toUtc, System.Globalization.CultureInfo.InvariantCulture), to);
+
+        var summary = DaySummarizer.Summarize("room-a", DateOnly.Parse(day, System.Globalization.CultureInfo.InvariantCulture), zone, [], [], null, new SummaryOptions());
+        Assert.Equal(hours, summary.HoursInDay);
+        Assert.Equal(hours, summary.Timeline.HourStartsLocal.Count);
+        Assert.Equal(hours * 60, summary.Mains.Hz.Count);
+        Assert.Equal("no data", summary.Verdict);
+    }
+
+    [Fact]
+    public void The_hour_after_the_spring_gap_is_labelled_03_00_summer_time()
+    {
+        // IANA tz database: Europe/Berlin jumps from 02:00 CET to 03:00 CEST on 2026-03-29.
+        var summary = DaySummarizer.Summarize("room-a", new DateOnly(2026, 3, 29), Berlin, [], [], null, new SummaryOptions());
+        Assert.Equal("2026-03-29T01:00+01:00", summary.Timeline.HourStartsLocal[1]);
+        Assert.Equal("2026-03-29T03:00+02:00", summary.Timeline.HourStartsLocal[2]);
+    }
+
+    [Fact]
+    public void An_afternoon_display_line_is_found_as_one_episode_at_its_local_time()
+    {
+        var day = new DateOnly(2026, 10, 25); // 25 h day in Berlin
+        var (from, _) = LocalDay.RangeUtc(day, Berlin);
+        var rows = new List<LedgerMinute>();
+        // Monitored all day; 75 Hz display line 14:10–15:40 local (CET, +01:00 after the change) with one quiet minute at 15:00.
+        var start = new DateTimeOffset(2026, 10, 25, 13, 10, 0, TimeSpan.Zero);
+        for (var m = 0; m < 25 * 60; m++)
+        {
+            var minute = from.AddMinutes(m);
+            var inEpisode = minute >= start && minute < start.AddMinutes(90) && minute != start.AddMinutes(50);
+            rows.Add(new LedgerMinute(minute, MinuteLedger.AllSourcesKey, 60, inEpisode ? 60 : 0, inEpisode ? 4 : null, inEpisode ? 3 : null, inEpisode ? ["O1", "O2"] : [], 50.0 + ((m % 10) - 5) * 0.002));
+            if (inEpisode)
+            {
+                rows.Add(new LedgerMinute(minute, "display 75 Hz/h1", 60, 60, 4, 3, ["O1", "O2"], null));
+            }
+        }
+
+        var summary = DaySummarizer.Summarize("room-a", day, Berlin, rows, [], null, new SummaryOptions());
+
+        Assert.Equal(25, summary.HoursMonitored, 6);
+        var display = Assert.Single(summary.Sources);
+        Assert.Equal("display", display.Category);
+        Assert.Equal(89, display.AffectedMinutes, 6);
+        Assert.Equal(1, display.EpisodeCount); // one quiet minute is bridged (EpisodeBridgeMinutes = 2)
+        Assert.Equal("2026-10-25T14:10+01:00", display.Episodes[0].StartLocal);
+        Assert.Equal("2026-10-25T15:40+01:00", display.Episodes[0].EndLocal);
+        Assert.Equal(90, display.Episodes[0].SpanMinutes);
+        Assert.Equal("O1", display.WorstChannels[0].Channel);
+        Assert.Equal(89, display.WorstChannels[0].Minutes);
+
+        // Hour index 15 is 14:00 CET (the day has two 02:00 hours).
+        Assert.Equal("2026-10-25T14:00+01:00", summary.Timeline.HourStartsLocal[15]);
+        var row = Assert.Single(summary.Timeline.Rows);
+        Assert.Equal(50, row.Minutes[15], 6);
+        Assert.Equal(39, row.Minutes[16], 6);
+        Assert.Equal(display.AffectedMinutes, row.Minutes.Sum(), 6);
+
+        // 89 min of display lines: over the warn level (30) and under the fail level (120).
+        Assert.Equal("warn", summary.Verdict);
+        Assert.Contains("Summaries:Day:Display:WarnMinutes", Assert.Single(summary.VerdictReasons), StringComparison.Ordinal);
+
+        // Mains track: minute values cycle 49.990 … 50.008; mean of 150 full cycles is 49.999.
+        Assert.Equal(1500, summary.Mains.MinutesWithEstimate);
+        Assert.Equal(49.99, summary.Mains.MinHz!.Value, 9);
+        Assert.Equal(50.008, summary.Mains.MaxHz!.Value, 9);
+        Assert.Equal(49.999, summary.Mains.MeanHz!.Value, 9);
+    }
+
+    [Fact]
+    public void Quiet_gaps_longer_than_the_bridge_split_episodes()
+    {
+        var day = new DateOnly(2026, 6, 15);
+        var (from, _) = LocalDay.RangeUtc(day, NewYork);
+        var rows = new List<LedgerMinute>();
+        int[] on = [10, 11, 12, 14, 15, 30, 31];
+        foreach (var m in on)
+        {
+            rows.Add(new LedgerMinute(from.AddMinutes(m), MinuteLedger.AllSourcesKey, 60, 60, 2, 2, ["Cz"], 60.0));
+            rows.Add(new LedgerMinute(from.AddMinutes(m), "mains/h3", 60, 60, 2, 2, ["Cz"], 60.0));
+        }
+
+        var summary = DaySummarizer.Summarize("room-b", day, NewYork, rows, [], null, new SummaryOptions { EpisodeBridgeMinutes = 1 });
+        var mains = Assert.Single(summary.Sources);
+        Assert.Equal(2, mains.EpisodeCount);
+        Assert.Equal(6, mains.Episodes[0].SpanMinutes); // 10–16 with minute 13 bridged
+        Assert.Equal(5, mains.Episodes[0].AffectedMinutes);
+        Assert.Equal(2, mains.Episodes[1].SpanMinutes);
+        Assert.Equal(3, mains.Harmonic);
+        Assert.Equal("pass", summary.Verdict);
+    }
+
+    [Fact]
+    public void Category_minutes_count_a_minute_once_when_two_harmonics_share_it()
+    {
+        var day = new DateOnly(2026, 6, 15);
+        var (from, _) = LocalDay.RangeUtc(day, Berlin);
+        var rows = new List<LedgerMinute>();
+        for (var m = 0; m < 300; m++)
+        {
+            rows.Add(new LedgerMinute(from.AddMinutes(m), MinuteLedger.AllSourcesKey, 60, 60, 30, 25, ["T3"], 50.0));
+            rows.Add(new LedgerMinute(from.AddMinutes(m), "mains/h1", 60, 60, 30, 25, ["T3"], 50.0));
+            rows.Add(new LedgerMinute(from.AddMinutes(m), "mains/h3", 60, 30, 5, 4, ["T4"], 50.0));
+            rows.Add(new LedgerMinute(from.AddMinutes(m), "fault/Fp1/flat", 60, m < 15 ? 60 : 0, null, null, ["Fp1"], 50.0));
+        }
+
+        var summary = DaySummarizer.Summarize("room-c", day, Berlin, rows, [], null, new SummaryOptions());
+        var mains = summary.Categories.Single(c => c.Category == "mains");
+        Assert.Equal(300, mains.AffectedMinutes, 6); // not 450
+        Assert.Equal("fail", mains.Verdict); // ≥ 240 min
+        Assert.Equal("warn", summary.Categories.Single(c => c.Category == "fault").Verdict); // 15 min ≥ 10
+        Assert.Equal("fail", summary.Verdict);
+        Assert.Equal(2, summary.VerdictReasons.Count);
+        Assert.Equal(30, summary.MaxAmplitudeUvRms);
+        Assert.Equal("Fp1 flat", summary.Sources.Single(s => s.Key == "fault/Fp1/flat").Label);
+    }
+
+    [Fact]
+    public void Alerts_of_the_day_are_counted_by_event_and_severity()
+    {
+        var day = new DateOnly(2026, 3, 8);
+        var (from, to) = LocalDay.RangeUtc(day, NewYork);
+        AlertRecord[] alerts =
+        [
+            new(from.AddMinutes(-1), "mains/h1", "raised", "minor", 60), // day before: ignored
+            new(from.AddHours(1), "mains/h1", "raised", "minor", 60.01),
+            new(from.AddHours(2), "mains/h1", "severity", "marked", 60.01),
+            new(from.AddHours(3), "mains/h1", "cleared", "marked", 60.02),
+            new(from.AddHours(4), "unidentified/37.25Hz", "raised", "severe", 37.25),
+            new(to, "mains/h1", "raised", "severe", 60), // next day: ignored
+        ];
+        var summary = DaySummarizer.Summarize("room-a", day, NewYork, [], alerts, null, new SummaryOptions());
+        Assert.Equal(2, summary.Alerts.Raised);
+        Assert.Equal(1, summary.Alerts.Cleared);
+        Assert.Equal(1, summary.Alerts.SeverityChanges);
+        Assert.Equal(1, summary.Alerts.RaisedMinor);
+        Assert.Equal(1, summary.Alerts.RaisedSevere);
+        var mains = summary.Alerts.ByKey.Single(k => k.Key == "mains/h1");
+        Assert.Equal("marked", mains.PeakSeverity);
+        Assert.Equal("2026-03-08T01:00-05:00", mains.FirstRaisedLocal); // IANA: EST (-05:00) until 02:00 local
+    }
+
+    [Fact]
+    public void Invalid_limits_are_reported_with_their_configuration_keys()
+    {
+        var options = new SummaryOptions
+        {
+            Mains = new DailyLimit { WarnMinutes = 300, FailMinutes = 100 },
+            EpisodeMinuteMinSeconds = 0,
+            WorstChannelCount = 0,
+        };
+        var errors = options.Validate();
+        Assert.Contains(errors, e => e.Contains("Summaries:Day:Mains:WarnMinutes", StringComparison.Ordinal) && e.Contains("Summaries:Day:Mains:FailMinutes", StringComparison.Ordinal));
+        Assert.Contains(errors, e => e.StartsWith("Summaries:Day:EpisodeMinuteMinSeconds", StringComparison.Ordinal));
+        Assert.Contains(errors, e => e.StartsWith("Summaries:Day:WorstChannelCount", StringComparison.Ordinal));
+        var ex = Assert.Throws<ArgumentOutOfRangeException>(() => DaySummarizer.Summarize("r", new DateOnly(2026, 1, 1), Berlin, [], [], null, options));
+        Assert.Equal("options", ex.ParamName);
+    }
+
+    [Theory]
+    [InlineData("mains/h2", SourceCategory.Mains, 2)]
+    [InlineData("display 75 Hz/h2", SourceCategory.Display, 2)]
+    [InlineData("site:pump room drive/h1", SourceCategory.SiteTone, 1)]
+    [InlineData("unidentified/37.25Hz", SourceCategory.Unidentified, null)]
+    [InlineData("fault/Fp1/clipped", SourceCategory.ChannelFault, null)]
+    public void Ledger_keys_are_read_back_into_their_source(string key, SourceCategory category, int? harmonic)
+    {
+        var info = SourceKeyInfo.Parse(key);
+        Assert.Equal(category, info.Category);
+        Assert.Equal(harmonic, info.Harmonic);
+    }
+}

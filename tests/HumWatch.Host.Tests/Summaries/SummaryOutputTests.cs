@@ -1,0 +1,145 @@
+using System.Buffers.Binary;
+using System.Text.Json;
+using HumWatch.Core.Summaries;
+using Xunit;
+
+namespace HumWatch.Host.Tests.Summaries;
+
+public sealed class SummaryOutputTests
+{
+    private static readonly DateOnly Day = new(2026, 10, 25);
+
+    [Fact]
+    public void A_day_fed_in_two_halves_with_a_restart_between_gives_byte_identical_json()
+    {
+        var zone = TimeZoneInfo.FindSystemTimeZoneById("Europe/Berlin");
+        var (from, to) = LocalDay.RangeUtc(Day, zone);
+        var split = from.AddMinutes(617);
+        var now = to.AddHours(1);
+
+        using var once = new SummaryHarness("Europe/Berlin", now);
+        once.Store.AddMinuteRows(SummaryHarness.Rows("room-a", "live-1", from, to, seed: 11));
+        var expected = once.Renderer().RenderDay(Day).Single().Json;
+
+        using var halves = new SummaryHarness("Europe/Berlin", now);
+        var first = SummaryHarness.Rows("room-a", "live-1", from, split, seed: 11);
+        halves.Store.AddMinuteRows(first);
+        halves.Reopen();
+        // After the restart: a re-delivery of the last rows of the first session adds nothing, then a new session continues.
+        halves.Store.AddMinuteRows(first.GetRange(first.Count - 5, 5));
+        var second = SummaryHarness.Rows("room-a", "live-2", from, to, seed: 11).Where(r => r.MinuteUtc >= split).ToList();
+        halves.Store.AddMinuteRows(second);
+        halves.Reopen();
+        var actual = halves.Renderer().RenderDay(Day).Single().Json;
+
+        Assert.Equal(System.Text.Encoding.UTF8.GetString(expected), System.Text.Encoding.UTF8.GetString(actual));
+        Assert.Equal(expected, actual);
+    }
+
+    [Fact]
+    public void Plots_are_pngs_of_the_configured_size_and_their_json_matches_the_summary()
+    {
+        var zone = TimeZoneInfo.FindSystemTimeZoneById("Europe/Berlin");
+        var (from, to) = LocalDay.RangeUtc(Day, zone);
+        using var h = new SummaryHarness("Europe/Berlin", to.AddHours(1));
+        h.Store.AddMinuteRows(SummaryHarness.Rows("room-a", "s1", from, to, seed: 5));
+
+        // Two spectrum parts of one hour: the day's mean is their seconds-weighted mean.
+        var bins = 257;
+        var a = new float[bins];
+        var b = new float[bins];
+        for (var k = 0; k < bins; k++)
+        {
+            a[k] = 1f + k;
+            b[k] = 4f;
+        }
+
+        h.Summaries.AddSpectrumParts(
+        [
+            new SpectrumPart("room-a", "s1", 1, from.AddHours(12), 0.25, 100, a, new Dictionary<string, LineFrequencyTally> { ["display 75 Hz/h1"] = new(750.1, 10) }),
+            new SpectrumPart("room-a", "s1", 2, from.AddHours(12), 0.25, 300, b, new Dictionary<string, LineFrequencyTally> { ["display 75 Hz/h1"] = new(225.0, 3), ["mains/h1"] = new(150.03, 3) }),
+        ]);
+
+        var rendered = h.Renderer().RenderDay(Day).Single();
+        var folder = Path.Combine(h.Options.Folder, "2026-10-25");
+        foreach (var kind in new[] { "spectrum", "timeline", "mains" })
+        {
+            var png = File.ReadAllBytes(Path.Combine(folder, $"room-a.{kind}.png"));
+            // PNG spec (ISO/IEC 15948): 8-byte signature, then the IHDR chunk with big-endian width and height.
+            Assert.Equal(new byte[] { 0x89, 0x50, 0x4E, 0x47, 0x0D, 0x0A, 0x1A, 0x0A }, png[..8]);
+            Assert.Equal("IHDR"u8.ToArray(), png[12..16]);
+            Assert.Equal(h.Options.PlotWidthPx, BinaryPrimitives.ReadInt32BigEndian(png.AsSpan(16)));
+            Assert.Equal(h.Options.PlotHeightPx, BinaryPrimitives.ReadInt32BigEndian(png.AsSpan(20)));
+        }
+
+        using var plots = JsonDocument.Parse(File.ReadAllBytes(Path.Combine(folder, "room-a.plots.json")));
+        using var summary = JsonDocument.Parse(File.ReadAllBytes(Path.Combine(folder, "room-a.json")));
+        var s = summary.RootElement;
+        var p = plots.RootElement;
+
+        // Timeline: the same rows, and each row's hours add up to the source's affected minutes.
+        var rows = p.GetProperty("timeline").GetProperty("rows");
+        var sources = s.GetProperty("sources");
+        Assert.Equal(sources.GetArrayLength(), rows.GetArrayLength());
+        for (var i = 0; i < rows.GetArrayLength(); i++)
+        {
+            Assert.Equal(sources[i].GetProperty("key").GetString(), rows[i].GetProperty("key").GetString());
+            var sum = rows[i].GetProperty("minutes").EnumerateArray().Sum(m => m.GetDouble());
+            Assert.Equal(sources[i].GetProperty("affectedMinutes").GetDouble(), sum, 1);
+        }
+
+        Assert.Equal(25, p.GetProperty("timeline").GetProperty("hourStartsLocal").GetArrayLength());
+
+        // Mains: the plotted series is the summary's track.
+        Assert.Equal(s.GetProperty("mains").GetProperty("hz").GetRawText(), p.GetProperty("mains").GetProperty("hz").GetRawText());
+        Assert.Equal(s.GetProperty("mains").GetProperty("meanHz").GetDouble(), p.GetProperty("mains").GetProperty("meanHz").GetDouble());
+
+        // Spectrum: weighted mean (100 s of 1 + k, 300 s of 4) and one mark per source with a frequency.
+        var psd = p.GetProperty("spectrum").GetProperty("psdUv2PerHz");
+        Assert.Equal(bins, psd.GetArrayLength());
+        for (var k = 0; k < bins; k += 64)
+        {
+            var expected = ((100.0 * (1 + k)) + (300.0 * 4)) / 400;
+            Assert.Equal(expected, psd[k].GetDouble(), expected * 1e-5);
+        }
+
+        var marks = p.GetProperty("spectrum").GetProperty("marks").EnumerateArray().ToDictionary(m => m.GetProperty("key").GetString()!, m => m.GetProperty("frequencyHz").GetDouble());
+        Assert.Equal(75.008, marks["display 75 Hz/h1"], 9); // (750.1 + 225.0) / 13 frames
+        Assert.Equal(50.01, marks["mains/h1"], 9);
+        foreach (var source in sources.EnumerateArray())
+        {
+            Assert.Equal(source.GetProperty("frequencyHz").GetDouble(), marks[source.GetProperty("key").GetString()!]);
+        }
+
+        Assert.Contains("room-a", File.ReadAllText(Path.Combine(folder, "day.md")), StringComparison.Ordinal);
+        Assert.Equal(rendered.Json, File.ReadAllBytes(Path.Combine(folder, "room-a.json")));
+    }
+
+    [Fact]
+    public void On_demand_rendering_rewrites_a_day_and_lists_it()
+    {
+        var zone = TimeZoneInfo.FindSystemTimeZoneById("America/New_York");
+        var (from, to) = LocalDay.RangeUtc(new DateOnly(2026, 3, 8), zone);
+        using var h = new SummaryHarness("America/New_York", to.AddHours(1));
+        h.Store.AddMinuteRows(SummaryHarness.Rows("room-a", "s1", from, to, seed: 9));
+        h.Store.AddMinuteRows(SummaryHarness.Rows("room-b", "s1", from, from.AddHours(2), seed: 9));
+        h.Reopen();
+        h.Summaries.Dispose();
+        h.Store.Dispose();
+
+        var storeOptions = new HumWatch.Host.Store.StoreOptions { Path = h.DbPath };
+        var days = HumWatch.Host.Summaries.SummaryOnDemand.ListDays(storeOptions, zone);
+        var listed = Assert.Single(days);
+        Assert.Equal(23, listed.HoursInDay); // IANA: 2026-03-08 is 23 h in New York
+        Assert.Equal(["room-a", "room-b"], listed.Streams);
+
+        var outDir = Path.Combine(h.Root, "out");
+        var rendered = HumWatch.Host.Summaries.SummaryOnDemand.Render(storeOptions, h.Options, "Test site", zone, new DateOnly(2026, 3, 8), "room-b", outDir);
+        Assert.Equal("room-b", Assert.Single(rendered).Stream);
+        Assert.True(File.Exists(Path.Combine(outDir, "2026-03-08", "room-b.json")));
+        Assert.False(File.Exists(Path.Combine(outDir, "2026-03-08", "room-a.json")));
+        Assert.Contains("room-a", File.ReadAllText(Path.Combine(outDir, "2026-03-08", "day.md")), StringComparison.Ordinal);
+        Assert.Equal(1, HumWatch.Host.Summaries.SummaryOnDemand.ListDays(storeOptions, zone)[0].SummariesWritten);
+        h.Open();
+    }
+}
