@@ -14,6 +14,7 @@ internal static class Program
             RunCommand.Create(),
             DemoCommand.Create(),
             ListenCommand.Create(),
+            SummaryCommand.Create(),
         };
 
         var parse = root.Parse(args);

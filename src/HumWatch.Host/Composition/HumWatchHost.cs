@@ -7,6 +7,8 @@ using HumWatch.Host.Ingest;
 using HumWatch.Host.Monitoring;
 using HumWatch.Host.Publishing;
 using HumWatch.Host.Store;
+using HumWatch.Host.Summaries;
+using HumWatch.Core.Summaries;
 using Microsoft.Extensions.Configuration;
 using Microsoft.Extensions.DependencyInjection;
 using Microsoft.Extensions.DependencyInjection.Extensions;
@@ -106,6 +108,8 @@ public static class HumWatchHost
         services.AddHostedService(sp => sp.GetRequiredService<StreamMonitorService>());
         services.AddSingleton<InboxService>();
         services.AddHostedService(sp => sp.GetRequiredService<InboxService>());
+        services.AddHumWatchSummaries(configuration);
+        services.AddSingleton<ISpectrumPartSink>(sp => sp.GetRequiredService<SummaryStore>());
         settings.ConfigureServices?.Invoke(services, configuration);
         services.AddHumWatchIngest(configuration);
         return builder.Build();
@@ -190,6 +194,15 @@ public static class HumWatchHost
             errors.AddRange(bound.Inbox.Validate());
             errors.AddRange(bound.Site.Validate());
             errors.AddRange(bound.Logs.Validate());
+            try
+            {
+                _ = SummariesServiceCollectionExtensions.Bind(configuration);
+            }
+            catch (ConfigurationException ex)
+            {
+                errors.Add(ex.Message);
+            }
+
             if (ingestResult.Failed)
             {
                 errors.AddRange(ingestResult.Failures ?? []);

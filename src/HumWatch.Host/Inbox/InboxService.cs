@@ -4,6 +4,7 @@ using System.Text.Json;
 using HumWatch.Core.Alerts;
 using HumWatch.Core.Analysis;
 using HumWatch.Core.Reporting;
+using HumWatch.Core.Summaries;
 using HumWatch.Host.Checking;
 using HumWatch.Host.Configuration;
 using HumWatch.Host.Monitoring;
@@ -32,6 +33,7 @@ internal sealed class InboxService : BackgroundService
     private readonly IAlertEventSink _alertSink;
     private readonly IMinuteRowWriter _rowWriter;
     private readonly TimeProvider _time;
+    private readonly ISpectrumPartSink? _spectrumSink;
     private readonly ILogger _logger;
     private readonly Dictionary<string, (long Size, DateTime WriteUtc, long SeenTicks)> _candidates = new(StringComparer.Ordinal);
     private readonly SemaphoreSlim _wake = new(0, 1);
@@ -48,8 +50,10 @@ internal sealed class InboxService : BackgroundService
         IAlertEventSink alertSink,
         IMinuteRowWriter rowWriter,
         TimeProvider time,
-        ILogger<InboxService> logger)
+        ILogger<InboxService> logger,
+        ISpectrumPartSink? spectrumSink = null)
     {
+        _spectrumSink = spectrumSink;
         _options = options.Value;
         _analysis = analysis;
         _limits = limits.Value;
@@ -215,7 +219,8 @@ internal sealed class InboxService : BackgroundService
                     _alertSink,
                     _time.GetUtcNow,
                     RecordingStartUtc(file),
-                    ownAnalyzer: false);
+                    ownAnalyzer: false,
+                    spectrumSink: _spectrumSink);
                 sessions.Add(session);
                 return session;
             },

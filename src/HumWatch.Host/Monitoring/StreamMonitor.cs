@@ -3,6 +3,7 @@ using HumWatch.Core.Alerts;
 using HumWatch.Core.Analysis;
 using HumWatch.Core.Ledger;
 using HumWatch.Core.Signals;
+using HumWatch.Core.Summaries;
 using Microsoft.Extensions.Logging;
 
 namespace HumWatch.Host.Monitoring;
@@ -21,6 +22,7 @@ internal sealed class StreamMonitor : IAsyncDisposable
     private readonly MonitorOptions _options;
     private readonly IAlertEventSink _alertSink;
     private readonly IMinuteRowWriter _rowWriter;
+    private readonly ISpectrumPartSink? _spectrumSink;
     private readonly TimeProvider _time;
     private readonly ILogger _logger;
     private readonly List<MinuteRow> _pendingRows = [];
@@ -39,8 +41,10 @@ internal sealed class StreamMonitor : IAsyncDisposable
         IAlertEventSink alertSink,
         IMinuteRowWriter rowWriter,
         TimeProvider time,
-        ILogger logger)
+        ILogger logger,
+        ISpectrumPartSink? spectrumSink = null)
     {
+        _spectrumSink = spectrumSink;
         StreamId = streamId;
         _analysis = analysis;
         _alerts = alerts;
@@ -151,7 +155,7 @@ internal sealed class StreamMonitor : IAsyncDisposable
     private void StartSession(StreamLayout layout)
     {
         var sessionId = $"{StreamId}@{_time.GetUtcNow().UtcTicks}";
-        _session = new StreamSession(StreamId, sessionId, layout, _analysis, _alerts, _options.LedgerMinAmplitudeUvRms, _alertSink, _time.GetUtcNow);
+        _session = new StreamSession(StreamId, sessionId, layout, _analysis, _alerts, _options.LedgerMinAmplitudeUvRms, _alertSink, _time.GetUtcNow, spectrumSink: _spectrumSink);
         _lastGapCount = 0;
         _logger.SessionStarted(StreamId, layout.ChannelCount, layout.SampleRateHz);
     }

@@ -1,6 +1,7 @@
 using System.Collections.Concurrent;
 using HumWatch.Core.Alerts;
 using HumWatch.Core.Analysis;
+using HumWatch.Core.Summaries;
 using HumWatch.Host.Ingest;
 using HumWatch.Host.Publishing;
 using Microsoft.Extensions.Hosting;
@@ -24,6 +25,7 @@ internal sealed class StreamMonitorService : BackgroundService
     private readonly IAlertEventSink _alertSink;
     private readonly IMinuteRowWriter _rowWriter;
     private readonly IMessagePublisher _publisher;
+    private readonly ISpectrumPartSink? _spectrumSink;
     private readonly TimeProvider _time;
     private readonly ILoggerFactory _loggerFactory;
     private readonly ILogger _logger;
@@ -40,8 +42,10 @@ internal sealed class StreamMonitorService : BackgroundService
         IMinuteRowWriter rowWriter,
         IMessagePublisher publisher,
         TimeProvider time,
-        ILoggerFactory loggerFactory)
+        ILoggerFactory loggerFactory,
+        ISpectrumPartSink? spectrumSink = null)
     {
+        _spectrumSink = spectrumSink;
         _queue = queue;
         _counters = counters;
         _analysis = analysis;
@@ -88,7 +92,7 @@ internal sealed class StreamMonitorService : BackgroundService
             }
 
             monitor = _monitors.GetOrAdd(item.StreamId, id => new StreamMonitor(
-                id, _analysis, _alerts, _options, _alertSink, _rowWriter, _time, _loggerFactory.CreateLogger($"HumWatch.Stream.{id}")));
+                id, _analysis, _alerts, _options, _alertSink, _rowWriter, _time, _loggerFactory.CreateLogger($"HumWatch.Stream.{id}"), _spectrumSink));
         }
 
         if (!monitor.TryPost(item.Chunk))

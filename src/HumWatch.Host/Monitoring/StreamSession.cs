@@ -2,6 +2,7 @@ using HumWatch.Core.Alerts;
 using HumWatch.Core.Analysis;
 using HumWatch.Core.Ledger;
 using HumWatch.Core.Signals;
+using HumWatch.Core.Summaries;
 
 namespace HumWatch.Host.Monitoring;
 
@@ -14,6 +15,8 @@ internal sealed class StreamSession : IAnalysisFrameSink, IMinuteRowSink
     private readonly StreamAnalyzer? _analyzer;
     private readonly AlertBook _alerts;
     private readonly MinuteLedger _ledger;
+    private readonly HourlySpectrumAccumulator? _spectrum;
+    private readonly ISpectrumPartSink? _spectrumSink;
     private readonly IAlertEventSink _alertSink;
     private readonly Func<DateTimeOffset> _clock;
     private readonly DateTimeOffset? _recordingStartUtc;
@@ -27,6 +30,7 @@ internal sealed class StreamSession : IAnalysisFrameSink, IMinuteRowSink
     /// <param name="recordingStartUtc">UTC time of sample 0 when the source has no per-chunk times (files); null for live streams.</param>
     /// <param name="clock">Wall clock for frames whose chunks carry no time.</param>
     /// <param name="ownAnalyzer">False when someone else analyses and hands frames to <see cref="OnFrame"/> (the file checker).</param>
+    /// <param name="spectrumSink">Where hourly mean spectra go for the daily summary plots; null keeps none.</param>
     public StreamSession(
         string streamId,
         string sessionId,
@@ -37,13 +41,20 @@ internal sealed class StreamSession : IAnalysisFrameSink, IMinuteRowSink
         IAlertEventSink alertSink,
         Func<DateTimeOffset> clock,
         DateTimeOffset? recordingStartUtc = null,
-        bool ownAnalyzer = true)
+        bool ownAnalyzer = true,
+        ISpectrumPartSink? spectrumSink = null)
     {
         StreamId = streamId;
         Layout = layout;
         _analyzer = ownAnalyzer ? new StreamAnalyzer(layout, analysis) : null;
         _alerts = new AlertBook(streamId, alerts);
         _ledger = new MinuteLedger(streamId, sessionId, ledgerMinAmplitudeUvRms);
+        if (spectrumSink is not null)
+        {
+            _spectrum = new HourlySpectrumAccumulator(streamId, sessionId, ledgerMinAmplitudeUvRms);
+            _spectrumSink = spectrumSink;
+        }
+
         _alertSink = alertSink;
         _clock = clock;
         _recordingStartUtc = recordingStartUtc;
@@ -84,6 +95,10 @@ internal sealed class StreamSession : IAnalysisFrameSink, IMinuteRowSink
     {
         _alerts.Flush(_lastEndSeconds, _lastEndUtc, _alertSink);
         _ledger.Flush(this);
+        if (_spectrum is not null)
+        {
+            _spectrum.Flush(_spectrumSink!);
+        }
     }
 
     /// <summary>Ledger rows completed since the last call.</summary>
@@ -123,6 +138,7 @@ internal sealed class StreamSession : IAnalysisFrameSink, IMinuteRowSink
         LinesInLastFrame = frame.Lines.Length;
         _alerts.Observe(frame, endUtc, _alertSink);
         _ledger.Observe(frame, endUtc, this);
+        _spectrum?.Observe(frame, endUtc, _spectrumSink!);
     }
 
     public void OnMinuteRow(MinuteRow row) => _rows.Add(row);
