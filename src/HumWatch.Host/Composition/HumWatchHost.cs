@@ -53,6 +53,7 @@ public static class HumWatchHost
         ["Inbox:Folder"] = "humwatch-data/inbox",
         ["Inbox:ArchiveFolder"] = "humwatch-data/archive",
         ["Inbox:RejectedFolder"] = "humwatch-data/rejected",
+        ["Summaries:Folder"] = "humwatch-data/summaries",
     };
 
     /// <summary>Builds the host. Every invalid setting is reported at once.</summary>

@@ -95,6 +95,7 @@ internal static class DemoCommand
             ["Inbox:Folder"] = Path.Combine(dataFolder, "inbox"),
             ["Inbox:ArchiveFolder"] = Path.Combine(dataFolder, "archive"),
             ["Inbox:RejectedFolder"] = Path.Combine(dataFolder, "rejected"),
+            ["Summaries:Folder"] = Path.Combine(dataFolder, "summaries"),
 
             // The demo prints alerts itself; the console log keeps to warnings and errors (the files get everything).
             ["Logs:ConsoleLevel"] = "Warning",
