@@ -97,8 +97,8 @@ internal static class DemoCommand
             ["Inbox:RejectedFolder"] = Path.Combine(dataFolder, "rejected"),
             ["Summaries:Folder"] = Path.Combine(dataFolder, "summaries"),
 
-            // The demo prints alerts itself; the console log keeps to warnings and errors (the files get everything).
-            ["Logs:ConsoleLevel"] = "Warning",
+            // The demo prints alerts itself (alerts are logged as warnings); the console log keeps to errors, the files get everything.
+            ["Logs:ConsoleLevel"] = "Error",
         };
         if (!ServiceRunner.TryParseSettings("demo", settings, overrides))
         {

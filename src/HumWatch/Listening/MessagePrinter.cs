@@ -73,7 +73,10 @@ internal static class MessagePrinter
         var c = CultureInfo.InvariantCulture;
         if (Text(json, "fault") is { } fault)
         {
-            var channel = json.TryGetProperty("worstChannels", out var w) && w.ValueKind == JsonValueKind.Array && w.GetArrayLength() > 0 ? w[0].GetString() : "a channel";
+            // Raise messages name the channel in worstChannels; clear messages only in the key "fault/<channel>/<kind>".
+            var channel = json.TryGetProperty("worstChannels", out var w) && w.ValueKind == JsonValueKind.Array && w.GetArrayLength() > 0
+                ? w[0].GetString()
+                : Text(json, "key")?.Split('/') is [_, var label, _] ? label : "a channel";
             return $"channel {channel} {fault}";
         }
 

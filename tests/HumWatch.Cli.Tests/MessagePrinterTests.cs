@@ -1,0 +1,47 @@
+using System.Text;
+using HumWatch.Cli.Listening;
+using Xunit;
+
+namespace HumWatch.Cli.Tests;
+
+public sealed class MessagePrinterTests
+{
+    [Fact]
+    public void An_alert_line_names_frequency_source_harmonic_severity_amplitude_and_strongest_channels()
+    {
+        var body = """{"v":1,"stream":"room-1","key":"mains/h3","event":"raised","kind":"mains","source":"mains","harmonic":3,"aliased":true,"frequencyHz":150.02,"amplitudeUvRms":2.71,"channelShare":0.25,"worstChannels":["O1","O2"],"severity":"minor","suggestion":"Check O1.","streamSeconds":12,"utc":"2026-05-04T09:00:12Z"}""";
+
+        var line = MessagePrinter.Format("alert/room-1", Encoding.UTF8.GetBytes(body), includeStatus: false);
+
+        Assert.NotNull(line);
+        Assert.Contains("room-1: 150.02 Hz mains ×3, folded minor — raised, 2.7 µV RMS, 25% of channels (strongest: O1, O2)", line, StringComparison.Ordinal);
+        Assert.Contains("hint: Check O1.", line, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void A_fault_clear_names_the_channel_from_its_key()
+    {
+        var body = """{"v":1,"stream":"room-1","key":"fault/T4/flat","kind":"fault","fault":"flat","reason":"subsided","durationSeconds":16,"peakSeverity":"marked","lastSeverity":"marked","streamSeconds":60,"utc":"2026-05-04T09:01:00Z"}""";
+
+        var line = MessagePrinter.Format("clear/room-1", Encoding.UTF8.GetBytes(body), includeStatus: false);
+
+        Assert.Contains("room-1: channel T4 flat cleared (subsided) after 16 s", line, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void Status_lines_appear_only_when_asked_for()
+    {
+        var body = Encoding.UTF8.GetBytes("""{"v":1,"stream":"room-1","utc":"2026-05-04T09:01:00Z","framesAnalysed":30,"linesPresent":2,"activeAlerts":1,"chunksAccepted":100,"chunksDropped":0,"chunksRejected":0,"lagSeconds":0.5}""");
+
+        Assert.Null(MessagePrinter.Format("status/room-1", body, includeStatus: false));
+        Assert.Contains("30 frames, 2 lines, 1 active alerts, 0 dropped, 0.5 s behind", MessagePrinter.Format("status/room-1", body, includeStatus: true), StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void A_body_that_is_not_JSON_is_shown_rather_than_thrown()
+    {
+        var line = MessagePrinter.Format("alert/x", Encoding.UTF8.GetBytes("{oops"), includeStatus: false);
+
+        Assert.Contains("not JSON", line, StringComparison.Ordinal);
+    }
+}
