@@ -37,9 +37,12 @@ internal sealed class LineFinder
     internal const int ShoulderOuterBins = 4;
 
     /// <summary>Shoulder excess (bins 2…4 away, both sides) allowed relative to the peak bin's excess.</summary>
-    internal const double MaxShoulderRatio = 0.6;
+    internal const double MaxShoulderRatio = 0.25;
 
     private const int MinimumFlankBins = 6;
+
+    // Farthest bin of the near level that bounds the floor from below.
+    private const int NearOuterBins = 5;
 
     private readonly int _binCount;
     private readonly double _binWidthHz;
@@ -129,7 +132,9 @@ internal sealed class LineFinder
                 continue;
             }
 
-            var floor = median * _floorCorrection;
+            // The level right beside the main lobe (bins 3…5 away, where a tone leaks < −31 dB) also bounds the floor: on
+            // the slope of a strong rhythm the far flanks sit low, and a χ² fluctuation of the rhythm would otherwise pass.
+            var floor = Math.Max(median * _floorCorrection, NearLevel(psd, k));
             if (p < floor * _minProminenceRatio)
             {
                 continue;
@@ -178,6 +183,28 @@ internal sealed class LineFinder
 
     /// <summary>The smallest prominence a kept peak has, dB.</summary>
     public double MinProminenceDb => _minProminenceDb;
+
+    private double NearLevel(ReadOnlySpan<double> psd, int k)
+    {
+        var sum = 0.0;
+        var count = 0;
+        for (var d = GuardBins; d <= NearOuterBins; d++)
+        {
+            if (k - d >= 1)
+            {
+                sum += psd[k - d];
+                count++;
+            }
+
+            if (k + d < _binCount)
+            {
+                sum += psd[k + d];
+                count++;
+            }
+        }
+
+        return count > 0 ? sum / count : 0;
+    }
 
     private bool IsNarrow(ReadOnlySpan<double> psd, int k, double floor, double excess)
     {
