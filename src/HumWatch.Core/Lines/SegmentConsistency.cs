@@ -10,14 +10,15 @@ namespace HumWatch.Core.Lines;
 /// still (one strong segment dominates the mean), so its random spikes reach 10 dB over the local floor far more often
 /// than χ²₅.₈ suggests (≈ 1e-3 per candidate in simulation). A spike is mostly one segment's doing; a line is in all of
 /// them. A segment confirms a peak when, within ±1 bin of the peak, its own periodogram has a maximum at least 3 dB over
-/// its level 3…5 bins away and that maximum's parabolic (log) frequency lies within 0.35 bins of the averaged
-/// estimate. For K ≤ 3 every segment must confirm, for larger K all but one. A steady 10 dB line passes a segment with
+/// its level 3…5 bins away (6 dB) and that maximum's parabolic (log) frequency lies within 0.3 bins (plus a relative
+/// drift of 5e-4 for a wandering grid's harmonics) of the averaged estimate. For K ≤ 3 every segment must confirm, for larger K all but one. A steady 10 dB line passes a segment with
 /// probability ≈ 0.95; a rhythm's spike passes one of the other segments with ≈ 0.2.
 /// </remarks>
 internal sealed class SegmentConsistency
 {
     private const double MinSegmentRatio = 4.0;
     private const double MaxFrequencyMismatchBins = 0.3;
+    private const double RelativeDrift = 5e-4;
     private const int NearInnerBins = 3;
     private const int NearOuterBins = 5;
 
@@ -110,6 +111,9 @@ internal sealed class SegmentConsistency
         var right = Math.Log(Math.Max(periodogram[best + 1], 1e-12 * p));
         var curvature = left - (2 * centre) + right;
         var offset = curvature < 0 ? Math.Clamp(0.5 * (left - right) / curvature, -1, 1) : 0;
-        return Math.Abs(best + offset - (peak.FrequencyHz / _binWidthHz)) <= MaxFrequencyMismatchBins;
+        // A grid's slow wander moves harmonic h by h times as much: allow a relative drift of 5e-4 between segments
+        // (±0.025 Hz at 50 Hz, ±0.125 Hz at 250 Hz) on top of the estimator's own scatter.
+        var expectedBin = peak.FrequencyHz / _binWidthHz;
+        return Math.Abs(best + offset - expectedBin) <= MaxFrequencyMismatchBins + (RelativeDrift * expectedBin);
     }
 }
