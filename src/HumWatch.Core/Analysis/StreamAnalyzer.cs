@@ -20,6 +20,7 @@ public sealed class StreamAnalyzer
     private readonly SlidingWelch _welch;
     private readonly FaultDetector _faults;
     private readonly LineFinder _finder;
+    private readonly SegmentConsistency _consistency;
     private readonly LineCombiner _combiner;
     private readonly LineAttributor _attributor;
     private readonly AnalysisFrame _frame;
@@ -57,6 +58,7 @@ public sealed class StreamAnalyzer
         var dof = WelchStatistics.EquivalentDegreesOfFreedom(_welch.SegmentLength, _welch.SegmentStep, _welch.SegmentsPerSpan);
         _finder = new LineFinder(options.Lines, _welch.BinCount, _welch.BinWidthHz, dof);
         var stride = _finder.Capacity;
+        _consistency = new SegmentConsistency(_welch.BinWidthHz);
         _combiner = new LineCombiner(channels, stride, _welch.BinWidthHz, _finder.FlankBins, _welch.SegmentsPerSpan, Math.Min(MaxLinesPerFrame, channels * stride));
         _attributor = new LineAttributor(options.Sources, layout.SampleRateHz, _welch.BinWidthHz);
         _frame = new AnalysisFrame(layout, _welch.BinCount, _welch.BinWidthHz);
@@ -195,7 +197,8 @@ public sealed class StreamAnalyzer
                 mean[b] += psd[b];
             }
 
-            _peakCounts[c] = _finder.Find(psd, _peaks.AsSpan(c * stride, stride));
+            var channelPeaks = _peaks.AsSpan(c * stride, stride);
+            _peakCounts[c] = _consistency.Filter(channelPeaks, _finder.Find(psd, channelPeaks), _adapter, c);
             analysed++;
         }
 

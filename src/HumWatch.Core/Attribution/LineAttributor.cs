@@ -16,7 +16,8 @@ namespace HumWatch.Core.Attribution;
 /// <para>Several explanations of one line are ranked, most likely first: (1) the source's fundamental is present in the
 /// frame (a fundamental explains itself; for mains, f̂₀ was found); (2) the source explains more of the frame's other
 /// lines (a grid that shows 50, 150 and 250 Hz is the better explanation for 100 Hz than a 100 Hz display seen nowhere
-/// else); (3) the lower harmonic; (4) the smaller frequency error. The first becomes <see cref="FrameLine.Source"/>, the
+/// else); (3) mains whose fundamental was seen, the commonest line in EEG; (4) the lower harmonic; (5) the smaller
+/// frequency error. The first becomes <see cref="FrameLine.Source"/>, the
 /// rest <see cref="FrameLine.AlsoPossible"/>.</para>
 /// </remarks>
 internal sealed class LineAttributor
@@ -235,7 +236,11 @@ internal sealed class LineAttributor
 
     private sealed record Source(SourceKind Kind, string Name, double NominalHz, double ToleranceHz, int MaxHarmonic);
 
-    private readonly record struct Candidate(SourceMatch Match, int SourceIndex, bool FundamentalPresent, int Support, double AbsErrorHz);
+    private readonly record struct Candidate(SourceMatch Match, int SourceIndex, bool FundamentalPresent, int Support, double AbsErrorHz)
+    {
+        // Mains whose fundamental was seen (f̂₀ estimated): grid pickup is the commonest line in EEG (common practice, no source).
+        public bool AnchoredMains => SourceIndex == 0 && FundamentalPresent;
+    }
 
     private readonly struct ByLikelihood : IComparer<Candidate>
     {
@@ -249,6 +254,11 @@ internal sealed class LineAttributor
             if (x.Support != y.Support)
             {
                 return y.Support.CompareTo(x.Support);
+            }
+
+            if (x.AnchoredMains != y.AnchoredMains)
+            {
+                return x.AnchoredMains ? -1 : 1;
             }
 
             if (x.Match.Harmonic != y.Match.Harmonic)

@@ -18,9 +18,11 @@ namespace HumWatch.Core.Lines;
 /// ≤ −31 dB: relative to the peak bin, the bins 2 … 4 away on both sides sum to ≤ 0.045 of the peak's excess at the
 /// worst (half-bin) offset (Hann kernel |sinc(x)/(1 − x²)|²: 0.04 at 1.5 bins, 8e-4 at 2.5, 7e-5 at 3.5). Biological
 /// rhythms are 1–3 Hz wide: at 0.25 Hz bins a Gaussian bump of 0.75 Hz FWHM already puts 0.67 of its peak there.
-/// A peak is kept only when that shoulder sum stays below <see cref="MaxShoulderRatio"/> (0.6) of the peak's excess —
-/// loose enough that noise rarely rejects a real 10 dB line (shoulder noise σ ≈ 1.5·floor vs 5.4·floor allowed), tight
-/// enough that rhythms wider than ≈ 3 bins are never reported.</para>
+/// A peak is kept only when that shoulder sum stays below <see cref="MaxShoulderRatio"/> (0.25) of the peak's excess:
+/// shoulder noise (σ ≈ 1.5·floor over six bins at ν ≈ 5.8) rejects ≈ 7 % of real lines at exactly 10 dB and almost
+/// none from 13 dB, while a rhythm's χ² spike must reach ≈ 10× its local mean to pass. The floor is also bounded from
+/// below by the mean of the bins 3…5 away (where a tone leaks &lt; −31 dB), so a peak on a rhythm's slope is measured
+/// against the rhythm, not the far flanks. <see cref="SegmentConsistency"/> then checks each segment.</para>
 /// <para><b>Frequency</b> by parabolic interpolation on the log of the floor-subtracted PSD over the peak bin and its
 /// neighbours (J. O. Smith, SASP, "Quadratic Interpolation of Spectral Peaks"; Hann bias ≤ 0.016 bins).
 /// <b>Amplitude</b> √(Σ_{±2 bins}(P − floor)·Δf): the Hann main lobe holds ≥ 99.95 % of a tone's power.</para>
@@ -37,9 +39,12 @@ internal sealed class LineFinder
     internal const int ShoulderOuterBins = 4;
 
     /// <summary>Shoulder excess (bins 2…4 away, both sides) allowed relative to the peak bin's excess.</summary>
-    internal const double MaxShoulderRatio = 0.6;
+    internal const double MaxShoulderRatio = 0.25;
 
     private const int MinimumFlankBins = 6;
+
+    // Farthest bin of the near level that bounds the floor from below.
+    private const int NearOuterBins = 5;
 
     private readonly int _binCount;
     private readonly double _binWidthHz;
@@ -129,7 +134,9 @@ internal sealed class LineFinder
                 continue;
             }
 
-            var floor = median * _floorCorrection;
+            // The level right beside the main lobe (bins 3…5 away, where a tone leaks < −31 dB) also bounds the floor: on
+            // the slope of a strong rhythm the far flanks sit low, and a χ² fluctuation of the rhythm would otherwise pass.
+            var floor = Math.Max(median * _floorCorrection, NearLevel(psd, k));
             if (p < floor * _minProminenceRatio)
             {
                 continue;
@@ -178,6 +185,28 @@ internal sealed class LineFinder
 
     /// <summary>The smallest prominence a kept peak has, dB.</summary>
     public double MinProminenceDb => _minProminenceDb;
+
+    private double NearLevel(ReadOnlySpan<double> psd, int k)
+    {
+        var sum = 0.0;
+        var count = 0;
+        for (var d = GuardBins; d <= NearOuterBins; d++)
+        {
+            if (k - d >= 1)
+            {
+                sum += psd[k - d];
+                count++;
+            }
+
+            if (k + d < _binCount)
+            {
+                sum += psd[k + d];
+                count++;
+            }
+        }
+
+        return count > 0 ? sum / count : 0;
+    }
 
     private bool IsNarrow(ReadOnlySpan<double> psd, int k, double floor, double excess)
     {
