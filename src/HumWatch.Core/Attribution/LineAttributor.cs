@@ -125,15 +125,23 @@ internal sealed class LineAttributor
         for (var l = 0; l < lines.Length; l++)
         {
             var candidates = _candidates.AsSpan(l * MaxCandidatesPerLine, _candidateCounts[l]);
+            var kept = 0;
             for (var c = 0; c < candidates.Length; c++)
             {
-                var candidate = candidates[c];
-                candidates[c] = candidate with
+                var candidate = candidates[c] with
                 {
-                    FundamentalPresent = candidate.Match.Harmonic == 1 || _fundamentalPresent[candidate.SourceIndex],
-                    Support = _explainedLines[candidate.SourceIndex] - 1,
+                    FundamentalPresent = candidates[c].Match.Harmonic == 1 || _fundamentalPresent[candidates[c].SourceIndex],
+                    Support = _explainedLines[candidates[c].SourceIndex] - 1,
                 };
+                if (IsLoneDriftMatch(candidate))
+                {
+                    continue;
+                }
+
+                candidates[kept++] = candidate;
             }
+
+            candidates = candidates[..kept];
 
             NoAllocSort.Sort(candidates, default(ByLikelihood));
             if (candidates.Length == 0)
@@ -150,6 +158,22 @@ internal sealed class LineAttributor
         }
 
         return mainsHz;
+    }
+
+    /// <summary>
+    /// A harmonic whose fundamental is absent, that explains no other line of the frame, and that fits only thanks to
+    /// the drift allowance (h × tolerance) is too weak to name: at high orders that allowance spans several hertz once
+    /// folded (mains ×10 at fs = 256 Hz covers 7–17 Hz), and a biological rhythm would be called mains.
+    /// </summary>
+    private bool IsLoneDriftMatch(Candidate candidate)
+    {
+        if (candidate.Match.Harmonic == 1 || candidate.FundamentalPresent || candidate.Support > 0)
+        {
+            return false;
+        }
+
+        var resolutionWindow = (0.5 + (candidate.Match.Harmonic * EstimatedFundamentalErrorBins)) * _binWidthHz;
+        return candidate.AbsErrorHz > resolutionWindow;
     }
 
     private double EstimateMains(ReadOnlySpan<FrameLine> lines)

@@ -18,14 +18,19 @@ public sealed class RecordingAccumulator : IAnalysisFrameSink
     private readonly List<double> _mainsEstimates = [];
     private readonly double _mergeGapSeconds;
     private readonly double _hopSeconds;
+    private readonly int _minLineFrames;
+    private int _transientPeaks;
     private double _lastFrameEndSeconds;
     private double _analysedSeconds;
     private int _frameCount;
 
     /// <param name="hopSeconds">Time between frames; each frame accounts for this much new time.</param>
     /// <param name="mergeGapSeconds">An absence shorter than this joins two sightings into one episode (a missed frame is not a new episode).</param>
-    public RecordingAccumulator(double hopSeconds, double mergeGapSeconds)
+    /// <param name="minLineFrames">Consecutive frames a peak needs before its episode is reported as a line.</param>
+    public RecordingAccumulator(double hopSeconds, double mergeGapSeconds, int minLineFrames = 1)
     {
+        ArgumentOutOfRangeException.ThrowIfLessThan(minLineFrames, 1);
+        _minLineFrames = minLineFrames;
         ArgumentOutOfRangeException.ThrowIfNegativeOrZero(hopSeconds);
         ArgumentOutOfRangeException.ThrowIfNegative(mergeGapSeconds);
         _hopSeconds = hopSeconds;
@@ -58,7 +63,7 @@ public sealed class RecordingAccumulator : IAnalysisFrameSink
                 _openLines.Add(episode);
             }
 
-            episode.Add(line, frame, rate, newSeconds);
+            episode.Add(line, frame, rate, newSeconds, _frameCount);
         }
 
         foreach (var fault in frame.Faults)
@@ -84,7 +89,7 @@ public sealed class RecordingAccumulator : IAnalysisFrameSink
         ArgumentNullException.ThrowIfNull(layout);
         foreach (var episode in _openLines)
         {
-            _closedLines.Add(episode.ToFinding(layout));
+            Close(episode, layout);
         }
 
         _openLines.Clear();
@@ -103,7 +108,7 @@ public sealed class RecordingAccumulator : IAnalysisFrameSink
             .ThenBy(f => f.Channel)
             .ToList();
         double? mains = _mainsEstimates.Count == 0 ? null : Median(_mainsEstimates);
-        return new RecordingFindings(layout.SampleRateHz, layout.ChannelCount, _analysedSeconds, _frameCount, mains, lines, faults);
+        return new RecordingFindings(layout.SampleRateHz, layout.ChannelCount, _analysedSeconds, _frameCount, mains, lines, faults, _transientPeaks);
     }
 
     private LineEpisode? FindOpenEpisode(FrameLine line, double binWidthHz)
@@ -134,7 +139,7 @@ public sealed class RecordingAccumulator : IAnalysisFrameSink
         {
             if (frame.EndSeconds - _openLines[i].LastSeenFrameEndSeconds > _mergeGapSeconds)
             {
-                _closedLines.Add(_openLines[i].ToFinding(frame.Layout));
+                Close(_openLines[i], frame.Layout);
                 _openLines.RemoveAt(i);
             }
         }
@@ -157,6 +162,18 @@ public sealed class RecordingAccumulator : IAnalysisFrameSink
         {
             _closedFaults.Add(_openFaults[key].ToFinding(key.Item1, frame.Layout.Channels[key.Item1].Label, key.Item2));
             _openFaults.Remove(key);
+        }
+    }
+
+    private void Close(LineEpisode episode, Signals.StreamLayout layout)
+    {
+        if (episode.LongestRunFrames >= _minLineFrames)
+        {
+            _closedLines.Add(episode.ToFinding(layout));
+        }
+        else
+        {
+            _transientPeaks++;
         }
     }
 
@@ -186,8 +203,13 @@ public sealed class RecordingAccumulator : IAnalysisFrameSink
         private double _firstSeconds = double.MaxValue;
         private double _lastSeconds;
         private double _presentSeconds;
+        private int _lastFrameNumber = -2;
+        private int _runFrames;
 
         public SourceMatch Source { get; } = source;
+
+        /// <summary>Most frames in a row that showed the line.</summary>
+        public int LongestRunFrames { get; private set; }
 
         public double LastFrequencyHz { get; private set; }
 
@@ -206,8 +228,11 @@ public sealed class RecordingAccumulator : IAnalysisFrameSink
             return Math.Abs(line.FrequencyHz - LastFrequencyHz) <= 2 * binWidthHz;
         }
 
-        public void Add(FrameLine line, AnalysisFrame frame, double sampleRateHz, double newSeconds)
+        public void Add(FrameLine line, AnalysisFrame frame, double sampleRateHz, double newSeconds, int frameNumber)
         {
+            _runFrames = frameNumber == _lastFrameNumber + 1 ? _runFrames + 1 : 1;
+            _lastFrameNumber = frameNumber;
+            LongestRunFrames = Math.Max(LongestRunFrames, _runFrames);
             LastFrequencyHz = line.FrequencyHz;
             LastSeenFrameEndSeconds = frame.EndSeconds;
             _frequencies.Add(line.FrequencyHz);

@@ -57,6 +57,7 @@ public sealed record LineFinding(
 public sealed record FaultFinding(int Channel, string ChannelLabel, ChannelFaultKind Kind, double FirstSeconds, double LastSeconds);
 
 /// <summary>Everything found in one analysed stream (a recording's rate group, or a whole stream).</summary>
+/// <param name="TransientPeakCount">Peaks never seen in enough consecutive frames to count as lines.</param>
 public sealed record RecordingFindings(
     double SampleRateHz,
     int ChannelCount,
@@ -64,7 +65,8 @@ public sealed record RecordingFindings(
     int FrameCount,
     double? MedianMainsHz,
     IReadOnlyList<LineFinding> Lines,
-    IReadOnlyList<FaultFinding> Faults)
+    IReadOnlyList<FaultFinding> Faults,
+    int TransientPeakCount = 0)
 {
     /// <summary>Applies the limits: fail beats warn beats pass.</summary>
     public Verdict Judge(CheckLimits limits, double recordingSeconds)

@@ -96,7 +96,7 @@ public sealed class RecordingChecker
             analyzers[g] = new StreamAnalyzer(groups[g].Layout, _analysis);
 
             // A line absent for a whole span is a new episode; a single missed frame is not.
-            accumulators[g] = new RecordingAccumulator(hop, _analysis.Spectra.SpanSeconds);
+            accumulators[g] = new RecordingAccumulator(hop, _analysis.Spectra.SpanSeconds, _limits.MinLineFrames);
             var extra = extraSinks?.Invoke(groups[g]);
             sinks[g] = extra is null ? accumulators[g] : new FrameSinkFanout(accumulators[g], extra);
         }
@@ -135,6 +135,11 @@ public sealed class RecordingChecker
                 notes.Add($"The {layout.SampleRateHz:0.###} Hz signals are shorter than one analysis span ({_analysis.Spectra.SpanSeconds:0.##} s): nothing was analysed.");
                 verdict = Max(verdict, Verdict.Warn);
                 continue;
+            }
+
+            if (findings.TransientPeakCount > 0)
+            {
+                notes.Add($"{findings.TransientPeakCount} short-lived peak(s) in the {layout.SampleRateHz:0.###} Hz signals, seen in fewer than {_limits.MinLineFrames} frames in a row (e.g. a rhythm that looked tonal for one span), were not counted as lines.");
             }
 
             if (findings.MedianMainsHz is { } mains)

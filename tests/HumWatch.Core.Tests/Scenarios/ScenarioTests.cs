@@ -166,17 +166,26 @@ public sealed class ScenarioTests
         var simulator = new RoomSimulator(room, 107);
         var analyzer = new StreamAnalyzer(simulator.Layout, new AnalysisOptions());
         var sink = new LineCounter();
+
+        // What users see — the check report's lines (a peak must persist for 3 frames, Check:MinLineFrames) and the
+        // service's alerts (raised after 3 frames) — must stay at zero: no false alarm at all.
+        var report = new HumWatch.Core.Reporting.RecordingAccumulator(hopSeconds: 2, mergeGapSeconds: 8, minLineFrames: new HumWatch.Core.Reporting.CheckLimits().MinLineFrames);
+        var alerts = new HumWatch.Core.Alerts.AlertBook("clean-room", new HumWatch.Core.Alerts.AlertOptions());
+        var raised = new RaiseCounter();
         var buffer = new float[256 * 32 * 10];
         for (var t = 0; t < 40 * 60; t += 10)
         {
             var first = simulator.PositionSamples;
             simulator.Fill(buffer, 2560);
-            analyzer.Append(new Signals.SampleChunk(simulator.Layout, first, 2560, buffer), sink);
+            analyzer.Append(new Signals.SampleChunk(simulator.Layout, first, 2560, buffer), new Fanout(sink, report, frame => alerts.Observe(frame, DateTimeOffset.UnixEpoch.AddSeconds(frame.EndSeconds), raised)));
         }
 
         Assert.Equal(1197, sink.Frames);
         Assert.True(sink.Lines - sink.AlphaBandLines == 0, $"{sink.Lines} lines, e.g. {sink.Example}");
         Assert.True(sink.AlphaBandLines <= 1, $"{sink.AlphaBandLines} alpha-band lines, e.g. {sink.Example}");
+        var findings = report.Complete(simulator.Layout);
+        Assert.Empty(findings.Lines);
+        Assert.Equal(0, raised.Count);
     }
 
     [Fact]
@@ -216,6 +225,29 @@ public sealed class ScenarioTests
             var mains = Assert.IsType<LineSnapshot>(frame.Near(50));
             var clipped = frame.Faults.Any(f => f.Kind == ChannelFaultKind.Clipped);
             Assert.InRange(mains.ChannelShare, clipped ? 0.5 : 1.0, 1.0);
+        }
+    }
+
+    private sealed class RaiseCounter : HumWatch.Core.Alerts.IAlertEventSink
+    {
+        public int Count { get; private set; }
+
+        public void OnAlertEvent(HumWatch.Core.Alerts.AlertEvent alertEvent)
+        {
+            if (alertEvent is HumWatch.Core.Alerts.AlertRaised)
+            {
+                Count++;
+            }
+        }
+    }
+
+    private sealed class Fanout(IAnalysisFrameSink first, IAnalysisFrameSink second, Action<AnalysisFrame> third) : IAnalysisFrameSink
+    {
+        public void OnFrame(AnalysisFrame frame)
+        {
+            first.OnFrame(frame);
+            second.OnFrame(frame);
+            third(frame);
         }
     }
 
