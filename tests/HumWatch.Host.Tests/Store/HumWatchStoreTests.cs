@@ -31,11 +31,11 @@ public sealed class HumWatchStoreTests : IDisposable
     {
         using (var store = Open("sub/dir/store.db"))
         {
-            Assert.Equal(1, store.SchemaVersion);
+            Assert.Equal(StoreSchema.LatestVersion, store.SchemaVersion);
         }
 
         Assert.Equal("wal", RawScalar("PRAGMA journal_mode", "sub/dir/store.db")); // SQLite docs: WAL journal mode is persistent across connections (from memory)
-        Assert.Equal(1L, RawScalar("SELECT max(version) FROM schema_version", "sub/dir/store.db"));
+        Assert.Equal((long)StoreSchema.LatestVersion, RawScalar("SELECT max(version) FROM schema_version", "sub/dir/store.db"));
         Assert.Equal(5L, RawScalar("SELECT count(*) FROM sqlite_master WHERE type = 'table' AND name IN ('alerts', 'minute_ledger', 'minute_ledger_parts', 'file_journal', 'schema_version')", "sub/dir/store.db"));
     }
 
@@ -49,11 +49,11 @@ public sealed class HumWatchStoreTests : IDisposable
 
         using (var store = Open())
         {
-            Assert.Equal(1, store.SchemaVersion);
+            Assert.Equal(StoreSchema.LatestVersion, store.SchemaVersion);
             Assert.Single(store.AlertsBetween(Some.Utc.AddHours(-1), Some.Utc.AddHours(1)));
         }
 
-        Assert.Equal(1L, RawScalar("SELECT count(*) FROM schema_version"));
+        Assert.Equal((long)StoreSchema.LatestVersion, RawScalar("SELECT count(*) FROM schema_version"));
     }
 
     [Fact]
@@ -64,7 +64,7 @@ public sealed class HumWatchStoreTests : IDisposable
 
         var ex = Assert.Throws<InvalidOperationException>(() => Open());
         Assert.Contains("schema version 7", ex.Message, StringComparison.Ordinal);
-        Assert.Contains("(1)", ex.Message, StringComparison.Ordinal);
+        Assert.Contains($"({StoreSchema.LatestVersion})", ex.Message, StringComparison.Ordinal);
         Assert.Contains(_temp.File("store.db"), ex.Message, StringComparison.Ordinal);
     }
 
