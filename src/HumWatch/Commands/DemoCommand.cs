@@ -20,6 +20,7 @@ internal static class DemoCommand
         var scenarios = new Option<string?>("--scenarios") { Description = "Folder of room scenarios (default: the demo-streams folder shipped with HumWatch)." };
         var data = new Option<string>("--data") { Description = "Folder for the store, logs and inbox.", DefaultValueFactory = _ => "humwatch-data" };
         var seconds = new Option<double?>("--seconds") { Description = "Stops by itself after this many wall-clock seconds." };
+        var start = new Option<DateTimeOffset?>("--start") { Description = "UTC time of the rooms' first sample, e.g. 2026-12-01T00:00:00Z to replay a whole day fast (default: now)." };
         var config = new Option<string[]>("--config") { Description = "Configuration file(s) layered over the defaults (repeatable)." };
         var set = new Option<string[]>("--set") { Description = "Overrides one setting, KEY=VALUE (repeatable)." };
         var command = new Command("demo", "Runs the service with simulated recording rooms streaming to it, and prints each alert as it is raised and cleared.")
@@ -28,6 +29,7 @@ internal static class DemoCommand
             scenarios,
             data,
             seconds,
+            start,
             config,
             set,
         };
@@ -36,12 +38,13 @@ internal static class DemoCommand
             parse.GetValue(scenarios),
             parse.GetValue(data)!,
             parse.GetValue(seconds),
+            parse.GetValue(start),
             parse.GetValue(config) ?? [],
             parse.GetValue(set) ?? []));
         return command;
     }
 
-    private static int Run(double speed, string? scenarioFolder, string dataFolder, double? stopAfterSeconds, string[] configFiles, string[] settings)
+    private static int Run(double speed, string? scenarioFolder, string dataFolder, double? stopAfterSeconds, DateTimeOffset? start, string[] configFiles, string[] settings)
     {
         if (!(speed >= 0.1 && speed <= 1000))
         {
@@ -62,7 +65,7 @@ internal static class DemoCommand
             return ExitCodes.BadInput;
         }
 
-        var startUtc = DateTimeOffset.UtcNow;
+        var startUtc = (start ?? DateTimeOffset.UtcNow).ToUniversalTime();
         var rooms = new List<(string StreamId, RoomSimulator Simulator)>();
         foreach (var file in Directory.EnumerateFiles(folder, "*.json").Order(StringComparer.Ordinal))
         {
