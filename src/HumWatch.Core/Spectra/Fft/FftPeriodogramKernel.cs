@@ -103,25 +103,13 @@ internal sealed class FftPeriodogramKernel : IPeriodogramKernel
     /// <inheritdoc/>
     public void Compute(ReadOnlySpan<double> samples, int channelCount, int sampleStride, Span<double> periodograms)
     {
-        ArgumentOutOfRangeException.ThrowIfNegative(channelCount);
-        ArgumentOutOfRangeException.ThrowIfNegative(sampleStride);
-        if (channelCount == 0)
+        if (!PeriodogramArguments.Check(SegmentLength, BinCount, samples, channelCount, sampleStride, periodograms))
         {
             return;
         }
 
         var n = SegmentLength;
         var bins = BinCount;
-        var needed = ((long)(channelCount - 1) * sampleStride) + n;
-        if (samples.Length < needed)
-        {
-            throw new ArgumentException($"Needs at least {needed} samples for {channelCount} segments of {n} with stride {sampleStride} (got {samples.Length}).", nameof(samples));
-        }
-
-        if (periodograms.Length < (long)channelCount * bins)
-        {
-            throw new ArgumentException($"Needs room for {channelCount} × {bins} bins (got {periodograms.Length}).", nameof(periodograms));
-        }
 
         if (_vectorized)
         {
