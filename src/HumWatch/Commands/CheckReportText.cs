@@ -82,7 +82,7 @@ internal static class CheckReportText
 
         if (r.SkippedSignals.Count > 0)
         {
-            o.WriteLine($"  not analysed  {string.Join("; ", r.SkippedSignals.Select(s => $"{s.Label} ({s.Reason})"))}");
+            o.WriteLine($"  not analysed  {string.Join("; ", r.SkippedSignals.Select(s => $"{s.Label}: {s.Reason}"))}");
         }
 
         foreach (var note in r.Notes)
