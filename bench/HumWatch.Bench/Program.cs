@@ -1,7 +1,7 @@
 using HumWatch.Bench;
 
 // Tiny dispatcher: one class per benchmark section, chosen by the first argument.
-IBenchmarkSection[] sections = [new WelchSection(), new KernelSection()];
+IBenchmarkSection[] sections = [new WelchSection(), new KernelSection(), new FrameSection()];
 
 if (args.Length == 0 || args[0] is "-h" or "--help")
 {
