@@ -14,7 +14,7 @@ internal sealed class FrameSection : IBenchmarkSection
 {
     private const double ChunkSeconds = 0.5;
     private const int WarmSeconds = 20;
-    private const int UniqueSeconds = 30;
+    private const int UniqueSeconds = 200;
 
     private static readonly (int Channels, int SampleRateHz, int MemoryStreams)[] Shapes = [(32, 500, 16), (64, 1000, 8), (256, 2048, 2)];
 
@@ -74,6 +74,7 @@ internal sealed class FrameSection : IBenchmarkSection
 
         var plainMs = new double[rounds];
         var fullMs = new double[rounds];
+        var roundBytes = new long[rounds];
         long plainBytes = 0;
         long plainFrames = 0;
         long bookBytes = 0;
@@ -91,7 +92,8 @@ internal sealed class FrameSection : IBenchmarkSection
                 plain.Append(chunks[i], counter);
             }
 
-            plainBytes += GC.GetAllocatedBytesForCurrentThread() - bytes0;
+            roundBytes[r] = GC.GetAllocatedBytesForCurrentThread() - bytes0;
+            plainBytes += roundBytes[r];
             var cpu1 = ThreadClock.NowSeconds();
             plainFrames += counter.Frames - frames0;
             plainMs[r] = (cpu1 - cpu0) * 1e3 / roundSeconds;
@@ -115,7 +117,7 @@ internal sealed class FrameSection : IBenchmarkSection
         var (memory, memoryWithBook) = MemoryPerStream(layout, room.Name, rate, chunks, warmChunks, memoryStreams);
         var name = $"{channels} ch × {rate} Hz";
         Console.WriteLine(F($"{name,-18} {analysisMs,14:F2} {realTime,9:F0}× {realTime,8:F0} {plainBytes / (double)plainFrames,10:F1} {Median(fullMs),14:F2} {bookBytes / (double)bookFrames,12:F1} {memory / 1048576.0,14:F2} {memoryWithBook / 1048576.0,17:F2}"));
-        Console.WriteLine(F($"{"",-18} rounds ms CPU/str-s: analysis [{string.Join(", ", Array.ConvertAll(plainMs, v => v.ToString("F2", System.Globalization.CultureInfo.InvariantCulture)))}], +book+ledger [{string.Join(", ", Array.ConvertAll(fullMs, v => v.ToString("F2", System.Globalization.CultureInfo.InvariantCulture)))}]; {plainFrames} frames timed; alerts raised {bookSink.Raised}, minute rows {bookSink.Rows}; memory from N = {memoryStreams}"));
+        Console.WriteLine(F($"{"",-18} rounds ms CPU/str-s: analysis [{string.Join(", ", Array.ConvertAll(plainMs, v => v.ToString("F2", System.Globalization.CultureInfo.InvariantCulture)))}], +book+ledger [{string.Join(", ", Array.ConvertAll(fullMs, v => v.ToString("F2", System.Globalization.CultureInfo.InvariantCulture)))}]; analysis B per round [{string.Join(", ", roundBytes)}]; {plainFrames} frames timed; alerts raised {bookSink.Raised}, minute rows {bookSink.Rows}; memory from N = {memoryStreams}"));
     }
 
     private static (double Analyzer, double WithBook) MemoryPerStream(StreamLayout layout, string name, int rate, SampleChunk[] chunks, int warmChunks, int n)
