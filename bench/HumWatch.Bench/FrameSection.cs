@@ -13,8 +13,8 @@ namespace HumWatch.Bench;
 internal sealed class FrameSection : IBenchmarkSection
 {
     private const double ChunkSeconds = 0.5;
-    private const int WarmSeconds = 20;
-    private const int UniqueSeconds = 200;
+    private const int WarmSeconds = 60;
+    private const int UniqueSeconds = 60;
 
     private static readonly (int Channels, int SampleRateHz, int MemoryStreams)[] Shapes = [(32, 500, 16), (64, 1000, 8), (256, 2048, 2)];
 
@@ -34,7 +34,7 @@ internal sealed class FrameSection : IBenchmarkSection
         var roundSeconds = options.GetValueOrDefault("--seconds", 60);
         var clock = ThreadClock.IsCpuTime ? "thread CPU time" : "wall time";
         Console.WriteLine(F($"frame: default AnalysisOptions (4 s Welch segments, 50 % overlap, 8 s span, 2 s hop), default kernel; {ChunkSeconds} s chunks; {WarmSeconds} s warm-up, then {rounds} interleaved rounds of {roundSeconds} stream-seconds; medians; {clock}; one thread"));
-        Console.WriteLine("data: RoomSimulator, 50 Hz mains 4 µV RMS + harmonics 2,3 on all channels, 75 Hz display 2 µV RMS on a quarter of them; 30 s generated, replayed with advancing index (generation not timed)");
+        Console.WriteLine($"data: RoomSimulator, 50 Hz mains 4 µV RMS + harmonics 2,3 on all channels, 75 Hz display 2 µV RMS on a quarter of them; {UniqueSeconds} s generated, replayed with advancing index (generation not timed)");
         Console.WriteLine($"load average at start: {LoadAverage()}");
         Console.WriteLine();
         Console.WriteLine($"{"stream",-18} {"analysis",14} {"real-time",10} {"streams",8} {"alloc",10} {"+book+ledger",14} {"book+ledger",12} {"memory/stream",14} {"with book+ledger",17}");
@@ -48,7 +48,7 @@ internal sealed class FrameSection : IBenchmarkSection
         Console.WriteLine("analysis = StreamAnalyzer.Append only; +book+ledger = the same with AlertBook.Observe and MinuteLedger.Observe on every frame (separate analyser, same chunks).");
         Console.WriteLine("real-time factor = stream-seconds analysed per CPU-second; streams per core = that factor (analysis only; ingest, store and publishing excluded).");
         Console.WriteLine("alloc = GC.GetAllocatedBytesForCurrentThread over the timed rounds ÷ frames (steady state, after warm-up); book+ledger B/frame = bytes allocated inside their Observe calls ÷ frames (alert events and minute rows included).");
-        Console.WriteLine("memory/stream = GC.GetTotalMemory(forceFullCollection) delta after creating and warming N analysers (20 s each), ÷ N; chunk data excluded (shared).");
+        Console.WriteLine($"memory/stream = GC.GetTotalMemory(forceFullCollection) delta after creating and warming N analysers ({WarmSeconds} s each), ÷ N; chunk data excluded (shared).");
         Console.WriteLine($"load average at end: {LoadAverage()}");
         return 0;
     }

@@ -55,6 +55,10 @@ internal sealed class IngestLoad(int channels, int sampleRateHz, double chunkSec
             ids[s] = $"load-{s:D4}";
         }
 
+        // Start each step from a clean heap so the previous step's host does not count here.
+        GC.Collect();
+        GC.WaitForPendingFinalizers();
+        GC.Collect();
         var folder = Directory.CreateTempSubdirectory("humwatch-bench-streams-");
         try
         {
@@ -93,23 +97,22 @@ internal sealed class IngestLoad(int channels, int sampleRateHz, double chunkSec
                 var pusherLag = new double[PusherThreads];
                 var sent = new long[PusherThreads];
                 var threads = new Thread[PusherThreads];
+                using var sendingDone = new CountdownEvent(PusherThreads);
+                using var release = new ManualResetEventSlim(false);
                 for (var p = 0; p < PusherThreads; p++)
                 {
                     var pusher = p;
                     threads[p] = new Thread(() =>
                     {
                         var cpuStart = ThreadClock.NowSeconds();
-                        (sent[pusher], pusherLag[pusher]) = Push(ingestEndpoint, layout, ids, pusher, quiet, tagged, sendTicks, startUtc, startTicks, chunkCount);
+                        (sent[pusher], pusherLag[pusher]) = Push(ingestEndpoint, layout, ids, pusher, quiet, tagged, sendTicks, startUtc, startTicks, chunkCount, sendingDone, release);
                         pusherCpu[pusher] = ThreadClock.NowSeconds() - cpuStart;
                     })
                     { IsBackground = true, Name = $"bench-pusher-{p}" };
                     threads[p].Start();
                 }
 
-                foreach (var t in threads)
-                {
-                    t.Join();
-                }
+                sendingDone.Wait();
 
                 // Let the queues drain and a late alert arrive (bounded).
                 var deadline = Stopwatch.GetTimestamp() + (Stopwatch.Frequency * 10);
@@ -128,6 +131,17 @@ internal sealed class IngestLoad(int channels, int sampleRateHz, double chunkSec
                     accepted += c.Accepted;
                     dropped += c.Dropped;
                     rejected += c.RejectedTotal;
+                }
+
+                var liveHeapMb = GC.GetTotalMemory(forceFullCollection: true) / 1048576.0;
+                process.Refresh();
+                var workingSetMb = process.WorkingSet64 / 1048576.0;
+
+                // The PUSH sockets stay open until the counters are read, so nothing queued in them is lost by closing early.
+                release.Set();
+                foreach (var t in threads)
+                {
+                    t.Join();
                 }
 
                 double? latency = null;
@@ -151,8 +165,8 @@ internal sealed class IngestLoad(int channels, int sampleRateHz, double chunkSec
                     latency,
                     100 * cpuSeconds / wallSeconds,
                     100 * pusherCpu.Sum() / wallSeconds,
-                    process.WorkingSet64 / 1048576.0,
-                    GC.GetTotalMemory(false) / 1048576.0,
+                    workingSetMb,
+                    liveHeapMb,
                     pusherLag.Max());
             }
             finally
@@ -168,7 +182,7 @@ internal sealed class IngestLoad(int channels, int sampleRateHz, double chunkSec
     }
 
     /// <summary>Pushes every chunk of the streams this pusher owns (s % threads == pusher) on a real-time schedule.</summary>
-    private (long Sent, double MaxLagSeconds) Push(string endpoint, Core.Signals.StreamLayout layout, string[] ids, int pusher, byte[][] quiet, byte[][] tagged, long[] sendTicks, DateTimeOffset startUtc, long startTicks, int chunkCount)
+    private (long Sent, double MaxLagSeconds) Push(string endpoint, Core.Signals.StreamLayout layout, string[] ids, int pusher, byte[][] quiet, byte[][] tagged, long[] sendTicks, DateTimeOffset startUtc, long startTicks, int chunkCount, CountdownEvent sendingDone, ManualResetEventSlim release)
     {
         using var push = new PushSocket();
         push.Options.Linger = TimeSpan.FromSeconds(5);
@@ -206,6 +220,8 @@ internal sealed class IngestLoad(int channels, int sampleRateHz, double chunkSec
             }
         }
 
+        sendingDone.Signal();
+        release.Wait(TimeSpan.FromSeconds(120));
         return (count, maxLag);
     }
 
