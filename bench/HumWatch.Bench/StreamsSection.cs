@@ -17,11 +17,11 @@ internal sealed class StreamsSection : IBenchmarkSection
 
     public string Name => "streams";
 
-    public string Description => "service load run through the real ingest socket: largest N streams with no drop and alert latency < 5 s [--max N (1–5000, default 2000)] [--seconds S (30–3600, default 60)] [--budget-minutes M (1–240, default 10)] [--from N: skip 32 × 500 steps below N (default 1)]";
+    public string Description => "service load run through the real ingest socket: largest N streams with no drop and alert latency < 5 s [--max N (1–5000, default 2000)] [--seconds S (30–3600, default 60)] [--budget-minutes M (1–240, default 10)] [--from N / --from64 N: skip 32 × 500 / 64 × 1000 steps below N (default 1)]";
 
     public int Run(string[] args)
     {
-        var options = ParseIntOptions("streams", args, ("--max", 1, 5000), ("--seconds", 30, 3600), ("--budget-minutes", 1, 240), ("--from", 1, 5000));
+        var options = ParseIntOptions("streams", args, ("--max", 1, 5000), ("--seconds", 30, 3600), ("--budget-minutes", 1, 240), ("--from", 1, 5000), ("--from64", 1, 5000));
         if (options is null)
         {
             return 2;
@@ -29,6 +29,7 @@ internal sealed class StreamsSection : IBenchmarkSection
 
         var max = options.GetValueOrDefault("--max", 2000);
         var from = options.GetValueOrDefault("--from", 1);
+        var from64 = options.GetValueOrDefault("--from64", 1);
         var seconds = options.GetValueOrDefault("--seconds", 60);
         var budget = TimeSpan.FromMinutes(options.GetValueOrDefault("--budget-minutes", 10));
         var onset = Math.Round(seconds / 3.0);
@@ -39,7 +40,7 @@ internal sealed class StreamsSection : IBenchmarkSection
         Console.WriteLine($"load average at start: {LoadAverage()}");
         var clock = Stopwatch.StartNew();
         var held32 = Search("32 ch × 500 Hz", new IngestLoad(32, 500, ChunkSeconds, seconds, onset), Steps32x500, from, max, seconds, clock, budget * 0.6);
-        var held64 = Search("64 ch × 1000 Hz", new IngestLoad(64, 1000, ChunkSeconds, seconds, onset), Steps64x1000, 1, max, seconds, clock, budget);
+        var held64 = Search("64 ch × 1000 Hz", new IngestLoad(64, 1000, ChunkSeconds, seconds, onset), Steps64x1000, from64, max, seconds, clock, budget);
         Console.WriteLine(F($"largest N held (no drop, alert latency < {MaxLatencySeconds} s): 32 ch × 500 Hz: {Held(held32)}; 64 ch × 1000 Hz: {Held(held64)}"));
         Console.WriteLine($"load average at end: {LoadAverage()}");
         return 0;
