@@ -1,0 +1,299 @@
+using System.Collections.Concurrent;
+using System.Diagnostics;
+using System.Text;
+using System.Text.Json;
+using HumWatch.Formats.Wire;
+using HumWatch.Host.Composition;
+using HumWatch.Host.Ingest;
+using HumWatch.Host.Publishing;
+using Microsoft.Extensions.DependencyInjection;
+using Microsoft.Extensions.Hosting;
+using NetMQ;
+using NetMQ.Sockets;
+
+namespace HumWatch.Bench;
+
+/// <summary>Outcome of one load step.</summary>
+internal sealed record LoadResult(
+    int Streams,
+    long ChunksSent,
+    long ChunksAccepted,
+    long ChunksDropped,
+    long ChunksRejected,
+    double? AlertLatencySeconds,
+    double ProcessCpuPercent,
+    double PusherCpuPercent,
+    double WorkingSetMb,
+    double ManagedHeapMb,
+    double MaxPusherLagSeconds);
+
+/// <summary>
+/// One load step against the real host: N simulated streams pushed through the real ingest socket at real-time rate by
+/// pusher threads, one of them carrying a 50 Hz line switched on at a known time; a SUB socket times its alert.
+/// </summary>
+internal sealed class IngestLoad(int channels, int sampleRateHz, double chunkSeconds, int seconds, double lineOnsetSeconds)
+{
+    /// <summary>Id of the stream that carries the 50 Hz line.</summary>
+    public const string TaggedStream = "load-tagged";
+
+    private const int PusherThreads = 2;
+    private const int PoolSeconds = 20;
+
+    private readonly int _chunkSamples = (int)Math.Round(chunkSeconds * sampleRateHz);
+
+    public LoadResult Run(int streams)
+    {
+        var chunkCount = (int)Math.Round(seconds / chunkSeconds);
+
+        // Payloads: a quiet pool shared by all background streams, and the tagged stream's own chunks.
+        var quiet = Payloads(SimulatedStreams.QuietRoom("load-quiet", channels, sampleRateHz), 31, (int)Math.Round(PoolSeconds / chunkSeconds), out var layout);
+        var tagged = Payloads(SimulatedStreams.QuietRoom(TaggedStream, channels, sampleRateHz, lineOnsetSeconds), 37, chunkCount, out _);
+        var ids = new string[streams];
+        ids[0] = TaggedStream;
+        for (var s = 1; s < streams; s++)
+        {
+            ids[s] = $"load-{s:D4}";
+        }
+
+        // Start each step from a clean heap so the previous step's host does not count here.
+        GC.Collect();
+        GC.WaitForPendingFinalizers();
+        GC.Collect();
+        var folder = Directory.CreateTempSubdirectory("humwatch-bench-streams-");
+        try
+        {
+            using var host = HumWatchHost.Build(new HumWatchHostSettings
+            {
+                Overrides = new Dictionary<string, string?>
+                {
+                    ["Ingest:Endpoints:0:Address"] = "tcp://127.0.0.1:*",
+                    ["Publish:Endpoint"] = "tcp://127.0.0.1:*",
+                    ["Store:Path"] = Path.Combine(folder.FullName, "humwatch.db"),
+                    ["Logs:Folder"] = Path.Combine(folder.FullName, "logs"),
+                    ["Logs:ConsoleLevel"] = "Fatal",
+                    ["Inbox:Folder"] = Path.Combine(folder.FullName, "inbox"),
+                    ["Inbox:ArchiveFolder"] = Path.Combine(folder.FullName, "archive"),
+                    ["Inbox:RejectedFolder"] = Path.Combine(folder.FullName, "rejected"),
+                },
+                ReadWorkingDirectorySettings = false,
+                EnvironmentPrefix = null,
+            });
+            host.StartAsync().GetAwaiter().GetResult();
+            try
+            {
+                var ingestEndpoint = host.Services.GetServices<IHostedService>().OfType<SocketIngestService>().Single().Endpoints[0];
+                var publishEndpoint = host.Services.GetRequiredService<ZmqPublisher>().Endpoint;
+                var counters = host.Services.GetRequiredService<IngestCounters>();
+                using var subscriber = new AlertWatcher(publishEndpoint);
+                Thread.Sleep(500); // let the SUB connect before the tagged line can raise anything
+
+                var sendTicks = new long[chunkCount];
+                var process = Process.GetCurrentProcess();
+                var cpu0 = process.TotalProcessorTime;
+                var wall = Stopwatch.StartNew();
+                var startUtc = DateTimeOffset.UtcNow;
+                var startTicks = Stopwatch.GetTimestamp();
+                var pusherCpu = new double[PusherThreads];
+                var pusherLag = new double[PusherThreads];
+                var sent = new long[PusherThreads];
+                var threads = new Thread[PusherThreads];
+                using var sendingDone = new CountdownEvent(PusherThreads);
+                using var release = new ManualResetEventSlim(false);
+                for (var p = 0; p < PusherThreads; p++)
+                {
+                    var pusher = p;
+                    threads[p] = new Thread(() =>
+                    {
+                        var cpuStart = ThreadClock.NowSeconds();
+                        (sent[pusher], pusherLag[pusher]) = Push(ingestEndpoint, layout, ids, pusher, quiet, tagged, sendTicks, startUtc, startTicks, chunkCount, sendingDone, release);
+                        pusherCpu[pusher] = ThreadClock.NowSeconds() - cpuStart;
+                    })
+                    { IsBackground = true, Name = $"bench-pusher-{p}" };
+                    threads[p].Start();
+                }
+
+                sendingDone.Wait();
+
+                // Let the queues drain and a late alert arrive (bounded).
+                var deadline = Stopwatch.GetTimestamp() + (Stopwatch.Frequency * 10);
+                while (Stopwatch.GetTimestamp() < deadline && subscriber.Alert is null)
+                {
+                    Thread.Sleep(100);
+                }
+
+                Thread.Sleep(2000);
+                process.Refresh();
+                var cpuSeconds = (process.TotalProcessorTime - cpu0).TotalSeconds;
+                var wallSeconds = wall.Elapsed.TotalSeconds;
+                long accepted = 0, dropped = 0, rejected = 0;
+                foreach (var c in counters.Snapshot())
+                {
+                    accepted += c.Accepted;
+                    dropped += c.Dropped;
+                    rejected += c.RejectedTotal;
+                }
+
+                var liveHeapMb = GC.GetTotalMemory(forceFullCollection: true) / 1048576.0;
+                process.Refresh();
+                var workingSetMb = process.WorkingSet64 / 1048576.0;
+
+                // The PUSH sockets stay open until the counters are read, so nothing queued in them is lost by closing early.
+                release.Set();
+                foreach (var t in threads)
+                {
+                    t.Join();
+                }
+
+                double? latency = null;
+                if (subscriber.Alert is { } alert)
+                {
+                    // The chunk completing the evidence holds the raising frame's last sample (index streamSeconds·fs − 1).
+                    var lastSample = (long)Math.Round(alert.StreamSeconds * sampleRateHz) - 1;
+                    var chunk = (int)(lastSample / _chunkSamples);
+                    if (chunk >= 0 && chunk < chunkCount && Volatile.Read(ref sendTicks[chunk]) != 0)
+                    {
+                        latency = (alert.ArrivalTicks - sendTicks[chunk]) / (double)Stopwatch.Frequency;
+                    }
+                }
+
+                return new LoadResult(
+                    streams,
+                    sent.Sum(),
+                    accepted,
+                    dropped,
+                    rejected,
+                    latency,
+                    100 * cpuSeconds / wallSeconds,
+                    100 * pusherCpu.Sum() / wallSeconds,
+                    workingSetMb,
+                    liveHeapMb,
+                    pusherLag.Max());
+            }
+            finally
+            {
+                using var timeout = new CancellationTokenSource(TimeSpan.FromSeconds(30));
+                host.StopAsync(timeout.Token).GetAwaiter().GetResult();
+            }
+        }
+        finally
+        {
+            folder.Delete(recursive: true);
+        }
+    }
+
+    /// <summary>Pushes every chunk of the streams this pusher owns (s % threads == pusher) on a real-time schedule.</summary>
+    private (long Sent, double MaxLagSeconds) Push(string endpoint, Core.Signals.StreamLayout layout, string[] ids, int pusher, byte[][] quiet, byte[][] tagged, long[] sendTicks, DateTimeOffset startUtc, long startTicks, int chunkCount, CountdownEvent sendingDone, ManualResetEventSlim release)
+    {
+        using var push = new PushSocket();
+        push.Options.Linger = TimeSpan.FromSeconds(5);
+        push.Options.SendHighWatermark = 100_000;
+        push.Connect(endpoint);
+        long count = 0;
+        double maxLag = 0;
+        for (var k = 0; k < chunkCount; k++)
+        {
+            // Chunk k is complete (and may be sent) once its last sample exists in real time.
+            var due = startTicks + (long)((k + 1) * chunkSeconds * Stopwatch.Frequency);
+            var wait = due - Stopwatch.GetTimestamp();
+            if (wait > 0)
+            {
+                Thread.Sleep(TimeSpan.FromSeconds(wait / (double)Stopwatch.Frequency));
+            }
+            else
+            {
+                maxLag = Math.Max(maxLag, -wait / (double)Stopwatch.Frequency);
+            }
+
+            var index = (long)k * _chunkSamples;
+            var t0 = startUtc.AddTicks((long)Math.Round(index * (double)TimeSpan.TicksPerSecond / sampleRateHz));
+            for (var s = pusher; s < ids.Length; s += PusherThreads)
+            {
+                var header = ChunkWireCodec.EncodeHeader(ids[s], layout, index, t0);
+                var payload = s == 0 ? tagged[k] : quiet[(k + s) % quiet.Length];
+                push.SendMoreFrame(header).SendFrame(payload);
+                if (s == 0)
+                {
+                    Volatile.Write(ref sendTicks[k], Stopwatch.GetTimestamp());
+                }
+
+                count++;
+            }
+        }
+
+        sendingDone.Signal();
+        release.Wait(TimeSpan.FromSeconds(120));
+        return (count, maxLag);
+    }
+
+    private byte[][] Payloads(Simulation.SimulatedRoom room, int seed, int count, out Core.Signals.StreamLayout layout)
+    {
+        var simulator = new Simulation.RoomSimulator(room, seed);
+        layout = simulator.Layout;
+        var buffer = new float[_chunkSamples * channels];
+        var payloads = new byte[count][];
+        for (var i = 0; i < count; i++)
+        {
+            simulator.Fill(buffer, _chunkSamples);
+            payloads[i] = new byte[buffer.Length * 4];
+            ChunkWireCodec.EncodeSamples(buffer, payloads[i]);
+        }
+
+        return payloads;
+    }
+
+    /// <summary>The first 50 Hz "raised" alert of the tagged stream, with the Stopwatch time it arrived at the SUB socket.</summary>
+    private sealed class AlertWatcher : IDisposable
+    {
+        private readonly CancellationTokenSource _stop = new();
+        private readonly Thread _thread;
+        private volatile ArrivedAlert? _alert;
+
+        public AlertWatcher(string endpoint)
+        {
+            _thread = new Thread(() => Receive(endpoint)) { IsBackground = true, Name = "bench-subscriber" };
+            _thread.Start();
+        }
+
+        public ArrivedAlert? Alert => _alert;
+
+        public void Dispose()
+        {
+            _stop.Cancel();
+            _thread.Join(TimeSpan.FromSeconds(5));
+            _stop.Dispose();
+        }
+
+        private void Receive(string endpoint)
+        {
+            using var subscriber = new SubscriberSocket();
+            subscriber.Options.Linger = TimeSpan.Zero;
+            subscriber.Connect(endpoint);
+            subscriber.Subscribe("alert/" + TaggedStream);
+            var frames = new List<byte[]>();
+            while (!_stop.IsCancellationRequested)
+            {
+                frames.Clear();
+                if (!subscriber.TryReceiveMultipartBytes(TimeSpan.FromMilliseconds(100), ref frames, 2) || frames.Count != 2)
+                {
+                    continue;
+                }
+
+                var arrived = Stopwatch.GetTimestamp();
+                if (_alert is not null || Encoding.UTF8.GetString(frames[0]) != "alert/" + TaggedStream)
+                {
+                    continue;
+                }
+
+                using var body = JsonDocument.Parse(frames[1]);
+                var root = body.RootElement;
+                if (root.GetProperty("event").GetString() == "raised"
+                    && root.TryGetProperty("frequencyHz", out var f) && f.ValueKind == JsonValueKind.Number && Math.Abs(f.GetDouble() - 50) < 1)
+                {
+                    _alert = new ArrivedAlert(root.GetProperty("streamSeconds").GetDouble(), arrived);
+                }
+            }
+        }
+    }
+
+    private sealed record ArrivedAlert(double StreamSeconds, long ArrivalTicks);
+}
