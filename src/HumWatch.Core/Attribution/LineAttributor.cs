@@ -23,6 +23,7 @@ namespace HumWatch.Core.Attribution;
 internal sealed class LineAttributor
 {
     private const int MaxCandidatesPerLine = 16;
+    private const int InitialLineCapacity = 32;
     private const double EstimatedFundamentalErrorBins = 0.1;
 
     private readonly Source[] _sources;
@@ -34,8 +35,8 @@ internal sealed class LineAttributor
     private readonly int[] _explainedLines;
     private readonly bool[] _fundamentalPresent;
     private readonly int[] _lastCountedLine;
-    private Candidate[] _candidates = [];
-    private int[] _candidateCounts = [];
+    private Candidate[] _candidates = new Candidate[InitialLineCapacity * MaxCandidatesPerLine];
+    private int[] _candidateCounts = new int[InitialLineCapacity];
 
     public LineAttributor(SourceCatalogOptions catalog, double sampleRateHz, double binWidthHz)
     {
@@ -250,11 +251,13 @@ internal sealed class LineAttributor
 
     private void EnsureCapacity(int lineCount)
     {
-        // Grows only when a frame has more lines than any before (bounded by the line pool); steady state allocates nothing.
+        // Room for a typical frame up front, then doubling (bounded by the line pool): a frame with one line more than
+        // any before must not allocate again, so steady state allocates nothing.
         if (_candidateCounts.Length < lineCount)
         {
-            _candidateCounts = new int[lineCount];
-            _candidates = new Candidate[lineCount * MaxCandidatesPerLine];
+            var capacity = Math.Max(lineCount, Math.Max(InitialLineCapacity, 2 * _candidateCounts.Length));
+            _candidateCounts = new int[capacity];
+            _candidates = new Candidate[capacity * MaxCandidatesPerLine];
         }
     }
 
