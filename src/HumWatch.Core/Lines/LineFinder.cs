@@ -128,15 +128,22 @@ internal sealed class LineFinder
                 continue;
             }
 
+            // The level right beside the main lobe (bins 3…5 away, where a tone leaks < −31 dB) also bounds the floor: on
+            // the slope of a strong rhythm the far flanks sit low, and a χ² fluctuation of the rhythm would otherwise pass.
+            // It is cheap, so it goes first: most local maxima of noise fail against it and never need the median.
+            var near = NearLevel(psd, k);
+            if (p < near * _minProminenceRatio)
+            {
+                continue;
+            }
+
             var median = LocalFloor.Median(psd, k, GuardBins, _flankBins, 2, MinimumFlankBins, _scratch);
             if (!(median > 0))
             {
                 continue;
             }
 
-            // The level right beside the main lobe (bins 3…5 away, where a tone leaks < −31 dB) also bounds the floor: on
-            // the slope of a strong rhythm the far flanks sit low, and a χ² fluctuation of the rhythm would otherwise pass.
-            var floor = Math.Max(median * _floorCorrection, NearLevel(psd, k));
+            var floor = Math.Max(median * _floorCorrection, near);
             if (p < floor * _minProminenceRatio)
             {
                 continue;

@@ -45,6 +45,8 @@ public sealed class HourlySpectrumAccumulator
 {
     private readonly double _minAmplitudeUvRms;
     private readonly double _flushEverySeconds;
+    private readonly Ledger.LinePersistence _persistence;
+    private long _frameNumber;
     private readonly Dictionary<(SourceKind Kind, string Name, int Harmonic), string> _keys = [];
     private readonly Dictionary<string, LineFrequencyTally> _lines = new(StringComparer.Ordinal);
     private double[] _sum = [];
@@ -58,8 +60,10 @@ public sealed class HourlySpectrumAccumulator
     /// <param name="sessionId">Session id; use the ledger's.</param>
     /// <param name="minAmplitudeUvRms">Lines at or above this amplitude are marked, µV RMS. The default is 1 µV (the ledger's level).</param>
     /// <param name="flushEverySeconds">Most stream time held before a part is emitted, s; 10 to 3600. The default is 300 s.</param>
-    public HourlySpectrumAccumulator(string streamId, string sessionId, double minAmplitudeUvRms = 1.0, double flushEverySeconds = 300)
+    /// <param name="minLineFrames">Frames in a row a line needs before it is marked (as for the ledger and alerts).</param>
+    public HourlySpectrumAccumulator(string streamId, string sessionId, double minAmplitudeUvRms = 1.0, double flushEverySeconds = 300, int minLineFrames = 1)
     {
+        _persistence = new Ledger.LinePersistence(minLineFrames);
         ArgumentException.ThrowIfNullOrWhiteSpace(streamId);
         ArgumentException.ThrowIfNullOrWhiteSpace(sessionId);
         if (!(minAmplitudeUvRms >= 0) || !double.IsFinite(minAmplitudeUvRms))
@@ -124,6 +128,7 @@ public sealed class HourlySpectrumAccumulator
         }
 
         _seconds += newSeconds;
+        _frameNumber++;
         var lines = frame.Lines;
         for (var i = 0; i < lines.Length; i++)
         {
@@ -134,6 +139,12 @@ public sealed class HourlySpectrumAccumulator
             }
 
             var key = KeyOf(line.Source, line.FrequencyHz, frame.BinWidthHz);
+            _persistence.Seen(key, _frameNumber);
+            if (!_persistence.IsPersistent(key, _frameNumber))
+            {
+                continue;
+            }
+
             var tally = _lines.GetValueOrDefault(key);
             _lines[key] = new LineFrequencyTally(tally.SumHz + line.FrequencyHz, tally.Frames + 1);
         }

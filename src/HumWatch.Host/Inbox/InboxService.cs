@@ -216,6 +216,7 @@ internal sealed class InboxService : BackgroundService
                     _analysis,
                     _alerts,
                     _monitor.LedgerMinAmplitudeUvRms,
+                    _monitor.LedgerMinLineFrames,
                     _alertSink,
                     _time.GetUtcNow,
                     RecordingStartUtc(file),

@@ -155,7 +155,7 @@ internal sealed class StreamMonitor : IAsyncDisposable
     private void StartSession(StreamLayout layout)
     {
         var sessionId = $"{StreamId}@{_time.GetUtcNow().UtcTicks}";
-        _session = new StreamSession(StreamId, sessionId, layout, _analysis, _alerts, _options.LedgerMinAmplitudeUvRms, _alertSink, _time.GetUtcNow, spectrumSink: _spectrumSink);
+        _session = new StreamSession(StreamId, sessionId, layout, _analysis, _alerts, _options.LedgerMinAmplitudeUvRms, _options.LedgerMinLineFrames, _alertSink, _time.GetUtcNow, spectrumSink: _spectrumSink);
         _lastGapCount = 0;
         _logger.SessionStarted(StreamId, layout.ChannelCount, layout.SampleRateHz);
     }

@@ -38,6 +38,7 @@ internal sealed class StreamSession : IAnalysisFrameSink, IMinuteRowSink
         AnalysisOptions analysis,
         AlertOptions alerts,
         double ledgerMinAmplitudeUvRms,
+        int ledgerMinLineFrames,
         IAlertEventSink alertSink,
         Func<DateTimeOffset> clock,
         DateTimeOffset? recordingStartUtc = null,
@@ -48,10 +49,10 @@ internal sealed class StreamSession : IAnalysisFrameSink, IMinuteRowSink
         Layout = layout;
         _analyzer = ownAnalyzer ? new StreamAnalyzer(layout, analysis) : null;
         _alerts = new AlertBook(streamId, alerts);
-        _ledger = new MinuteLedger(streamId, sessionId, ledgerMinAmplitudeUvRms);
+        _ledger = new MinuteLedger(streamId, sessionId, ledgerMinAmplitudeUvRms, ledgerMinLineFrames);
         if (spectrumSink is not null)
         {
-            _spectrum = new HourlySpectrumAccumulator(streamId, sessionId, ledgerMinAmplitudeUvRms);
+            _spectrum = new HourlySpectrumAccumulator(streamId, sessionId, ledgerMinAmplitudeUvRms, minLineFrames: ledgerMinLineFrames);
             _spectrumSink = spectrumSink;
         }
 
