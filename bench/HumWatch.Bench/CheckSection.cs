@@ -83,7 +83,8 @@ internal sealed class CheckSection : IBenchmarkSection
             return 2;
         }
 
-        var checker = new RecordingChecker(new AnalysisOptions(), new CheckLimits());
+        // As `humwatch check` runs it: spectra spread over every core.
+        var checker = new RecordingChecker(new AnalysisOptions(), new CheckLimits(), Environment.ProcessorCount);
         var process = Process.GetCurrentProcess();
         var cpu0 = process.TotalProcessorTime;
         var start = Stopwatch.StartNew();

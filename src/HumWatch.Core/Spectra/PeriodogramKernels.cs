@@ -18,4 +18,11 @@ public static class PeriodogramKernels
     /// <summary>The MathNet.Numerics reference kernel for any <paramref name="segmentLength"/> (≥ 2) at <paramref name="sampleRateHz"/> (> 0); slower, allocates per transform.</summary>
     public static IPeriodogramKernel CreateReference(int segmentLength, double sampleRateHz) =>
         new MathNetPeriodogramKernel(segmentLength, sampleRateHz);
+
+    /// <summary>
+    /// A kernel that spreads each batch of channels over <paramref name="ways"/> threads (≥ 1) — for analysing one long
+    /// recording on every core. Same results as <see cref="Create"/>; allocates a little per call.
+    /// </summary>
+    public static IPeriodogramKernel CreateParallel(int segmentLength, double sampleRateHz, int ways) =>
+        ways <= 1 ? Create(segmentLength, sampleRateHz) : new ParallelPeriodogramKernel(segmentLength, sampleRateHz, ways);
 }

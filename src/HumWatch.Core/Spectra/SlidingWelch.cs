@@ -31,6 +31,15 @@ public sealed class SlidingWelch
     /// with <paramref name="options"/> (checked by <see cref="SpectralOptions.Validate"/>). <paramref name="kernel"/> defaults
     /// to <see cref="PeriodogramKernels.Create"/>; a given kernel must have <see cref="SegmentLength"/> and the same sample rate.
     /// </summary>
+    /// <summary>Samples per Welch segment for these options at this rate, as the constructor computes them (for building a kernel up front).</summary>
+    public static int SegmentLengthFor(SpectralOptions options, double sampleRateHz)
+    {
+        ArgumentNullException.ThrowIfNull(options);
+        return (int)SegmentSamplesFor(options, sampleRateHz);
+    }
+
+    private static double SegmentSamplesFor(SpectralOptions options, double sampleRateHz) => Math.Round(options.SegmentSeconds * sampleRateHz);
+
     public SlidingWelch(double sampleRateHz, int channelCount, SpectralOptions options, IPeriodogramKernel? kernel = null)
     {
         if (!(sampleRateHz > 0) || !double.IsFinite(sampleRateHz))
@@ -46,7 +55,7 @@ public sealed class SlidingWelch
             throw new ArgumentException(string.Join(" ", errors), nameof(options));
         }
 
-        var segmentSamples = Math.Round(options.SegmentSeconds * sampleRateHz);
+        var segmentSamples = SegmentSamplesFor(options, sampleRateHz);
         if (segmentSamples < 2 || segmentSamples > MaxSegmentLength)
         {
             throw new ArgumentException($"Spectra:SegmentSeconds = {options.SegmentSeconds} s at {sampleRateHz} Hz gives {segmentSamples} samples per segment; it must give 2 … {MaxSegmentLength}.", nameof(options));

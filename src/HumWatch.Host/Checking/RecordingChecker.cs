@@ -3,6 +3,7 @@ using HumWatch.Core.Analysis;
 using HumWatch.Core.Attribution;
 using HumWatch.Core.Faults;
 using HumWatch.Core.Reporting;
+using HumWatch.Core.Spectra;
 using HumWatch.Formats;
 
 namespace HumWatch.Host.Checking;
@@ -15,9 +16,14 @@ public sealed class RecordingChecker
 {
     private readonly AnalysisOptions _analysis;
     private readonly CheckLimits _limits;
+    private readonly int _fftThreads;
 
-    public RecordingChecker(AnalysisOptions analysis, CheckLimits limits)
+    /// <param name="fftThreads">Threads for each group's spectra: the `check` command uses every core for its one file;
+    /// the service's inbox keeps one, since streams already run in parallel.</param>
+    public RecordingChecker(AnalysisOptions analysis, CheckLimits limits, int fftThreads = 1)
     {
+        ArgumentOutOfRangeException.ThrowIfLessThan(fftThreads, 1);
+        _fftThreads = fftThreads;
         ArgumentNullException.ThrowIfNull(analysis);
         ArgumentNullException.ThrowIfNull(limits);
         var errors = analysis.Validate().Concat(limits.Validate()).ToList();
@@ -93,7 +99,9 @@ public sealed class RecordingChecker
         var sinks = new IAnalysisFrameSink[groups.Count];
         for (var g = 0; g < groups.Count; g++)
         {
-            analyzers[g] = new StreamAnalyzer(groups[g].Layout, _analysis);
+            var rate = groups[g].Layout.SampleRateHz;
+            var kernel = PeriodogramKernels.CreateParallel(SlidingWelch.SegmentLengthFor(_analysis.Spectra, rate), rate, _fftThreads);
+            analyzers[g] = new StreamAnalyzer(groups[g].Layout, _analysis, kernel);
 
             // A line absent for a whole span is a new episode; a single missed frame is not.
             accumulators[g] = new RecordingAccumulator(hop, _analysis.Spectra.SpanSeconds, _limits.MinLineFrames);

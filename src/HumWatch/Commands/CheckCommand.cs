@@ -54,7 +54,7 @@ internal static class CheckCommand
             }
 
             var configuration = ConfigLoader.Build(configFiles, overrides);
-            checker = new RecordingChecker(ConfigLoader.BindAnalysis(configuration), ConfigLoader.BindCheckLimits(configuration));
+            checker = new RecordingChecker(ConfigLoader.BindAnalysis(configuration), ConfigLoader.BindCheckLimits(configuration), Environment.ProcessorCount);
         }
         catch (ConfigurationException ex)
         {
