@@ -97,7 +97,8 @@ public static class HumWatchHost
         services.AddSingleton(Options.Create(bound.Site));
         services.AddSingleton(sp => new HumWatchStore(bound.Store, sp.GetRequiredService<TimeProvider>()));
         services.AddSingleton<IAlertEventStore>(sp => sp.GetRequiredService<HumWatchStore>());
-        services.AddSingleton<IMinuteRowWriter>(sp => new StoreMinuteRowWriter(sp.GetRequiredService<HumWatchStore>()));
+        services.AddSingleton(sp => new LedgerWriter(sp.GetRequiredService<HumWatchStore>(), sp.GetRequiredService<ILogger<LedgerWriter>>()));
+        services.AddSingleton<IMinuteRowWriter>(sp => new StoreMinuteRowWriter(sp.GetRequiredService<LedgerWriter>()));
         services.AddSingleton(sp => new ZmqPublisher(bound.Publish, sp.GetRequiredService<ILogger<ZmqPublisher>>()));
         services.AddSingleton<IMessagePublisher>(sp => sp.GetRequiredService<ZmqPublisher>());
         services.AddSingleton<AlertDispatcher>();

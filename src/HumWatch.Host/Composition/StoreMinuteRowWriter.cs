@@ -4,14 +4,16 @@ using HumWatch.Host.Store;
 
 namespace HumWatch.Host.Composition;
 
-/// <summary>Ledger rows go to the SQLite store.</summary>
-internal sealed class StoreMinuteRowWriter(HumWatchStore store) : IMinuteRowWriter
+/// <summary>Ledger rows go to the store through the <see cref="LedgerWriter"/>, which keeps refused rows (bounded) for the next write.</summary>
+internal sealed class StoreMinuteRowWriter(LedgerWriter writer) : IMinuteRowWriter
 {
     public void Write(IReadOnlyList<MinuteRow> rows)
     {
-        if (rows.Count > 0)
+        foreach (var row in rows)
         {
-            store.AddMinuteRows(rows);
+            writer.OnMinuteRow(row);
         }
+
+        writer.Flush();
     }
 }

@@ -5,6 +5,6 @@ namespace HumWatch.Host.Monitoring;
 /// <summary>Where completed ledger minutes go (the store, or a test double).</summary>
 internal interface IMinuteRowWriter
 {
-    /// <summary>Writes the rows; throws on failure so the caller can keep them for a retry.</summary>
+    /// <summary>Writes the rows, and any refused earlier; never throws (failures are kept for the next call and logged).</summary>
     void Write(IReadOnlyList<MinuteRow> rows);
 }

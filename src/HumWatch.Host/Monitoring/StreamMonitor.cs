@@ -14,8 +14,6 @@ namespace HumWatch.Host.Monitoring;
 /// </summary>
 internal sealed class StreamMonitor : IAsyncDisposable
 {
-    private const int MaxPendingRows = 100_000;
-
     private readonly Channel<MonitorItem> _queue;
     private readonly AnalysisOptions _analysis;
     private readonly AlertOptions _alerts;
@@ -25,7 +23,6 @@ internal sealed class StreamMonitor : IAsyncDisposable
     private readonly ISpectrumPartSink? _spectrumSink;
     private readonly TimeProvider _time;
     private readonly ILogger _logger;
-    private readonly List<MinuteRow> _pendingRows = [];
     private readonly Task _worker;
     private StreamSession? _session;
     private long _lastGapCount;
@@ -173,30 +170,8 @@ internal sealed class StreamMonitor : IAsyncDisposable
         _session = null;
     }
 
-    private void WriteRows(IReadOnlyList<MinuteRow> rows)
-    {
-        if (rows.Count == 0 && _pendingRows.Count == 0)
-        {
-            return;
-        }
-
-        _pendingRows.AddRange(rows);
-        try
-        {
-            _rowWriter.Write(_pendingRows);
-            _pendingRows.Clear();
-        }
-        catch (Exception ex) when (ex is not OutOfMemoryException)
-        {
-            // Kept for the next attempt; the oldest go only past a bound, and that is logged.
-            if (_pendingRows.Count > MaxPendingRows)
-            {
-                _pendingRows.RemoveRange(0, _pendingRows.Count - MaxPendingRows);
-            }
-
-            _logger.LedgerWriteFailed(ex, rows.Count, _pendingRows.Count);
-        }
-    }
+    // The writer keeps rows the store refused and retries them with the next call, so call it even with none.
+    private void WriteRows(IReadOnlyList<MinuteRow> rows) => _rowWriter.Write(rows);
 
     private async Task RunAsync()
     {
