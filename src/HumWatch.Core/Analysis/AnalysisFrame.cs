@@ -59,6 +59,34 @@ public sealed class AnalysisFrame
     internal ChannelFault[] FaultBuffer { get; set; } = [];
 
     internal int FaultCount { get; set; }
+
+    /// <summary>
+    /// A deep copy with buffers of its own, for a sink that keeps frames beyond <see cref="IAnalysisFrameSink.OnFrame"/>
+    /// (e.g. to hand them to another thread). Allocates; not for the allocation-free streaming path.
+    /// </summary>
+    public AnalysisFrame Clone()
+    {
+        var copy = new AnalysisFrame(Layout, MeanPsdBuffer.Length, BinWidthHz)
+        {
+            StartSampleIndex = StartSampleIndex,
+            EndSampleIndex = EndSampleIndex,
+            StartUtc = StartUtc,
+            AnalysedChannelCount = AnalysedChannelCount,
+            EstimatedMainsHz = EstimatedMainsHz,
+            LineCount = LineCount,
+            LineBuffer = new FrameLine[LineCount],
+            FaultCount = FaultCount,
+            FaultBuffer = Faults.ToArray(),
+        };
+        MeanPsdBuffer.CopyTo(copy.MeanPsdBuffer, 0);
+        for (var i = 0; i < LineCount; i++)
+        {
+            copy.LineBuffer[i] = new FrameLine();
+            copy.LineBuffer[i].CopyFrom(LineBuffer[i]);
+        }
+
+        return copy;
+    }
 }
 
 /// <summary>Receives frames from a <see cref="StreamAnalyzer"/>.</summary>

@@ -104,4 +104,23 @@ public sealed class FrameLine
             _alternatives[_alternativeCount++] = match;
         }
     }
+
+    /// <summary>Makes this line a copy of <paramref name="other"/>.</summary>
+    internal void CopyFrom(FrameLine other)
+    {
+        FrequencyHz = other.FrequencyHz;
+        AmplitudeUvRms = other.AmplitudeUvRms;
+        MaxAmplitudeUvRms = other.MaxAmplitudeUvRms;
+        ProminenceDb = other.ProminenceDb;
+        AffectedChannelCount = other.AffectedChannelCount;
+        ChannelShare = other.ChannelShare;
+        EvidenceStartSampleIndex = other.EvidenceStartSampleIndex;
+        EvidenceEndSampleIndex = other.EvidenceEndSampleIndex;
+        Source = other.Source;
+        other._worstChannels.CopyTo(_worstChannels, 0);
+        other._worstAmplitudesUvRms.CopyTo(_worstAmplitudesUvRms, 0);
+        other._alternatives.CopyTo(_alternatives, 0);
+        _worstCount = other._worstCount;
+        _alternativeCount = other._alternativeCount;
+    }
 }

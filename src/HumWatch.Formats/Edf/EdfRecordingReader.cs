@@ -10,7 +10,7 @@ namespace HumWatch.Formats.Edf;
 /// Streams an EDF/EDF+/BDF/BDF+ file record by record through one pooled record buffer, converting analysed signals
 /// to µV with the EDF scaling physical = phys_min + (digital − dig_min)·(phys_max − phys_min)/(dig_max − dig_min).
 /// </summary>
-internal sealed class EdfRecordingReader : IRecordingReader
+internal sealed class EdfRecordingReader : IRecordingReader, IRecordRangeReader
 {
     private const int FileBufferBytes = 1 << 20;
 
@@ -152,17 +152,43 @@ internal sealed class EdfRecordingReader : IRecordingReader
 
     public IEnumerable<GroupChunk> ReadChunks(double chunkSeconds = 2.0)
     {
+        CheckChunkSeconds(chunkSeconds);
+        return ReadChunksCore(chunkSeconds, 0, _header.RecordCount, reuseBuffers: false, collectAnnotations: true);
+    }
+
+    public bool CanReadRanges => !_header.IsDiscontinuous;
+
+    public long RecordCount => _header.RecordCount;
+
+    public double RecordDurationSeconds => _header.RecordDurationSeconds;
+
+    public IReadOnlyList<int> SamplesPerRecord => [.. _plans.Select(p => p.SamplesPerRecord)];
+
+    public IEnumerable<GroupChunk> ReadRecordRange(long firstRecord, long recordCount, double chunkSeconds = 2.0)
+    {
+        CheckChunkSeconds(chunkSeconds);
+        if (!CanReadRanges)
+        {
+            throw new InvalidOperationException($"{Info.Path}: {_header.Format} has gaps between records; read it in order with ReadChunks.");
+        }
+
+        ArgumentOutOfRangeException.ThrowIfNegative(firstRecord);
+        ArgumentOutOfRangeException.ThrowIfLessThan(recordCount, 1);
+        ArgumentOutOfRangeException.ThrowIfGreaterThan(recordCount, _header.RecordCount - firstRecord);
+        return ReadChunksCore(chunkSeconds, firstRecord, recordCount, reuseBuffers: true, collectAnnotations: false);
+    }
+
+    private static void CheckChunkSeconds(double chunkSeconds)
+    {
         if (!double.IsFinite(chunkSeconds) || chunkSeconds <= 0 || chunkSeconds > 3600)
         {
             throw new ArgumentOutOfRangeException(nameof(chunkSeconds), chunkSeconds, "Chunk length must be in (0, 3600] seconds.");
         }
-
-        return ReadChunksCore(chunkSeconds);
     }
 
     public void Dispose() => _stream.Dispose();
 
-    private IEnumerable<GroupChunk> ReadChunksCore(double chunkSeconds)
+    private IEnumerable<GroupChunk> ReadChunksCore(double chunkSeconds, long firstRecord, long recordCount, bool reuseBuffers, bool collectAnnotations)
     {
         var header = _header;
         var path = Info.Path;
@@ -177,22 +203,24 @@ internal sealed class EdfRecordingReader : IRecordingReader
         var recordsPerChunk = (int)Math.Clamp(Math.Round(chunkSeconds / header.RecordDurationSeconds), 1, int.MaxValue);
         recordsPerChunk = (int)Math.Max(1, Math.Min(recordsPerChunk, EdfHeader.MaxRecordBytes / 4 / floatsPerRecord));
 
-        _annotations.Clear();
+        // Annotations of a range are parsed (a malformed one is still an error) into a list nobody reads.
+        var annotations = collectAnnotations ? _annotations : [];
+        annotations.Clear();
         var batches = new Batch[_plans.Length];
         for (var g = 0; g < _plans.Length; g++)
         {
-            batches[g] = new Batch(_plans[g], recordsPerChunk);
+            batches[g] = new Batch(_plans[g], recordsPerChunk, reuseBuffers);
         }
 
         var record = ArrayPool<byte>.Shared.Rent(recordBytes);
         try
         {
-            _stream.Position = header.HeaderBytes;
+            _stream.Position = header.HeaderBytes + (firstRecord * recordBytes);
             double? firstOnset = null;
-            for (long r = 0; r < header.RecordCount; r++)
+            for (var r = firstRecord; r < firstRecord + recordCount; r++)
             {
                 ReadRecord(record, recordBytes, r);
-                var onset = ParseRecordAnnotations(record, r);
+                var onset = ParseRecordAnnotations(record, r, annotations);
                 if (header.IsDiscontinuous)
                 {
                     if (onset is null)
@@ -265,7 +293,7 @@ internal sealed class EdfRecordingReader : IRecordingReader
         }
     }
 
-    private double? ParseRecordAnnotations(byte[] record, long recordIndex)
+    private double? ParseRecordAnnotations(byte[] record, long recordIndex, List<RecordingAnnotation> annotations)
     {
         double? recordOnset = null;
         for (var a = 0; a < _annotationSignals.Length; a++)
@@ -274,7 +302,7 @@ internal sealed class EdfRecordingReader : IRecordingReader
             var bytes = record.AsSpan((int)s.ByteOffsetInRecord, s.SamplesPerRecord * _header.BytesPerSample);
             try
             {
-                var first = TalParser.Parse(bytes, _annotations);
+                var first = TalParser.Parse(bytes, annotations);
                 if (a == 0)
                 {
                     recordOnset = first;
@@ -328,8 +356,8 @@ internal sealed class EdfRecordingReader : IRecordingReader
         public double[] OffsetUv { get; }
     }
 
-    /// <summary>Collects whole records of one group into a chunk buffer owned by the chunk it becomes.</summary>
-    private sealed class Batch(GroupPlan plan, int recordsPerChunk)
+    /// <summary>Collects whole records of one group into a chunk buffer owned by the chunk it becomes, or reused for the next chunk when reading a range.</summary>
+    private sealed class Batch(GroupPlan plan, int recordsPerChunk, bool reuseBuffer)
     {
         private readonly int _capacityPerChannel = plan.SamplesPerRecord * recordsPerChunk;
         private float[]? _buffer;
@@ -347,17 +375,16 @@ internal sealed class EdfRecordingReader : IRecordingReader
 
         public void Append(byte[] record, bool isBdf)
         {
-            if (_buffer is null)
+            if (Filled == 0)
             {
-                _buffer = new float[_capacityPerChannel * Plan.Layout.ChannelCount];
+                _buffer ??= new float[_capacityPerChannel * Plan.Layout.ChannelCount];
                 _firstIndex = PendingStart;
-                Filled = 0;
             }
 
             var n = Plan.SamplesPerRecord;
             for (var c = 0; c < Plan.ByteOffsets.Length; c++)
             {
-                var dst = _buffer.AsSpan((c * _capacityPerChannel) + Filled, n);
+                var dst = _buffer!.AsSpan((c * _capacityPerChannel) + Filled, n);
                 var scale = Plan.ScaleUv[c];
                 var offset = Plan.OffsetUv[c];
                 if (isBdf)
@@ -372,11 +399,7 @@ internal sealed class EdfRecordingReader : IRecordingReader
                 }
                 else if (BitConverter.IsLittleEndian)
                 {
-                    var src = MemoryMarshal.Cast<byte, short>(record.AsSpan(Plan.ByteOffsets[c], n * 2));
-                    for (var i = 0; i < dst.Length; i++)
-                    {
-                        dst[i] = (float)((src[i] * scale) + offset);
-                    }
+                    Int16Decoder.Decode(MemoryMarshal.Cast<byte, short>(record.AsSpan(Plan.ByteOffsets[c], n * 2)), dst, scale, offset);
                 }
                 else
                 {
@@ -406,7 +429,11 @@ internal sealed class EdfRecordingReader : IRecordingReader
             }
 
             var chunk = new SampleChunk(Plan.Layout, _firstIndex, filled, buffer);
-            _buffer = null;
+            if (!reuseBuffer)
+            {
+                _buffer = null;
+            }
+
             Filled = 0;
             return chunk;
         }

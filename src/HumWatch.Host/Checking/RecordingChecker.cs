@@ -16,14 +16,15 @@ public sealed class RecordingChecker
 {
     private readonly AnalysisOptions _analysis;
     private readonly CheckLimits _limits;
-    private readonly int _fftThreads;
+    private readonly int _threads;
 
-    /// <param name="fftThreads">Threads for each group's spectra: the `check` command uses every core for its one file;
-    /// the service's inbox keeps one, since streams already run in parallel.</param>
-    public RecordingChecker(AnalysisOptions analysis, CheckLimits limits, int fftThreads = 1)
+    /// <param name="threads">Threads for one file (≥ 1): the `check` command uses every core for its one file, splitting a
+    /// gap-free EDF/BDF in time (<see cref="BlockedAnalysis"/>) or else each group's spectra over channels; the service's
+    /// inbox keeps one, since streams already run in parallel.</param>
+    public RecordingChecker(AnalysisOptions analysis, CheckLimits limits, int threads = 1)
     {
-        ArgumentOutOfRangeException.ThrowIfLessThan(fftThreads, 1);
-        _fftThreads = fftThreads;
+        ArgumentOutOfRangeException.ThrowIfLessThan(threads, 1);
+        _threads = threads;
         ArgumentNullException.ThrowIfNull(analysis);
         ArgumentNullException.ThrowIfNull(limits);
         var errors = analysis.Validate().Concat(limits.Validate()).ToList();
@@ -94,36 +95,21 @@ public sealed class RecordingChecker
 
         var hop = _analysis.Spectra.HopSeconds;
         var groups = info.Groups;
-        var analyzers = new StreamAnalyzer[groups.Count];
         var accumulators = new RecordingAccumulator[groups.Count];
         var sinks = new IAnalysisFrameSink[groups.Count];
         for (var g = 0; g < groups.Count; g++)
         {
-            var rate = groups[g].Layout.SampleRateHz;
-            var kernel = PeriodogramKernels.CreateParallel(SlidingWelch.SegmentLengthFor(_analysis.Spectra, rate), rate, _fftThreads);
-            analyzers[g] = new StreamAnalyzer(groups[g].Layout, _analysis, kernel);
-
             // A line absent for a whole span is a new episode; a single missed frame is not.
             accumulators[g] = new RecordingAccumulator(hop, _analysis.Spectra.SpanSeconds, _limits.MinLineFrames);
             var extra = extraSinks?.Invoke(groups[g]);
             sinks[g] = extra is null ? accumulators[g] : new FrameSinkFanout(accumulators[g], extra);
         }
 
-        var lastReported = 0.0;
-        foreach (var item in reader.ReadChunks())
-        {
-            cancellationToken.ThrowIfCancellationRequested();
-            analyzers[item.GroupIndex].Append(item.Chunk, sinks[item.GroupIndex]);
-            if (progress is not null && info.DurationSeconds > 0)
-            {
-                var done = item.Chunk.EndSampleIndex / item.Chunk.Layout.SampleRateHz / info.DurationSeconds;
-                if (done - lastReported >= 0.01)
-                {
-                    lastReported = done;
-                    progress.Report(Math.Min(1, done));
-                }
-            }
-        }
+        // One long file on several cores: split it in time when the format allows, else spread each group's spectra.
+        var blocked = BlockedAnalysis.TryPlan(path, reader, _analysis, _threads);
+        var gapCounts = blocked is null
+            ? AnalyseInOnePass(reader, sinks, progress, cancellationToken)
+            : AnalyseInBlocks(blocked, sinks, progress, cancellationToken);
 
         var lines = new List<CheckLine>();
         var faults = new List<CheckFault>();
@@ -133,9 +119,9 @@ public sealed class RecordingChecker
         {
             var layout = groups[g].Layout;
             var findings = accumulators[g].Complete(layout);
-            if (analyzers[g].GapCount > 0)
+            if (gapCounts[g] > 0)
             {
-                notes.Add($"{analyzers[g].GapCount} gap(s) in the {layout.SampleRateHz:0.###} Hz signals; analysis restarted after each.");
+                notes.Add($"{gapCounts[g]} gap(s) in the {layout.SampleRateHz:0.###} Hz signals; analysis restarted after each.");
             }
 
             if (findings.FrameCount == 0)
@@ -197,6 +183,44 @@ public sealed class RecordingChecker
             Notes = notes,
             Caution = lines.Count > 0 || faults.Count > 0 ? SafetyNotice.Text : null,
         };
+    }
+
+    private long[] AnalyseInOnePass(IRecordingReader reader, IAnalysisFrameSink[] sinks, IProgress<double>? progress, CancellationToken cancellationToken)
+    {
+        var info = reader.Info;
+        var analyzers = new StreamAnalyzer[info.Groups.Count];
+        for (var g = 0; g < analyzers.Length; g++)
+        {
+            var rate = info.Groups[g].Layout.SampleRateHz;
+            var kernel = PeriodogramKernels.CreateParallel(SlidingWelch.SegmentLengthFor(_analysis.Spectra, rate), rate, _threads);
+            analyzers[g] = new StreamAnalyzer(info.Groups[g].Layout, _analysis, kernel);
+        }
+
+        var lastReported = 0.0;
+        foreach (var item in reader.ReadChunks())
+        {
+            cancellationToken.ThrowIfCancellationRequested();
+            analyzers[item.GroupIndex].Append(item.Chunk, sinks[item.GroupIndex]);
+            if (progress is not null && info.DurationSeconds > 0)
+            {
+                var done = item.Chunk.EndSampleIndex / item.Chunk.Layout.SampleRateHz / info.DurationSeconds;
+                if (done - lastReported >= 0.01)
+                {
+                    lastReported = done;
+                    progress.Report(Math.Min(1, done));
+                }
+            }
+        }
+
+        return [.. analyzers.Select(a => a.GapCount)];
+    }
+
+    private static long[] AnalyseInBlocks(BlockedAnalysis blocked, IAnalysisFrameSink[] sinks, IProgress<double>? progress, CancellationToken cancellationToken)
+    {
+        blocked.Run(sinks, progress is null ? null : progress.Report, cancellationToken);
+
+        // Only gap-free recordings are split.
+        return new long[sinks.Length];
     }
 
     private static IReadOnlyList<CheckSkippedSignal> Skipped(RecordingInfo info) =>
