@@ -27,7 +27,7 @@ internal static class SummaryMarkdown
         sb.AppendLine("|---|---|---:|---:|---|---:|---|---:|");
         foreach (var s in summaries)
         {
-            var longest = s.LongestEpisode is { } e ? $"{e.StartLocal.Substring(11, 5)}–{e.EndLocal.Substring(11, 5)} ({e.SpanMinutes:0} min)" : "–";
+            var longest = s.LongestEpisode is { } e ? $"{ClockRange(e.StartLocal, e.EndLocal)} ({e.SpanMinutes:0} min)" : "–";
             var mains = s.Mains.MeanHz is { } mean ? string.Create(c, $"{mean:0.000} ({s.Mains.MinHz:0.000}–{s.Mains.MaxHz:0.000})") : "–";
             sb.Append(c, $"| {Cell(s.Stream)} | **{s.Verdict}** | {s.HoursMonitored:0.0} | {s.AffectedMinutes:0.#} | {longest} | {Num(s.MaxAmplitudeUvRms)} | {mains} | {s.Alerts.Raised} / {s.Alerts.Cleared} |").AppendLine();
         }
@@ -65,7 +65,7 @@ internal static class SummaryMarkdown
                 sb.AppendLine("|---|---:|---:|---:|---|---:|---:|---|");
                 foreach (var src in s.Sources)
                 {
-                    var longest = src.Episodes.Count > 0 ? $"{src.Episodes[0].StartLocal.Substring(11, 5)}–{src.Episodes[0].EndLocal.Substring(11, 5)}" : "–";
+                    var longest = src.Episodes.Count > 0 ? ClockRange(src.Episodes[0].StartLocal, src.Episodes[0].EndLocal) : "–";
                     sb.Append(c, $"| {Cell(src.Label)} | {Num(src.FrequencyHz)} | {src.AffectedMinutes:0.#} | {src.EpisodeCount} | {longest} | {Num(src.MaxAmplitudeUvRms)} | {Num(src.MedianAmplitudeUvRms)} | {Cell(string.Join(", ", src.WorstChannels.Select(w => w.Channel)))} |").AppendLine();
                 }
             }
@@ -85,6 +85,18 @@ internal static class SummaryMarkdown
         sb.AppendLine().AppendLine("---").AppendLine();
         sb.AppendLine("Figures come from the HumWatch minute ledger. Where a cause is suggested (cables, grounding, nearby equipment), treat it as a lead to check, not a diagnosis; HumWatch is not a medical device, and changes to mains wiring or medical electrical equipment are for qualified staff under local codes.");
         return sb.ToString();
+    }
+
+    /// <summary>"HH:mm–HH:mm" of two local ISO times; an end at the next day's midnight reads 24:00, not 00:00.</summary>
+    internal static string ClockRange(string startLocal, string endLocal)
+    {
+        var end = endLocal.Substring(11, 5);
+        if (end == "00:00" && !endLocal.AsSpan(0, 10).SequenceEqual(startLocal.AsSpan(0, 10)))
+        {
+            end = "24:00";
+        }
+
+        return $"{startLocal.Substring(11, 5)}–{end}";
     }
 
     private static string Num(double? value) => value is { } v ? v.ToString("0.###", CultureInfo.InvariantCulture) : "–";

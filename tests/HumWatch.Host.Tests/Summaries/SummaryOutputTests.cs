@@ -1,6 +1,7 @@
 using System.Buffers.Binary;
 using System.Text.Json;
 using HumWatch.Core.Summaries;
+using HumWatch.Host.Summaries;
 using Xunit;
 
 namespace HumWatch.Host.Tests.Summaries;
@@ -8,6 +9,16 @@ namespace HumWatch.Host.Tests.Summaries;
 public sealed class SummaryOutputTests
 {
     private static readonly DateOnly Day = new(2026, 10, 25);
+
+    [Theory]
+    [InlineData("2026-10-25T00:00+02:00", "2026-10-26T00:00+01:00", "00:00–24:00")]
+    [InlineData("2026-10-25T13:05+01:00", "2026-10-25T13:40+01:00", "13:05–13:40")]
+    [InlineData("2026-10-25T23:10+01:00", "2026-10-26T00:00+01:00", "23:10–24:00")]
+    public void Episode_times_end_a_day_at_24_00_not_00_00(string startLocal, string endLocal, string expected)
+    {
+        // ISO 8601-1:2019 §5.3.2 allows 24:00 for the end of a calendar day; an end at 00:00 would read as the day's start.
+        Assert.Equal(expected, SummaryMarkdown.ClockRange(startLocal, endLocal));
+    }
 
     [Fact]
     public void A_day_fed_in_two_halves_with_a_restart_between_gives_byte_identical_json()
