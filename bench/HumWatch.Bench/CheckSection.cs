@@ -44,6 +44,7 @@ internal sealed class CheckSection : IBenchmarkSection
             var (records, bytes) = WriteEdf(path, (long)sizeMb * 1024 * 1024);
             Console.WriteLine(F($"check: {path}: EDF+C, {Channels} ch × {SampleRateHz} Hz, 16-bit, {records} records of 1 s ({records / 3600.0:F2} h), {bytes / 1048576.0:F0} MiB; generated in {generate.Elapsed.TotalSeconds:F1} s (not timed)"));
             Console.WriteLine("data: 60 s of RoomSimulator output (50 Hz mains + harmonics, 75 Hz display) repeated; default AnalysisOptions and CheckLimits (as `humwatch check` with no config); page cache warm (file just written)");
+            Console.WriteLine(DescribeSplit(path));
             Console.WriteLine($"load average at start: {LoadAverage()}");
             Console.WriteLine($"{"run",4} {"wall s",8} {"MB/s (wall)",12} {"CPU s",8} {"MB/s (CPU)",11} {"peak WS MB",11} {"verdict",8} {"lines",6}");
             var wall = new List<double>();
@@ -100,6 +101,16 @@ internal sealed class CheckSection : IBenchmarkSection
 
         Console.WriteLine(F($"result {wall:R} {cpu:R} {PeakKb()} {report.Verdict} {report.Lines.Count}"));
         return 0;
+    }
+
+    private static string DescribeSplit(string path)
+    {
+        using var reader = RecordingReader.Open(path);
+        var plan = BlockedAnalysis.TryPlan(path, reader, new AnalysisOptions(), Environment.ProcessorCount);
+        var recordSeconds = ((IRecordRangeReader)reader).RecordDurationSeconds;
+        return plan is null
+            ? "split: none (one pass; spectra spread over the cores)"
+            : F($"split: {plan.BlockCount} blocks of {plan.BlockRecords * recordSeconds:0} s over {Environment.ProcessorCount} threads, each re-reading {plan.WarmUpRecords * recordSeconds:0} s of warm-up (BlockedAnalysis)");
     }
 
     private static long PeakKb()

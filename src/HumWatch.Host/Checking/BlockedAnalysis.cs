@@ -50,6 +50,9 @@ internal sealed class BlockedAnalysis
     /// <summary>Records per block (the last may be shorter).</summary>
     public long BlockRecords => _blockRecords;
 
+    /// <summary>Records each block reads before its own first record, so its first frame is complete.</summary>
+    public long WarmUpRecords => _warmUpRecords;
+
     /// <summary>
     /// A plan for <paramref name="workers"/> threads, or null when the recording should be read in one pass: it has gaps,
     /// is too short for two blocks, or its records never line up with the frame grid.
