@@ -52,7 +52,7 @@ internal sealed class KernelSection : IBenchmarkSection
                 for (var i = 0; i < iterations; i++)
                 {
                     // Data grows by a bounded factor per pass; the loop reuses it as is (timing only).
-                    plan.Forward<Vector256Lanes, Vector256<double>>(re, im);
+                    plan.Forward<Vector256Lanes, Vector256<double>, double>(re, im);
                     re[0] = Vector256.Create(0.5);
                 }
 
