@@ -14,7 +14,8 @@ public sealed class FftPeriodogramKernel32Tests
     // power, more for bins below it. A single periodogram of noise has bins far below its mean (exponentially distributed:
     // 1 bin in 10⁴ is below 1e-4·p̄, i.e. 1e-3 relative there), so per bin we allow 1e-5 relative plus that rounding term
     // (constant 16: 6.7 doubled and rounded up, for the largest of ~10⁵ bins). scipy 1.10.1's own float32 welch misses a
-    // plain 1e-5 relative bound above 1e-6·max by up to 2.5e-4 on these signals (measured), so that bound is float32's, not ours. Bins below 1e-6·max (amplitude 1e-3 of the peak, where the rounding term is ≥ 1e-5·max
+    // plain 1e-5 relative bound above 1e-6·max by up to 2.5e-4 on single segments of signals like these (measured with
+    // /usr/bin/python3), so the limit is float32's, not this kernel's. Bins below 1e-6·max (amplitude 1e-3 of the peak, where the rounding term is ≥ 1e-5·max
     // relative anyway) are held to an absolute 1e-6·max as in the float64 tests' floor.
     private const double RelativeTolerance = 1e-5;
     private const double FloorFraction = 1e-6;
