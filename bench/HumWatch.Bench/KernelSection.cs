@@ -6,8 +6,9 @@ using HumWatch.Core.Spectra.Fft;
 namespace HumWatch.Bench;
 
 /// <summary>
-/// Where the kernel's time goes, per group of four channels and segment length: the complex FFT stages alone versus the
-/// whole periodogram (gather + detrend + window, FFT, split step, scaling, scatter). Medians of interleaved rounds.
+/// Where the kernel's time goes, per vector group (float64: four channels; float32: eight) and segment length: the complex
+/// FFT stages alone versus the whole periodogram (gather + detrend + window, FFT, split step, scaling, scatter). Medians of
+/// interleaved rounds.
 /// </summary>
 internal sealed class KernelSection : IBenchmarkSection
 {
@@ -15,78 +16,106 @@ internal sealed class KernelSection : IBenchmarkSection
 
     public string Name => "kernel";
 
-    public string Description => "periodogram kernel per 4-channel group: FFT stages alone vs the whole Compute, per segment length";
+    public string Description => "periodogram kernel per vector group (float64 ×4, float32 ×8 channels): FFT stages alone vs the whole Compute, per segment length";
 
     public int Run(string[] args)
     {
         const int rounds = 7;
-        const int channels = 4;
-        Console.WriteLine($"kernel: one Vector256 group (4 channels), µs per call ({(ThreadClock.IsCpuTime ? "thread CPU time" : "wall time")}), median of {rounds} rounds; GFlop/s counts 5·M·log2(M) per complex FFT lane");
-        Console.WriteLine($"{"N",6} {"radices",-16} {"FFT µs",9} {"Compute µs",11} {"FFT share",10} {"FFT GFlop/s",12}");
+        Console.WriteLine($"kernel: one vector group per call — float64: Vector256<double>, 4 channels; float32: Vector256<float>, 8 channels — µs per call ({(ThreadClock.IsCpuTime ? "thread CPU time" : "wall time")}), median of {rounds} rounds, both precisions interleaved; GFlop/s counts 5·M·log2(M) per complex FFT lane");
+        Console.WriteLine($"{"N",6} {"radices",-16} {"precision",-10} {"FFT µs",9} {"Compute µs",11} {"µs/channel",11} {"FFT share",10} {"FFT GFlop/s",12}");
         var rng = new Random(5);
         foreach (var n in Lengths)
         {
-            var kernel = new FftPeriodogramKernel(n, 1000);
-            var samples = new double[channels * n];
-            for (var i = 0; i < samples.Length; i++)
+            var m = n / 2;
+            var plan = ComplexFftPlan.Get(m);
+            var kernel64 = new FftPeriodogramKernel(n, 1000);
+            var kernel32 = new FftPeriodogramKernel32(n, 1000);
+            var samples64 = new double[8 * n];
+            var samples32 = new float[8 * n];
+            for (var i = 0; i < samples64.Length; i++)
             {
-                samples[i] = rng.NextDouble() - 0.5;
+                samples64[i] = rng.NextDouble() - 0.5;
+                samples32[i] = (float)samples64[i];
             }
 
-            var psd = new double[channels * kernel.BinCount];
-            var plan = ComplexFftPlan.Get(n / 2);
-            var re = new Vector256<double>[n / 2];
-            var im = new Vector256<double>[n / 2];
-            for (var i = 0; i < re.Length; i++)
-            {
-                re[i] = Vector256.Create(rng.NextDouble());
-                im[i] = Vector256.Create(rng.NextDouble());
-            }
-
+            var psd64 = new double[4 * kernel64.BinCount];
+            var psd32 = new float[8 * kernel32.BinCount];
+            var re64 = new Vector256<double>[m];
+            var im64 = new Vector256<double>[m];
+            var re32 = new Vector256<float>[m];
+            var im32 = new Vector256<float>[m];
             var iterations = Math.Max(20, 4_000_000 / n);
-            var fft = new double[rounds];
-            var compute = new double[rounds];
+            var fft64 = new double[rounds];
+            var compute64 = new double[rounds];
+            var fft32 = new double[rounds];
+            var compute32 = new double[rounds];
             for (var round = -1; round < rounds; round++)
             {
+                // Fresh bounded values each pass (the FFT is unscaled and the loop reuses its output as input).
+                for (var i = 0; i < m; i++)
+                {
+                    re64[i] = Vector256.Create(rng.NextDouble());
+                    im64[i] = Vector256.Create(rng.NextDouble());
+                    re32[i] = Vector256.Create((float)re64[i][0]);
+                    im32[i] = Vector256.Create((float)im64[i][0]);
+                }
+
                 var start = ThreadClock.NowSeconds();
                 for (var i = 0; i < iterations; i++)
                 {
-                    // Data grows by a bounded factor per pass; the loop reuses it as is (timing only).
-                    plan.Forward<Vector256Lanes, Vector256<double>>(re, im);
-                    re[0] = Vector256.Create(0.5);
+                    // Values grow (to ∞ eventually) across passes; AVX arithmetic costs the same on them (timing only).
+                    plan.Forward<Vector256Lanes, Vector256<double>, double>(re64, im64);
+                    re64[0] = Vector256.Create(0.5);
                 }
 
-                var fftUs = (ThreadClock.NowSeconds() - start) * 1e6 / iterations;
+                var fft64Us = (ThreadClock.NowSeconds() - start) * 1e6 / iterations;
                 start = ThreadClock.NowSeconds();
                 for (var i = 0; i < iterations; i++)
                 {
-                    kernel.Compute(samples, channels, n, psd);
+                    kernel64.Compute(samples64, 4, n, psd64);
                 }
 
-                var computeUs = (ThreadClock.NowSeconds() - start) * 1e6 / iterations;
+                var compute64Us = (ThreadClock.NowSeconds() - start) * 1e6 / iterations;
+                start = ThreadClock.NowSeconds();
+                for (var i = 0; i < iterations; i++)
+                {
+                    plan.Forward<Vector256SingleLanes, Vector256<float>, float>(re32, im32);
+                    re32[0] = Vector256.Create(0.5f);
+                }
+
+                var fft32Us = (ThreadClock.NowSeconds() - start) * 1e6 / iterations;
+                start = ThreadClock.NowSeconds();
+                for (var i = 0; i < iterations; i++)
+                {
+                    kernel32.Compute(samples32, 8, n, psd32);
+                }
+
+                var compute32Us = (ThreadClock.NowSeconds() - start) * 1e6 / iterations;
                 if (round >= 0)
                 {
-                    fft[round] = fftUs;
-                    compute[round] = computeUs;
-                }
-
-                // Keep values bounded between passes (the FFT is unscaled).
-                for (var i = 0; i < re.Length; i++)
-                {
-                    re[i] = Vector256.Create(rng.NextDouble());
-                    im[i] = Vector256.Create(rng.NextDouble());
+                    fft64[round] = fft64Us;
+                    compute64[round] = compute64Us;
+                    fft32[round] = fft32Us;
+                    compute32[round] = compute32Us;
                 }
             }
 
-            Array.Sort(fft);
-            Array.Sort(compute);
-            var m = n / 2;
-            var fftMedian = fft[rounds / 2];
-            var computeMedian = compute[rounds / 2];
-            var flops = 4 * 5.0 * m * Math.Log2(m);
-            Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"{n,6} {string.Join('·', plan.Radices.ToArray()),-16} {fftMedian,9:F1} {computeMedian,11:F1} {fftMedian / computeMedian,10:P0} {flops / fftMedian / 1e3,12:F2}"));
+            var radices = string.Join('·', plan.Radices.ToArray());
+            Print(n, radices, "float64", 4, fft64, compute64);
+            Print(n, radices, "float32", 8, fft32, compute32);
         }
 
         return 0;
+    }
+
+    private static void Print(int n, string radices, string precision, int lanes, double[] fft, double[] compute)
+    {
+        Array.Sort(fft);
+        Array.Sort(compute);
+        var m = n / 2;
+        var fftMedian = fft[fft.Length / 2];
+        var computeMedian = compute[compute.Length / 2];
+        var flops = lanes * 5.0 * m * Math.Log2(m);
+        Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"{n,6} {radices,-16} {precision,-10} {fftMedian,9:F1} {computeMedian,11:F1} {computeMedian / lanes,11:F2} {fftMedian / computeMedian,10:P0} {flops / fftMedian / 1e3,12:F2}"));
     }
 }

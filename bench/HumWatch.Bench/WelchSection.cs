@@ -7,7 +7,8 @@ namespace HumWatch.Bench;
 
 /// <summary>
 /// Welch throughput on one thread: 64 channels × 60 s × 1000 Hz, nperseg 4096, 50 % overlap, Hann, density, constant
-/// detrend — our FFT kernel (variants), the MathNet kernel and scipy.signal.welch on the same block, interleaved rounds, medians.
+/// detrend — our FFT kernels in float64 and float32 (variants), the MathNet kernel and scipy.signal.welch in float64 and
+/// float32 on the same block, interleaved rounds, medians.
 /// </summary>
 internal sealed class WelchSection : IBenchmarkSection
 {
@@ -21,7 +22,7 @@ internal sealed class WelchSection : IBenchmarkSection
 
     public string Name => "welch";
 
-    public string Description => "Welch PSD throughput, 64 ch × 60 s × 1000 Hz, nperseg 4096: FFT kernel vs MathNet vs scipy [--rounds N (≥ 5, default 7)]";
+    public string Description => "Welch PSD throughput, 64 ch × 60 s × 1000 Hz, nperseg 4096: FFT kernels float64/float32 vs MathNet vs scipy float64/float32 [--rounds N (≥ 5, default 7)]";
 
     public int Run(string[] args)
     {
@@ -39,23 +40,38 @@ internal sealed class WelchSection : IBenchmarkSection
         var data = MakeBlock();
         var step = SegmentLength - OverlapSamples;
         var segments = ((Samples - SegmentLength) / step) + 1;
-        Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"welch: {Channels} ch × {Seconds} s × {SampleRateHz} Hz = {(long)Channels * Samples:N0} float64 samples; nperseg {SegmentLength}, noverlap {OverlapSamples} ({segments} segments/ch); hann, density, constant detrend; {rounds} interleaved rounds, medians; one thread"));
+        Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"welch: {Channels} ch × {Seconds} s × {SampleRateHz} Hz = {(long)Channels * Samples:N0} samples (float32 values, as float64 and as float32); nperseg {SegmentLength}, noverlap {OverlapSamples} ({segments} segments/ch); hann, density, constant detrend; {rounds} interleaved rounds, medians; one thread"));
 
         var bins = (SegmentLength / 2) + 1;
+        var data32 = new float[data.Length];
+        for (var i = 0; i < data.Length; i++)
+        {
+            data32[i] = (float)data[i];
+        }
+
         Contender[] contenders =
         [
-            new("fft Vector256, channels batched", new FftPeriodogramKernel(SegmentLength, SampleRateHz, true, 0), ChannelsBatched: true),
-            new("fft Vector256, scratch +8 B off 64-B line", new FftPeriodogramKernel(SegmentLength, SampleRateHz, true, 8), ChannelsBatched: true),
-            new("fft Vector256, segments batched", new FftPeriodogramKernel(SegmentLength, SampleRateHz, true, 0), ChannelsBatched: false),
-            new("fft scalar fallback", new FftPeriodogramKernel(SegmentLength, SampleRateHz, false, 0), ChannelsBatched: true),
-            new("MathNet 5.0.0 kernel", PeriodogramKernels.CreateReference(SegmentLength, SampleRateHz), ChannelsBatched: true),
+            new("fft64 Vector256, channels batched", new FftPeriodogramKernel(SegmentLength, SampleRateHz, true, 0), null, ChannelsBatched: true),
+            new("fft64 Vector256, scratch +8 B off 64-B line", new FftPeriodogramKernel(SegmentLength, SampleRateHz, true, 8), null, ChannelsBatched: true),
+            new("fft64 Vector256, segments batched", new FftPeriodogramKernel(SegmentLength, SampleRateHz, true, 0), null, ChannelsBatched: false),
+            new("fft64 scalar fallback", new FftPeriodogramKernel(SegmentLength, SampleRateHz, false, 0), null, ChannelsBatched: true),
+            new("MathNet 5.0.0 kernel (float64)", PeriodogramKernels.CreateReference(SegmentLength, SampleRateHz), null, ChannelsBatched: true),
+            new("fft32 Vector256<float>, channels batched", null, new FftPeriodogramKernel32(SegmentLength, SampleRateHz, true, 0), ChannelsBatched: true),
+            new("fft32 Vector256<float>, segments batched", null, new FftPeriodogramKernel32(SegmentLength, SampleRateHz, true, 0), ChannelsBatched: false),
+            new("fft32 scalar fallback", null, new FftPeriodogramKernel32(SegmentLength, SampleRateHz, false, 0), ChannelsBatched: true),
         ];
+        const int Fft64 = 0;
+        const int MathNet = 4;
+        const int Fft32 = 5;
         var scratch = new double[Math.Max(Channels, segments) * bins];
+        var scratch32 = new float[scratch.Length];
         var psds = new double[contenders.Length][];
+        var psds32 = new float[contenders.Length][];
         for (var i = 0; i < contenders.Length; i++)
         {
             psds[i] = new double[Channels * bins];
-            RunWelch(contenders[i], data, step, segments, scratch, psds[i]); // warm-up and result
+            psds32[i] = new float[Channels * bins];
+            Run(contenders[i], data, data32, step, segments, scratch, scratch32, psds[i], psds32[i]); // warm-up and result
         }
 
         var dataPath = Path.Combine(Path.GetTempPath(), $"humwatch-bench-welch-{Environment.ProcessId}.f64");
@@ -70,11 +86,15 @@ internal sealed class WelchSection : IBenchmarkSection
             }
             else
             {
-                scipy.RunOnce(); // warm-up
+                scipy.RunOnce(single: false); // warm-up
+                scipy.RunOnce(single: true);
             }
 
-            var seconds = new double[contenders.Length + 1][];
-            var wallSeconds = new double[contenders.Length + 1][];
+            // Rows: our contenders, then scipy float64 and scipy float32.
+            var scipy64 = contenders.Length;
+            var scipy32 = contenders.Length + 1;
+            var seconds = new double[contenders.Length + 2][];
+            var wallSeconds = new double[contenders.Length + 2][];
             var allocated = new long[contenders.Length];
             for (var i = 0; i < seconds.Length; i++)
             {
@@ -89,7 +109,7 @@ internal sealed class WelchSection : IBenchmarkSection
                     var cpuStart = ThreadClock.NowSeconds();
                     var bytesBefore = GC.GetAllocatedBytesForCurrentThread();
                     var start = Stopwatch.GetTimestamp();
-                    RunWelch(contenders[i], data, step, segments, scratch, psds[i]);
+                    Run(contenders[i], data, data32, step, segments, scratch, scratch32, psds[i], psds32[i]);
                     wallSeconds[i][round] = Stopwatch.GetElapsedTime(start).TotalSeconds;
                     allocated[i] = GC.GetAllocatedBytesForCurrentThread() - bytesBefore;
                     seconds[i][round] = ThreadClock.NowSeconds() - cpuStart;
@@ -97,32 +117,47 @@ internal sealed class WelchSection : IBenchmarkSection
 
                 if (scipy is not null)
                 {
-                    (seconds[contenders.Length][round], wallSeconds[contenders.Length][round]) = scipy.RunOnce();
+                    (seconds[scipy64][round], wallSeconds[scipy64][round]) = scipy.RunOnce(single: false);
+                    (seconds[scipy32][round], wallSeconds[scipy32][round]) = scipy.RunOnce(single: true);
                 }
             }
 
             var samplesTotal = (double)Channels * Samples;
-            var reference = Median(seconds[0]);
+            var reference = Median(seconds[Fft64]);
+            var scipy64Median = scipy is null ? double.NaN : Median(seconds[scipy64]);
+            var scipy32Median = scipy is null ? double.NaN : Median(seconds[scipy32]);
+
             // Throughput and ratios use thread CPU time: on a shared machine wall time mostly measures the other tenants.
             Console.WriteLine($"times: {(ThreadClock.IsCpuTime ? "thread CPU time (/proc/thread-self/schedstat; Python time.thread_time)" : "wall time (no per-thread CPU clock)")}; wall-time medians alongside");
-            Console.WriteLine($"{"contender",-44} {"cpu ms",9} {"Msamples/s",11} {"cpu ÷ fft",10} {"wall ms",9} {"alloc/run",12}");
+            Console.WriteLine("cpu ÷ fft64: time over our float64 kernel's; scipy ÷ cpu: scipy of the same precision over this row's time (> 1 = faster than scipy)");
+            Console.WriteLine($"{"contender",-56} {"cpu ms",9} {"Msamples/s",11} {"cpu ÷ fft64",12} {"scipy ÷ cpu",12} {"wall ms",9} {"alloc/run",12}");
             for (var i = 0; i < contenders.Length; i++)
             {
                 var m = Median(seconds[i]);
-                Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"{contenders[i].Name,-44} {m * 1e3,9:F1} {samplesTotal / m / 1e6,11:F1} {m / reference,10:F2} {Median(wallSeconds[i]) * 1e3,9:F1} {allocated[i] / 1024.0,9:F0} kB"));
+                var scipySame = contenders[i].Kernel32 is null ? scipy64Median : scipy32Median;
+                Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"{contenders[i].Name,-56} {m * 1e3,9:F1} {samplesTotal / m / 1e6,11:F1} {m / reference,12:F2} {scipySame / m,12:F2} {Median(wallSeconds[i]) * 1e3,9:F1} {allocated[i] / 1024.0,9:F0} kB"));
             }
 
             if (scipy is not null)
             {
-                var m = Median(seconds[contenders.Length]);
-                Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"{"scipy.signal.welch (" + scipy.Versions + ")",-44} {m * 1e3,9:F1} {samplesTotal / m / 1e6,11:F1} {m / reference,10:F2} {Median(wallSeconds[contenders.Length]) * 1e3,9:F1} {"n/a",12}"));
-                Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"ratios: fft kernel is {Median(seconds[4]) / reference:F1}× faster than MathNet and {m / reference:F1}× faster than scipy (median time ratios)"));
-                Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"agreement: fft vs scipy max relative error {MaxRelativeError(ReadPsd(scipyPsdPath), psds[0]):E2}, fft vs MathNet {MaxRelativeError(psds[4], psds[0]):E2} (bins above 1e-12·max)"));
+                foreach (var (row, label) in new[] { (scipy64, "float64"), (scipy32, "float32") })
+                {
+                    var m = Median(seconds[row]);
+                    Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"{"scipy.signal.welch " + label + " (" + scipy.Versions + ")",-56} {m * 1e3,9:F1} {samplesTotal / m / 1e6,11:F1} {m / reference,12:F2} {1.0,12:F2} {Median(wallSeconds[row]) * 1e3,9:F1} {"n/a",12}"));
+                }
+
+                var fft32Median = Median(seconds[Fft32]);
+                Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"ratios float64: fft64 kernel is {Median(seconds[MathNet]) / reference:F1}× faster than MathNet and {scipy64Median / reference:F1}× faster than scipy float64 (median time ratios)"));
+                Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"ratios float32: fft32 kernel is {scipy32Median / fft32Median:F1}× faster than scipy float32 and {reference / fft32Median:F2}× the speed of our fft64 kernel; scipy float32 is {scipy64Median / scipy32Median:F2}× the speed of scipy float64"));
+                var scipyPsd = ReadPsd(scipyPsdPath);
+                var scipyPsd32 = ReadPsd32(scipyPsdPath + "32");
+                Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"agreement float64: fft64 vs scipy max relative error {MaxRelativeError(scipyPsd, psds[Fft64], 1e-12):E2}, fft64 vs MathNet {MaxRelativeError(psds[MathNet], psds[Fft64], 1e-12):E2} (bins above 1e-12·max)"));
+                Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"agreement float32 vs scipy float64: fft32 {MaxRelativeError(scipyPsd, Widen(psds32[Fft32]), 1e-6):E2}, scipy float32 {MaxRelativeError(scipyPsd, Widen(scipyPsd32), 1e-6):E2}; fft32 vs scipy float32 {MaxRelativeError(Widen(scipyPsd32), Widen(psds32[Fft32]), 1e-6):E2} (bins above 1e-6·max)"));
             }
             else
             {
-                Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"ratios: fft kernel is {Median(seconds[4]) / reference:F1}× faster than MathNet (median time ratio); scipy not measured"));
-                Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"agreement: fft vs MathNet max relative error {MaxRelativeError(psds[4], psds[0]):E2} (bins above 1e-12·max)"));
+                Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"ratios: fft64 kernel is {Median(seconds[MathNet]) / reference:F1}× faster than MathNet, fft32 is {reference / Median(seconds[Fft32]):F2}× the speed of fft64 (median time ratios); scipy not measured"));
+                Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"agreement: fft64 vs MathNet max relative error {MaxRelativeError(psds[MathNet], psds[Fft64], 1e-12):E2} (bins above 1e-12·max), fft32 vs MathNet {MaxRelativeError(psds[MathNet], Widen(psds32[Fft32]), 1e-6):E2} (bins above 1e-6·max)"));
             }
 
             return 0;
@@ -131,16 +166,28 @@ internal sealed class WelchSection : IBenchmarkSection
         {
             File.Delete(dataPath);
             File.Delete(scipyPsdPath);
+            File.Delete(scipyPsdPath + "32");
+        }
+    }
+
+    private static void Run(Contender contender, double[] data, float[] data32, int step, int segments, double[] scratch, float[] scratch32, double[] psd, float[] psd32)
+    {
+        if (contender.Kernel is not null)
+        {
+            RunWelch(contender.Kernel, contender.ChannelsBatched, data, step, segments, scratch, psd);
+        }
+        else
+        {
+            RunWelch32(contender.Kernel32!, contender.ChannelsBatched, data32, step, segments, scratch32, psd32);
         }
     }
 
     /// <summary>Mean of the segment periodograms per channel into <paramref name="psd"/> (channel c at c·bins).</summary>
-    private static void RunWelch(Contender contender, double[] data, int step, int segments, double[] scratch, double[] psd)
+    private static void RunWelch(IPeriodogramKernel kernel, bool channelsBatched, double[] data, int step, int segments, double[] scratch, double[] psd)
     {
-        var kernel = contender.Kernel;
         var bins = kernel.BinCount;
         Array.Clear(psd);
-        if (contender.ChannelsBatched)
+        if (channelsBatched)
         {
             // As the streaming path does: one call per segment position, all channels at once (stride = channel length).
             for (var s = 0; s < segments; s++)
@@ -170,12 +217,64 @@ internal sealed class WelchSection : IBenchmarkSection
         }
     }
 
+    /// <summary>The float32 twin of <see cref="RunWelch"/>: float32 samples, periodograms and mean.</summary>
+    private static void RunWelch32(IPeriodogramKernel32 kernel, bool channelsBatched, float[] data, int step, int segments, float[] scratch, float[] psd)
+    {
+        var bins = kernel.BinCount;
+        Array.Clear(psd);
+        if (channelsBatched)
+        {
+            for (var s = 0; s < segments; s++)
+            {
+                kernel.Compute(data.AsSpan(s * step), Channels, Samples, scratch);
+                Accumulate(scratch.AsSpan(0, Channels * bins), psd);
+            }
+        }
+        else
+        {
+            for (var c = 0; c < Channels; c++)
+            {
+                kernel.Compute(data.AsSpan(c * Samples, Samples), segments, step, scratch);
+                var row = psd.AsSpan(c * bins, bins);
+                for (var s = 0; s < segments; s++)
+                {
+                    Accumulate(scratch.AsSpan(s * bins, bins), row);
+                }
+            }
+        }
+
+        var inverse = 1.0f / segments;
+        for (var i = 0; i < psd.Length; i++)
+        {
+            psd[i] *= inverse;
+        }
+    }
+
     private static void Accumulate(ReadOnlySpan<double> source, Span<double> sum)
     {
         for (var i = 0; i < source.Length; i++)
         {
             sum[i] += source[i];
         }
+    }
+
+    private static void Accumulate(ReadOnlySpan<float> source, Span<float> sum)
+    {
+        for (var i = 0; i < source.Length; i++)
+        {
+            sum[i] += source[i];
+        }
+    }
+
+    private static double[] Widen(float[] values)
+    {
+        var wide = new double[values.Length];
+        for (var i = 0; i < values.Length; i++)
+        {
+            wide[i] = values[i];
+        }
+
+        return wide;
     }
 
     /// <summary>Invented EEG-like block: seeded noise, per-channel offset and drift, a 50 Hz line and a 60 Hz line on some channels.</summary>
@@ -190,8 +289,9 @@ internal sealed class WelchSection : IBenchmarkSection
             for (var i = 0; i < Samples; i++)
             {
                 var t = (double)i / SampleRateHz;
-                data[(c * Samples) + i] = offsetUv + (0.05 * t) + (10 * (rng.NextDouble() - 0.5))
-                    + (lineUv * Math.Sin(2 * Math.PI * 50 * t)) + (c % 5 == 0 ? Math.Sin(2 * Math.PI * 60 * t) : 0);
+                // Rounded to float32 (recordings carry float32 µV), so the float64 and float32 contenders see the same values.
+                data[(c * Samples) + i] = (float)(offsetUv + (0.05 * t) + (10 * (rng.NextDouble() - 0.5))
+                    + (lineUv * Math.Sin(2 * Math.PI * 50 * t)) + (c % 5 == 0 ? Math.Sin(2 * Math.PI * 60 * t) : 0));
             }
         }
 
@@ -226,7 +326,7 @@ internal sealed class WelchSection : IBenchmarkSection
         return psd;
     }
 
-    private static double MaxRelativeError(double[] expected, double[] actual)
+    private static double MaxRelativeError(double[] expected, double[] actual, double floorFraction)
     {
         if (expected.Length != actual.Length)
         {
@@ -242,13 +342,25 @@ internal sealed class WelchSection : IBenchmarkSection
         double worst = 0;
         for (var i = 0; i < expected.Length; i++)
         {
-            if (Math.Abs(expected[i]) > 1e-12 * max)
+            if (Math.Abs(expected[i]) > floorFraction * max)
             {
                 worst = Math.Max(worst, Math.Abs(actual[i] - expected[i]) / Math.Abs(expected[i]));
             }
         }
 
         return worst;
+    }
+
+    private static float[] ReadPsd32(string path)
+    {
+        var bytes = File.ReadAllBytes(path);
+        var psd = new float[bytes.Length / 4];
+        for (var i = 0; i < psd.Length; i++)
+        {
+            psd[i] = BitConverter.ToSingle(bytes, 4 * i);
+        }
+
+        return psd;
     }
 
     private static double Median(double[] values)
@@ -259,5 +371,6 @@ internal sealed class WelchSection : IBenchmarkSection
         return sorted.Length % 2 == 1 ? sorted[mid] : 0.5 * (sorted[mid - 1] + sorted[mid]);
     }
 
-    private sealed record Contender(string Name, IPeriodogramKernel Kernel, bool ChannelsBatched);
+    /// <summary>One row: a float64 kernel (<paramref name="Kernel"/>) or a float32 one (<paramref name="Kernel32"/>).</summary>
+    private sealed record Contender(string Name, IPeriodogramKernel? Kernel, IPeriodogramKernel32? Kernel32, bool ChannelsBatched);
 }

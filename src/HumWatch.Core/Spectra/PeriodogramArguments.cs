@@ -1,10 +1,10 @@
 namespace HumWatch.Core.Spectra;
 
-/// <summary>The argument rules of <see cref="IPeriodogramKernel.Compute"/>, shared by every kernel.</summary>
+/// <summary>The argument rules of <see cref="IPeriodogramKernel.Compute"/> (and its float32 twin), shared by every kernel.</summary>
 internal static class PeriodogramArguments
 {
     /// <summary>Throws when the spans cannot hold the batch; returns false when there is nothing to do.</summary>
-    public static bool Check(int segmentLength, int binCount, ReadOnlySpan<double> samples, int channelCount, int sampleStride, Span<double> periodograms)
+    public static bool Check<T>(int segmentLength, int binCount, ReadOnlySpan<T> samples, int channelCount, int sampleStride, Span<T> periodograms)
     {
         ArgumentOutOfRangeException.ThrowIfNegative(channelCount);
         ArgumentOutOfRangeException.ThrowIfNegative(sampleStride);

@@ -15,6 +15,16 @@ public static class PeriodogramKernels
             ? new FftPeriodogramKernel(segmentLength, sampleRateHz)
             : new MathNetPeriodogramKernel(segmentLength, sampleRateHz);
 
+    /// <summary>
+    /// A float32 kernel for <paramref name="segmentLength"/>-sample segments (≥ 2) at <paramref name="sampleRateHz"/> (> 0), same
+    /// conventions as <see cref="Create"/>: our batched FFT on eight channels per Vector256&lt;float&gt; for 2·3·5-smooth lengths,
+    /// otherwise the float64 kernel of <see cref="Create"/> behind a float32 adapter (widen, compute, round).
+    /// </summary>
+    public static IPeriodogramKernel32 CreateSingle(int segmentLength, double sampleRateHz) =>
+        FftPeriodogramKernel.Supports(segmentLength)
+            ? new FftPeriodogramKernel32(segmentLength, sampleRateHz)
+            : new WidenedPeriodogramKernel32(new MathNetPeriodogramKernel(segmentLength, sampleRateHz));
+
     /// <summary>The MathNet.Numerics reference kernel for any <paramref name="segmentLength"/> (≥ 2) at <paramref name="sampleRateHz"/> (> 0); slower, allocates per transform.</summary>
     public static IPeriodogramKernel CreateReference(int segmentLength, double sampleRateHz) =>
         new MathNetPeriodogramKernel(segmentLength, sampleRateHz);

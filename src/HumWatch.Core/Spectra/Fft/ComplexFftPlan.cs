@@ -1,5 +1,7 @@
 using System.Collections.Concurrent;
+using System.Numerics;
 using System.Runtime.CompilerServices;
+using System.Runtime.InteropServices;
 
 namespace HumWatch.Core.Spectra.Fft;
 
@@ -23,6 +25,9 @@ internal sealed class ComplexFftPlan
 
     // All stages' twiddles, (cos, sin) pairs of e^(−2πi·qj/L): stage s, sub-transform offset j, q = 1 … r − 1.
     private readonly double[] _twiddles;
+
+    // The same table rounded to float32, for the float32 kernel (each entry within half an ulp of the float64 value).
+    private readonly float[] _twiddlesSingle;
     private readonly int[] _twiddleOffsets;
     private readonly int[] _permutation;
 
@@ -83,6 +88,12 @@ internal sealed class ComplexFftPlan
 
             subLength = l;
         }
+
+        _twiddlesSingle = new float[total];
+        for (var i = 0; i < total; i++)
+        {
+            _twiddlesSingle[i] = (float)_twiddles[i];
+        }
     }
 
     /// <summary>Transform length M.</summary>
@@ -126,11 +137,13 @@ internal sealed class ComplexFftPlan
 
     /// <summary>
     /// Runs all stages in place on split-complex data already loaded in <see cref="Permutation"/> order;
-    /// each element is one lane pack (1 or 4 channels). Output in natural order, unscaled.
+    /// each element is one lane pack (1, 4 or 8 channels) of <typeparamref name="TScalar"/> (double or float). Output in
+    /// natural order, unscaled.
     /// </summary>
-    public void Forward<TOps, TVec>(Span<TVec> re, Span<TVec> im)
-        where TOps : struct, ILaneOps<TVec>
+    public void Forward<TOps, TVec, TScalar>(Span<TVec> re, Span<TVec> im)
+        where TOps : struct, ILaneOps<TVec, TScalar>
         where TVec : struct
+        where TScalar : unmanaged, IFloatingPointIeee754<TScalar>
     {
         if (re.Length < Length || im.Length < Length)
         {
@@ -143,25 +156,37 @@ internal sealed class ComplexFftPlan
         for (var s = 0; s < _radices.Length; s++)
         {
             var r = _radices[s];
-            ReadOnlySpan<double> twiddles = _twiddles.AsSpan(_twiddleOffsets[s], 2 * subLength * (r - 1));
+            var twiddles = Twiddles<TScalar>().Slice(_twiddleOffsets[s], 2 * subLength * (r - 1));
             switch (r)
             {
                 case 4:
-                    Radix4<TOps, TVec>(re, im, subLength, twiddles);
+                    Radix4<TOps, TVec, TScalar>(re, im, subLength, twiddles);
                     break;
                 case 2:
-                    Radix2<TOps, TVec>(re, im, subLength, twiddles);
+                    Radix2<TOps, TVec, TScalar>(re, im, subLength, twiddles);
                     break;
                 case 3:
-                    Radix3<TOps, TVec>(re, im, subLength, twiddles);
+                    Radix3<TOps, TVec, TScalar>(re, im, subLength, twiddles);
                     break;
                 default:
-                    Radix5<TOps, TVec>(re, im, subLength, twiddles);
+                    Radix5<TOps, TVec, TScalar>(re, im, subLength, twiddles);
                     break;
             }
 
             subLength *= r;
         }
+    }
+
+    /// <summary>The whole twiddle table in <typeparamref name="TScalar"/>; the type test is resolved when the JIT specialises.</summary>
+    private ReadOnlySpan<TScalar> Twiddles<TScalar>()
+        where TScalar : unmanaged, IFloatingPointIeee754<TScalar>
+    {
+        if (typeof(TScalar) == typeof(float))
+        {
+            return MemoryMarshal.Cast<float, TScalar>(_twiddlesSingle);
+        }
+
+        return MemoryMarshal.Cast<double, TScalar>(_twiddles);
     }
 
     private static int[] Factor(int length)
@@ -196,9 +221,10 @@ internal sealed class ComplexFftPlan
     }
 
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
-    private static void Twiddle<TOps, TVec>(ref TVec xr, ref TVec xi, double wr, double wi)
-        where TOps : struct, ILaneOps<TVec>
+    private static void Twiddle<TOps, TVec, TScalar>(ref TVec xr, ref TVec xi, TScalar wr, TScalar wi)
+        where TOps : struct, ILaneOps<TVec, TScalar>
         where TVec : struct
+        where TScalar : unmanaged, IFloatingPointIeee754<TScalar>
     {
         var vr = TOps.Splat(wr);
         var vi = TOps.Splat(wi);
@@ -208,9 +234,10 @@ internal sealed class ComplexFftPlan
     }
 
     [MethodImpl(MethodImplOptions.AggressiveOptimization)]
-    private static void Radix2<TOps, TVec>(Span<TVec> re, Span<TVec> im, int subLength, ReadOnlySpan<double> twiddles)
-        where TOps : struct, ILaneOps<TVec>
+    private static void Radix2<TOps, TVec, TScalar>(Span<TVec> re, Span<TVec> im, int subLength, ReadOnlySpan<TScalar> twiddles)
+        where TOps : struct, ILaneOps<TVec, TScalar>
         where TVec : struct
+        where TScalar : unmanaged, IFloatingPointIeee754<TScalar>
     {
         var n = re.Length;
         var l = subLength * 2;
@@ -224,7 +251,7 @@ internal sealed class ComplexFftPlan
                 var a1i = im[i1];
                 if (subLength > 1)
                 {
-                    Twiddle<TOps, TVec>(ref a1r, ref a1i, twiddles[2 * j], twiddles[(2 * j) + 1]);
+                    Twiddle<TOps, TVec, TScalar>(ref a1r, ref a1i, twiddles[2 * j], twiddles[(2 * j) + 1]);
                 }
 
                 var a0r = re[i0];
@@ -238,9 +265,10 @@ internal sealed class ComplexFftPlan
     }
 
     [MethodImpl(MethodImplOptions.AggressiveOptimization)]
-    private static void Radix4<TOps, TVec>(Span<TVec> re, Span<TVec> im, int subLength, ReadOnlySpan<double> twiddles)
-        where TOps : struct, ILaneOps<TVec>
+    private static void Radix4<TOps, TVec, TScalar>(Span<TVec> re, Span<TVec> im, int subLength, ReadOnlySpan<TScalar> twiddles)
+        where TOps : struct, ILaneOps<TVec, TScalar>
         where TVec : struct
+        where TScalar : unmanaged, IFloatingPointIeee754<TScalar>
     {
         var n = re.Length;
         var l = subLength * 4;
@@ -263,9 +291,9 @@ internal sealed class ComplexFftPlan
                 if (subLength > 1)
                 {
                     var t = 6 * j;
-                    Twiddle<TOps, TVec>(ref a1r, ref a1i, twiddles[t], twiddles[t + 1]);
-                    Twiddle<TOps, TVec>(ref a2r, ref a2i, twiddles[t + 2], twiddles[t + 3]);
-                    Twiddle<TOps, TVec>(ref a3r, ref a3i, twiddles[t + 4], twiddles[t + 5]);
+                    Twiddle<TOps, TVec, TScalar>(ref a1r, ref a1i, twiddles[t], twiddles[t + 1]);
+                    Twiddle<TOps, TVec, TScalar>(ref a2r, ref a2i, twiddles[t + 2], twiddles[t + 3]);
+                    Twiddle<TOps, TVec, TScalar>(ref a3r, ref a3i, twiddles[t + 4], twiddles[t + 5]);
                 }
 
                 var t0r = TOps.Add(a0r, a2r);
@@ -291,14 +319,15 @@ internal sealed class ComplexFftPlan
     }
 
     [MethodImpl(MethodImplOptions.AggressiveOptimization)]
-    private static void Radix3<TOps, TVec>(Span<TVec> re, Span<TVec> im, int subLength, ReadOnlySpan<double> twiddles)
-        where TOps : struct, ILaneOps<TVec>
+    private static void Radix3<TOps, TVec, TScalar>(Span<TVec> re, Span<TVec> im, int subLength, ReadOnlySpan<TScalar> twiddles)
+        where TOps : struct, ILaneOps<TVec, TScalar>
         where TVec : struct
+        where TScalar : unmanaged, IFloatingPointIeee754<TScalar>
     {
         var n = re.Length;
         var l = subLength * 3;
-        var half = TOps.Splat(0.5);
-        var s = TOps.Splat(HalfSqrt3);
+        var half = TOps.Splat(TScalar.CreateTruncating(0.5));
+        var s = TOps.Splat(TScalar.CreateTruncating(HalfSqrt3));
         for (var b = 0; b < n; b += l)
         {
             for (var j = 0; j < subLength; j++)
@@ -313,8 +342,8 @@ internal sealed class ComplexFftPlan
                 if (subLength > 1)
                 {
                     var t = 4 * j;
-                    Twiddle<TOps, TVec>(ref a1r, ref a1i, twiddles[t], twiddles[t + 1]);
-                    Twiddle<TOps, TVec>(ref a2r, ref a2i, twiddles[t + 2], twiddles[t + 3]);
+                    Twiddle<TOps, TVec, TScalar>(ref a1r, ref a1i, twiddles[t], twiddles[t + 1]);
+                    Twiddle<TOps, TVec, TScalar>(ref a2r, ref a2i, twiddles[t + 2], twiddles[t + 3]);
                 }
 
                 var a0r = re[i0];
@@ -340,16 +369,17 @@ internal sealed class ComplexFftPlan
     }
 
     [MethodImpl(MethodImplOptions.AggressiveOptimization)]
-    private static void Radix5<TOps, TVec>(Span<TVec> re, Span<TVec> im, int subLength, ReadOnlySpan<double> twiddles)
-        where TOps : struct, ILaneOps<TVec>
+    private static void Radix5<TOps, TVec, TScalar>(Span<TVec> re, Span<TVec> im, int subLength, ReadOnlySpan<TScalar> twiddles)
+        where TOps : struct, ILaneOps<TVec, TScalar>
         where TVec : struct
+        where TScalar : unmanaged, IFloatingPointIeee754<TScalar>
     {
         var n = re.Length;
         var l = subLength * 5;
-        var c1 = TOps.Splat(Cos2Pi5);
-        var c2 = TOps.Splat(Cos4Pi5);
-        var s1 = TOps.Splat(Sin2Pi5);
-        var s2 = TOps.Splat(Sin4Pi5);
+        var c1 = TOps.Splat(TScalar.CreateTruncating(Cos2Pi5));
+        var c2 = TOps.Splat(TScalar.CreateTruncating(Cos4Pi5));
+        var s1 = TOps.Splat(TScalar.CreateTruncating(Sin2Pi5));
+        var s2 = TOps.Splat(TScalar.CreateTruncating(Sin4Pi5));
         for (var b = 0; b < n; b += l)
         {
             for (var j = 0; j < subLength; j++)
@@ -370,10 +400,10 @@ internal sealed class ComplexFftPlan
                 if (subLength > 1)
                 {
                     var t = 8 * j;
-                    Twiddle<TOps, TVec>(ref a1r, ref a1i, twiddles[t], twiddles[t + 1]);
-                    Twiddle<TOps, TVec>(ref a2r, ref a2i, twiddles[t + 2], twiddles[t + 3]);
-                    Twiddle<TOps, TVec>(ref a3r, ref a3i, twiddles[t + 4], twiddles[t + 5]);
-                    Twiddle<TOps, TVec>(ref a4r, ref a4i, twiddles[t + 6], twiddles[t + 7]);
+                    Twiddle<TOps, TVec, TScalar>(ref a1r, ref a1i, twiddles[t], twiddles[t + 1]);
+                    Twiddle<TOps, TVec, TScalar>(ref a2r, ref a2i, twiddles[t + 2], twiddles[t + 3]);
+                    Twiddle<TOps, TVec, TScalar>(ref a3r, ref a3i, twiddles[t + 4], twiddles[t + 5]);
+                    Twiddle<TOps, TVec, TScalar>(ref a4r, ref a4i, twiddles[t + 6], twiddles[t + 7]);
                 }
 
                 var a0r = re[i0];

@@ -18,15 +18,15 @@ internal sealed class FftPeriodogramKernel : IPeriodogramKernel
     private readonly ComplexFftPlan _plan;
     private readonly double[] _window;
 
-    // Split-step twiddles (cos, −sin of 2πk/N) for k = 0 … M/2, even N only.
+    // Split-step twiddles (cos, −sin of 2πk/N) for k = 0 … M/2, even N only (PowerSteps.SplitTwiddles).
     private readonly double[] _splitTwiddles;
-    private readonly AlignedScratch _re;
-    private readonly AlignedScratch _im;
+    private readonly AlignedScratch<double> _re;
+    private readonly AlignedScratch<double> _im;
 
     // Vectorized even N: the four channels' raw samples as lanes, natural order (z[n] = x[2n] + i·x[2n+1]), before the
     // digit-reversed, detrended, windowed copy into _re/_im. Transposing first keeps the input reads sequential.
-    private readonly AlignedScratch _rawRe;
-    private readonly AlignedScratch _rawIm;
+    private readonly AlignedScratch<double> _rawRe;
+    private readonly AlignedScratch<double> _rawIm;
     private readonly double _densityScale;
     private readonly bool _even;
     private readonly bool _vectorized;
@@ -40,17 +40,7 @@ internal sealed class FftPeriodogramKernel : IPeriodogramKernel
     /// <summary>As the public constructor, choosing the lane width (<paramref name="vectorized"/>) and a deliberate scratch misalignment in bytes (for tests and benchmarks).</summary>
     internal FftPeriodogramKernel(int segmentLength, double sampleRateHz, bool vectorized, int misalignBytes)
     {
-        ArgumentOutOfRangeException.ThrowIfLessThan(segmentLength, 2);
-        if (!(sampleRateHz > 0) || !double.IsFinite(sampleRateHz))
-        {
-            throw new ArgumentOutOfRangeException(nameof(sampleRateHz), sampleRateHz, "Sample rate must be a positive finite number of Hz.");
-        }
-
-        if (!Supports(segmentLength))
-        {
-            throw new ArgumentOutOfRangeException(nameof(segmentLength), segmentLength, "Segment length must be ≥ 2 with no prime factor other than 2, 3 and 5.");
-        }
-
+        PowerSteps.CheckKernelArguments(segmentLength, sampleRateHz);
         SegmentLength = segmentLength;
         BinCount = (segmentLength / 2) + 1;
         _even = (segmentLength & 1) == 0;
@@ -58,34 +48,15 @@ internal sealed class FftPeriodogramKernel : IPeriodogramKernel
         _vectorized = vectorized && Avx.IsSupported;
         var m = _even ? segmentLength / 2 : segmentLength;
         _plan = ComplexFftPlan.Get(m);
-
-        _window = new double[segmentLength];
-        HannWindow.FillPeriodic(_window);
-        double sumSquares = 0;
-        for (var i = 0; i < segmentLength; i++)
-        {
-            sumSquares += _window[i] * _window[i];
-        }
-
-        _densityScale = 1.0 / (sampleRateHz * sumSquares);
-
-        _splitTwiddles = new double[_even ? 2 * ((m / 2) + 1) : 0];
-        if (_even)
-        {
-            for (var k = 0; k <= m / 2; k++)
-            {
-                var angle = 2 * Math.PI * k / segmentLength;
-                _splitTwiddles[2 * k] = Math.Cos(angle);
-                _splitTwiddles[(2 * k) + 1] = -Math.Sin(angle);
-            }
-        }
+        _window = PowerSteps.Window(segmentLength, sampleRateHz, out _densityScale);
+        _splitTwiddles = PowerSteps.SplitTwiddles(segmentLength);
 
         var lanes = _vectorized ? Vector256<double>.Count : 1;
-        _re = new AlignedScratch(m * lanes, misalignBytes);
-        _im = new AlignedScratch(m * lanes, misalignBytes);
+        _re = new AlignedScratch<double>(m * lanes, misalignBytes);
+        _im = new AlignedScratch<double>(m * lanes, misalignBytes);
         var raw = _vectorized && _even ? m * lanes : 0;
-        _rawRe = new AlignedScratch(raw, misalignBytes);
-        _rawIm = new AlignedScratch(raw, misalignBytes);
+        _rawRe = new AlignedScratch<double>(raw, misalignBytes);
+        _rawIm = new AlignedScratch<double>(raw, misalignBytes);
     }
 
     /// <inheritdoc/>
@@ -258,73 +229,17 @@ internal sealed class FftPeriodogramKernel : IPeriodogramKernel
 
     /// <summary>FFT, then scaled power per bin back into the scratch: bin k (k &lt; M) at re[k]; for even N, bin M at im[0].</summary>
     private void Transform<TOps, TVec>(Span<TVec> re, Span<TVec> im)
-        where TOps : struct, ILaneOps<TVec>
+        where TOps : struct, ILaneOps<TVec, double>
         where TVec : struct
     {
-        _plan.Forward<TOps, TVec>(re, im);
+        _plan.Forward<TOps, TVec, double>(re, im);
         if (_even)
         {
-            SplitPower<TOps, TVec>(re, im);
+            PowerSteps.Split<TOps, TVec, double>(re, im, _plan.Length, _splitTwiddles, _densityScale);
         }
         else
         {
-            OddPower<TOps, TVec>(re, im);
-        }
-    }
-
-    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
-    private void SplitPower<TOps, TVec>(Span<TVec> re, Span<TVec> im)
-        where TOps : struct, ILaneOps<TVec>
-        where TVec : struct
-    {
-        var m = _plan.Length;
-        var twiddles = _splitTwiddles.AsSpan();
-
-        // X[0] = Re Z0 + Im Z0 and X[M] = Re Z0 − Im Z0 are real; neither is doubled (DC and Nyquist).
-        var scale = TOps.Splat(_densityScale);
-        var dc = TOps.Add(re[0], im[0]);
-        var nyquist = TOps.Sub(re[0], im[0]);
-        re[0] = TOps.Mul(TOps.Mul(dc, dc), scale);
-        im[0] = TOps.Mul(TOps.Mul(nyquist, nyquist), scale);
-
-        // With A = Z[k], B = Z[M−k]: 2E = A + conj(B), 2O = −i·(A − conj(B)), X[k] = E + W^k·O and
-        // X[M−k] = conj(E − W^k·O), W = e^(−2πi/N). The halves of E and O go into the scale: 2·(1/2)² = 1/2.
-        var doubled = TOps.Splat(0.5 * _densityScale);
-        for (var k = 1; k <= m / 2; k++)
-        {
-            var mk = m - k;
-            var ar = re[k];
-            var ai = im[k];
-            var br = re[mk];
-            var bi = im[mk];
-            var er = TOps.Add(ar, br);
-            var ei = TOps.Sub(ai, bi);
-            var or = TOps.Add(ai, bi);
-            var oi = TOps.Sub(br, ar);
-            var wr = TOps.Splat(twiddles[2 * k]);
-            var wi = TOps.Splat(twiddles[(2 * k) + 1]);
-            var wor = TOps.NegMulAdd(wi, oi, TOps.Mul(wr, or));
-            var woi = TOps.MulAdd(wi, or, TOps.Mul(wr, oi));
-            var xr = TOps.Add(er, wor);
-            var xi = TOps.Add(ei, woi);
-            var yr = TOps.Sub(er, wor);
-            var yi = TOps.Sub(ei, woi);
-            re[k] = TOps.Mul(TOps.MulAdd(xr, xr, TOps.Mul(xi, xi)), doubled);
-            re[mk] = TOps.Mul(TOps.MulAdd(yr, yr, TOps.Mul(yi, yi)), doubled);
-        }
-    }
-
-    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
-    private void OddPower<TOps, TVec>(Span<TVec> re, Span<TVec> im)
-        where TOps : struct, ILaneOps<TVec>
-        where TVec : struct
-    {
-        var scale = TOps.Splat(_densityScale);
-        var doubled = TOps.Splat(2 * _densityScale);
-        re[0] = TOps.Mul(TOps.MulAdd(re[0], re[0], TOps.Mul(im[0], im[0])), scale);
-        for (var k = 1; k < BinCount; k++)
-        {
-            re[k] = TOps.Mul(TOps.MulAdd(re[k], re[k], TOps.Mul(im[k], im[k])), doubled);
+            PowerSteps.Odd<TOps, TVec, double>(re, im, BinCount, _densityScale);
         }
     }
 

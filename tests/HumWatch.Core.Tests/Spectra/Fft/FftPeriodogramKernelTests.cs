@@ -276,9 +276,9 @@ public sealed class FftPeriodogramKernelTests
     [Fact]
     public void Scratch_is_64_byte_aligned_unless_misaligned_on_purpose()
     {
-        Assert.Equal(0, new AlignedScratch(1000).AddressModulo64);
-        Assert.Equal(8, new AlignedScratch(1000, 8).AddressModulo64);
-        Assert.Equal(1000, new AlignedScratch(1000, 8).Span.Length);
+        Assert.Equal(0, new AlignedScratch<double>(1000).AddressModulo64);
+        Assert.Equal(8, new AlignedScratch<double>(1000, 8).AddressModulo64);
+        Assert.Equal(1000, new AlignedScratch<double>(1000, 8).Span.Length);
     }
 
     [Theory]
