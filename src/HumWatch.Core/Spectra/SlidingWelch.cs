@@ -1,3 +1,7 @@
+using System.Runtime.CompilerServices;
+using System.Runtime.InteropServices;
+using System.Runtime.Intrinsics;
+
 namespace HumWatch.Core.Spectra;
 
 /// <summary>
@@ -154,13 +158,7 @@ public sealed class SlidingWelch
             var take = Math.Min(samplesPerChannel - offset, segmentLength - _fill);
             for (var c = 0; c < ChannelCount; c++)
             {
-                var source = channelMajor.Slice((c * samplesPerChannel) + offset, take);
-                var target = samples.Slice((c * segmentLength) + _fill, take);
-                for (var i = 0; i < take; i++)
-                {
-                    var value = source[i];
-                    target[i] = float.IsFinite(value) ? value : 0.0;
-                }
+                WidenFinite(channelMajor.Slice((c * samplesPerChannel) + offset, take), samples.Slice((c * segmentLength) + _fill, take));
             }
 
             _fill += take;
@@ -169,6 +167,31 @@ public sealed class SlidingWelch
             {
                 CompleteSegment(sink);
             }
+        }
+    }
+
+    // target[i] = source[i] widened to double, or 0 where it is not finite (v − v is 0 exactly when v is finite).
+    private static void WidenFinite(ReadOnlySpan<float> source, Span<double> target)
+    {
+        var i = 0;
+        if (Vector256.IsHardwareAccelerated && source.Length >= Vector256<float>.Count)
+        {
+            ref var from = ref MemoryMarshal.GetReference(source);
+            ref var to = ref MemoryMarshal.GetReference(target);
+            for (; i <= source.Length - Vector256<float>.Count; i += Vector256<float>.Count)
+            {
+                var v = Vector256.LoadUnsafe(ref from, (nuint)i);
+                var finite = Vector256.Equals(v - v, Vector256<float>.Zero);
+                var (lower, upper) = Vector256.Widen(finite & v);
+                lower.StoreUnsafe(ref to, (nuint)i);
+                upper.StoreUnsafe(ref to, (nuint)(i + Vector256<double>.Count));
+            }
+        }
+
+        for (; i < source.Length; i++)
+        {
+            var value = source[i];
+            target[i] = float.IsFinite(value) ? value : 0.0;
         }
     }
 
@@ -264,31 +287,49 @@ public sealed class SlidingWelch
         }
     }
 
-    // Re-averages the K rows, oldest first, so each frame equals a fresh Welch mean over its span.
+    // Re-averages the K rows, oldest first, so each frame equals a fresh Welch mean over its span: per bin
+    // ((row₀ + row₁) + …) / K. The vector loop does exactly those operations per lane, so it gives the same bits.
     private void AverageSpan(int oldestSlot)
     {
         var k = SegmentsPerSpan;
         var bins = BinCount;
         var channels = ChannelCount;
-        var rows = _periodograms.AsSpan();
+        var divisor = (double)k;
+        var rowStride = channels * bins;
+        ref var rows = ref MemoryMarshal.GetArrayDataReference(_periodograms);
+        ref var averaged = ref MemoryMarshal.GetArrayDataReference(_averaged);
+        var width = Vector256.IsHardwareAccelerated ? Vector256<double>.Count : 0;
+        var vectorDivisor = Vector256.Create(divisor);
         for (var c = 0; c < channels; c++)
         {
-            var mean = _averaged.AsSpan(c * bins, bins);
-            var first = rows.Slice(((oldestSlot * channels) + c) * bins, bins);
-            first.CopyTo(mean);
-            for (var i = 1; i < k; i++)
+            var meanAt = (nuint)(c * bins);
+            var firstAt = (nuint)(((oldestSlot * channels) + c) * bins);
+            var b = 0;
+            if (width > 0)
             {
-                var slot = (oldestSlot + i) % k;
-                var row = rows.Slice(((slot * channels) + c) * bins, bins);
-                for (var b = 0; b < bins; b++)
+                for (; b <= bins - width; b += width)
                 {
-                    mean[b] += row[b];
+                    var sum = Vector256.LoadUnsafe(ref rows, firstAt + (nuint)b);
+                    for (var i = 1; i < k; i++)
+                    {
+                        var slot = (oldestSlot + i) % k;
+                        sum += Vector256.LoadUnsafe(ref rows, (nuint)((slot * rowStride) + (c * bins) + b));
+                    }
+
+                    (sum / vectorDivisor).StoreUnsafe(ref averaged, meanAt + (nuint)b);
                 }
             }
 
-            for (var b = 0; b < bins; b++)
+            for (; b < bins; b++)
             {
-                mean[b] /= k;
+                var sum = Unsafe.Add(ref rows, firstAt + (nuint)b);
+                for (var i = 1; i < k; i++)
+                {
+                    var slot = (oldestSlot + i) % k;
+                    sum += Unsafe.Add(ref rows, (slot * rowStride) + (c * bins) + b);
+                }
+
+                Unsafe.Add(ref averaged, meanAt + (nuint)b) = sum / divisor;
             }
         }
     }
