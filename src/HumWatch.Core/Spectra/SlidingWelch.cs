@@ -24,6 +24,10 @@ public sealed class SlidingWelch
     // Ring of periodograms: slot s (segment index mod K), channel c, at (s·C + c)·B.
     private readonly double[] _periodograms;
     private readonly double[] _averaged;
+
+    // Which channels' means of the newest frame are computed, and where the frame's rows start, oldest first.
+    private readonly bool[] _averagedReady;
+    private readonly int[] _rowOffsets;
     private int _fill;
     private long _segmentsCompleted;
     private long _lastComputedSegment = -1;
@@ -106,6 +110,8 @@ public sealed class SlidingWelch
         _samples = new double[channelCount * segmentLength];
         _periodograms = new double[segmentsPerSpan * channelCount * BinCount];
         _averaged = new double[channelCount * BinCount];
+        _averagedReady = new bool[channelCount];
+        _rowOffsets = new int[segmentsPerSpan];
     }
 
     /// <summary>Sample rate in Hz.</summary>
@@ -204,6 +210,11 @@ public sealed class SlidingWelch
             throw new InvalidOperationException("No frame has been completed since the last Reset.");
         }
 
+        if (!_averagedReady[channel])
+        {
+            AverageChannel(channel);
+        }
+
         return _averaged.AsSpan(channel * BinCount, BinCount);
     }
 
@@ -275,7 +286,12 @@ public sealed class SlidingWelch
         }
 
         _frameNewestSegment = segment;
-        AverageSpan((int)(oldest % k));
+        for (var i = 0; i < k; i++)
+        {
+            _rowOffsets[i] = (int)((oldest + i) % k) * channels * bins;
+        }
+
+        Array.Clear(_averagedReady);
         _inCallback = true;
         try
         {
@@ -284,54 +300,57 @@ public sealed class SlidingWelch
         finally
         {
             _inCallback = false;
+            for (var c = 0; c < channels; c++)
+            {
+                if (!_averagedReady[c])
+                {
+                    AverageChannel(c);
+                }
+            }
         }
     }
 
-    // Re-averages the K rows, oldest first, so each frame equals a fresh Welch mean over its span: per bin
-    // ((row₀ + row₁) + …) / K. The vector loop does exactly those operations per lane, so it gives the same bits.
-    private void AverageSpan(int oldestSlot)
+    // Channel c's mean of the newest frame's K rows, oldest first, so each frame equals a fresh Welch mean over its
+    // span: per bin ((row₀ + row₁) + …) / K. The vector loop does exactly those operations per lane, so it gives the
+    // same bits. Done on first use inside OnSpan (while the consumer is about to read it, so it is still in cache) and
+    // for the rest of the channels right after OnSpan, before later segments can replace the rows.
+    private void AverageChannel(int channel)
     {
         var k = SegmentsPerSpan;
         var bins = BinCount;
-        var channels = ChannelCount;
         var divisor = (double)k;
-        var rowStride = channels * bins;
         ref var rows = ref MemoryMarshal.GetArrayDataReference(_periodograms);
-        ref var averaged = ref MemoryMarshal.GetArrayDataReference(_averaged);
-        var width = Vector256.IsHardwareAccelerated ? Vector256<double>.Count : 0;
-        var vectorDivisor = Vector256.Create(divisor);
-        for (var c = 0; c < channels; c++)
+        ref var mean = ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(_averaged), channel * bins);
+        ref var offsets = ref MemoryMarshal.GetArrayDataReference(_rowOffsets);
+        var channelAt = channel * bins;
+        var b = 0;
+        if (Vector256.IsHardwareAccelerated)
         {
-            var meanAt = (nuint)(c * bins);
-            var firstAt = (nuint)(((oldestSlot * channels) + c) * bins);
-            var b = 0;
-            if (width > 0)
+            var vectorDivisor = Vector256.Create(divisor);
+            for (; b <= bins - Vector256<double>.Count; b += Vector256<double>.Count)
             {
-                for (; b <= bins - width; b += width)
-                {
-                    var sum = Vector256.LoadUnsafe(ref rows, firstAt + (nuint)b);
-                    for (var i = 1; i < k; i++)
-                    {
-                        var slot = (oldestSlot + i) % k;
-                        sum += Vector256.LoadUnsafe(ref rows, (nuint)((slot * rowStride) + (c * bins) + b));
-                    }
-
-                    (sum / vectorDivisor).StoreUnsafe(ref averaged, meanAt + (nuint)b);
-                }
-            }
-
-            for (; b < bins; b++)
-            {
-                var sum = Unsafe.Add(ref rows, firstAt + (nuint)b);
+                var sum = Vector256.LoadUnsafe(ref rows, (nuint)(offsets + channelAt + b));
                 for (var i = 1; i < k; i++)
                 {
-                    var slot = (oldestSlot + i) % k;
-                    sum += Unsafe.Add(ref rows, (slot * rowStride) + (c * bins) + b);
+                    sum += Vector256.LoadUnsafe(ref rows, (nuint)(Unsafe.Add(ref offsets, i) + channelAt + b));
                 }
 
-                Unsafe.Add(ref averaged, meanAt + (nuint)b) = sum / divisor;
+                (sum / vectorDivisor).StoreUnsafe(ref mean, (nuint)b);
             }
         }
+
+        for (; b < bins; b++)
+        {
+            var sum = Unsafe.Add(ref rows, offsets + channelAt + b);
+            for (var i = 1; i < k; i++)
+            {
+                sum += Unsafe.Add(ref rows, Unsafe.Add(ref offsets, i) + channelAt + b);
+            }
+
+            Unsafe.Add(ref mean, b) = sum / divisor;
+        }
+
+        _averagedReady[channel] = true;
     }
 
     private void CheckChannel(int channel)
