@@ -1,3 +1,5 @@
+using System.Runtime.InteropServices;
+using System.Runtime.Intrinsics;
 using HumWatch.Core.Attribution;
 using HumWatch.Core.Faults;
 using HumWatch.Core.Lines;
@@ -192,10 +194,7 @@ public sealed class StreamAnalyzer
             }
 
             var psd = welch.AveragedPsd(c);
-            for (var b = 0; b < mean.Length; b++)
-            {
-                mean[b] += psd[b];
-            }
+            AddInto(mean, psd);
 
             var channelPeaks = _peaks.AsSpan(c * stride, stride);
             _peakCounts[c] = _consistency.Filter(channelPeaks, _finder.Find(psd, channelPeaks), _adapter, c);
@@ -204,11 +203,7 @@ public sealed class StreamAnalyzer
 
         if (analysed > 0)
         {
-            var scale = 1.0 / analysed;
-            for (var b = 0; b < mean.Length; b++)
-            {
-                mean[b] *= scale;
-            }
+            Scale(mean, 1.0 / analysed);
         }
 
         var start = _baseIndex + spanStart;
@@ -223,6 +218,46 @@ public sealed class StreamAnalyzer
             ? anchor.AddTicks((long)Math.Round((start - _anchorIndex) / _layout.SampleRateHz * TimeSpan.TicksPerSecond))
             : null;
         _sink?.OnFrame(frame);
+    }
+
+    // total[b] += add[b]; lane-wise, so the same bits as the plain loop.
+    private static void AddInto(Span<double> total, ReadOnlySpan<double> add)
+    {
+        var b = 0;
+        if (Vector256.IsHardwareAccelerated)
+        {
+            ref var to = ref MemoryMarshal.GetReference(total);
+            ref var from = ref MemoryMarshal.GetReference(add);
+            for (; b <= total.Length - Vector256<double>.Count; b += Vector256<double>.Count)
+            {
+                (Vector256.LoadUnsafe(ref to, (nuint)b) + Vector256.LoadUnsafe(ref from, (nuint)b)).StoreUnsafe(ref to, (nuint)b);
+            }
+        }
+
+        for (; b < total.Length; b++)
+        {
+            total[b] += add[b];
+        }
+    }
+
+    // values[b] *= factor; lane-wise, so the same bits as the plain loop.
+    private static void Scale(Span<double> values, double factor)
+    {
+        var b = 0;
+        if (Vector256.IsHardwareAccelerated)
+        {
+            ref var at = ref MemoryMarshal.GetReference(values);
+            var f = Vector256.Create(factor);
+            for (; b <= values.Length - Vector256<double>.Count; b += Vector256<double>.Count)
+            {
+                (Vector256.LoadUnsafe(ref at, (nuint)b) * f).StoreUnsafe(ref at, (nuint)b);
+            }
+        }
+
+        for (; b < values.Length; b++)
+        {
+            values[b] *= factor;
+        }
     }
 
     // Keeps the SlidingWelch callback and the segment view off the public surface.

@@ -1,3 +1,7 @@
+using System.Runtime.CompilerServices;
+using System.Runtime.InteropServices;
+using System.Runtime.Intrinsics;
+using System.Runtime.Intrinsics.X86;
 using HumWatch.Core.Signals;
 
 namespace HumWatch.Core.Faults;
@@ -104,7 +108,24 @@ internal sealed class FaultDetector
                 ClearSlot(baseCell);
             }
 
-            for (var c = 0; c < _channelCount; c++)
+            var c = 0;
+            if (Avx512F.IsSupported && Avx2.IsSupported)
+            {
+                for (; c + Vector512<double>.Count <= _channelCount; c += Vector512<double>.Count)
+                {
+                    AccumulateEight(channelMajor, (c * samplesPerChannel) + offset, samplesPerChannel, take, baseCell + c, c);
+                }
+            }
+
+            if (Vector256.IsHardwareAccelerated)
+            {
+                for (; c + Vector256<double>.Count <= _channelCount; c += Vector256<double>.Count)
+                {
+                    AccumulateFour(channelMajor, (c * samplesPerChannel) + offset, samplesPerChannel, take, baseCell + c, c);
+                }
+            }
+
+            for (; c < _channelCount; c++)
             {
                 Accumulate(channelMajor.Slice((c * samplesPerChannel) + offset, take), baseCell + c, _lowLimit[c], _highLimit[c]);
             }
@@ -113,6 +134,16 @@ internal sealed class FaultDetector
         }
 
         _position += samplesPerChannel;
+    }
+
+    /// <summary>Blocks in the statistics ring.</summary>
+    internal int RingBlocks => _ringBlocks;
+
+    /// <summary>The raw statistics held in ring slot <paramref name="slot"/> for <paramref name="channel"/> (for tests).</summary>
+    internal (double Reference, double Sum, double SumSquares, int Finite, int Clipped, int NonFinite) SlotStatistics(int slot, int channel)
+    {
+        var cell = (slot * _channelCount) + channel;
+        return (_reference[cell], _sum[cell], _sumSquares[cell], _finite[cell], _clipped[cell], _nonFinite[cell]);
     }
 
     /// <summary>Forgets everything; sample indices restart at 0.</summary>
@@ -244,6 +275,121 @@ internal sealed class FaultDetector
         _finite[cell] += finite;
         _clipped[cell] += clipped;
         _nonFinite[cell] += nonFinite;
+    }
+
+    // Accumulate for four channels at once, one channel per lane: each lane runs exactly the scalar sequence (same
+    // reference, same additions in sample order; a skipped non-finite sample adds +0, which changes no sum because a
+    // sum that starts at +0 is never −0), so the statistics are bit-identical to four Accumulate calls.
+    // Channel c + j's samples start at first + j·stride.
+    private void AccumulateFour(ReadOnlySpan<float> channelMajor, int first, int stride, int count, int cell, int channel)
+    {
+        ref var s0 = ref Unsafe.Add(ref MemoryMarshal.GetReference(channelMajor), first);
+        ref var s1 = ref Unsafe.Add(ref s0, stride);
+        ref var s2 = ref Unsafe.Add(ref s1, stride);
+        ref var s3 = ref Unsafe.Add(ref s2, stride);
+        var low = Vector256.LoadUnsafe(ref MemoryMarshal.GetArrayDataReference(_lowLimit), (nuint)channel);
+        var high = Vector256.LoadUnsafe(ref MemoryMarshal.GetArrayDataReference(_highLimit), (nuint)channel);
+        ref var referenceAt = ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(_reference), cell);
+        var reference = Vector256.LoadUnsafe(ref referenceAt);
+        var one = Vector256<double>.One;
+        var sum = Vector256<double>.Zero;
+        var squares = Vector256<double>.Zero;
+        var finite = Vector256<double>.Zero;
+        var clipped = Vector256<double>.Zero;
+        var nonFinite = Vector256<double>.Zero;
+        var pending = !Vector256.EqualsAll(reference, reference);
+        for (var i = 0; i < count; i++)
+        {
+            var v = Vector256.Create((double)Unsafe.Add(ref s0, i), Unsafe.Add(ref s1, i), Unsafe.Add(ref s2, i), Unsafe.Add(ref s3, i));
+            var isFinite = Vector256.Equals(v - v, Vector256<double>.Zero);
+            nonFinite += Vector256.AndNot(one, isFinite);
+            if (pending)
+            {
+                // Until every lane has seen a finite sample; after that the references are fixed for the block.
+                reference = Vector256.ConditionalSelect(Vector256.AndNot(isFinite, Vector256.Equals(reference, reference)), v, reference);
+                pending = !Vector256.EqualsAll(reference, reference);
+            }
+
+            var d = v - reference;
+            sum += d & isFinite;
+            squares += (d * d) & isFinite;
+            finite += one & isFinite;
+            clipped += one & isFinite & (Vector256.LessThanOrEqual(v, low) | Vector256.GreaterThanOrEqual(v, high));
+        }
+
+        reference.StoreUnsafe(ref referenceAt);
+        ref var sumAt = ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(_sum), cell);
+        (Vector256.LoadUnsafe(ref sumAt) + sum).StoreUnsafe(ref sumAt);
+        ref var squaresAt = ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(_sumSquares), cell);
+        (Vector256.LoadUnsafe(ref squaresAt) + squares).StoreUnsafe(ref squaresAt);
+        for (var j = 0; j < Vector256<double>.Count; j++)
+        {
+            _finite[cell + j] += (int)finite.GetElement(j);
+            _clipped[cell + j] += (int)clipped.GetElement(j);
+            _nonFinite[cell + j] += (int)nonFinite.GetElement(j);
+        }
+    }
+
+    // As AccumulateFour for eight channels: one gather fetches sample i of all eight, then 512-bit lanes.
+    private unsafe void AccumulateEight(ReadOnlySpan<float> channelMajor, int first, int stride, int count, int cell, int channel)
+    {
+        if ((long)stride * (Vector512<double>.Count - 1) > int.MaxValue)
+        {
+            for (var j = 0; j < Vector512<double>.Count; j++)
+            {
+                var c = channel + j;
+                Accumulate(channelMajor.Slice(first + (j * stride), count), cell + j, _lowLimit[c], _highLimit[c]);
+            }
+
+            return;
+        }
+
+        var lanes = Vector256.Create(0, stride, 2 * stride, 3 * stride, 4 * stride, 5 * stride, 6 * stride, 7 * stride);
+        var low = Vector512.LoadUnsafe(ref MemoryMarshal.GetArrayDataReference(_lowLimit), (nuint)channel);
+        var high = Vector512.LoadUnsafe(ref MemoryMarshal.GetArrayDataReference(_highLimit), (nuint)channel);
+        ref var referenceAt = ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(_reference), cell);
+        var reference = Vector512.LoadUnsafe(ref referenceAt);
+        var one = Vector512<double>.One;
+        var sum = Vector512<double>.Zero;
+        var squares = Vector512<double>.Zero;
+        var finite = Vector512<double>.Zero;
+        var clipped = Vector512<double>.Zero;
+        var nonFinite = Vector512<double>.Zero;
+        var pending = !Vector512.EqualsAll(reference, reference);
+        fixed (float* start = channelMajor)
+        {
+            var at = start + first;
+            for (var i = 0; i < count; i++)
+            {
+                var v = Avx512F.ConvertToVector512Double(Avx2.GatherVector256(at + i, lanes, 4));
+                var isFinite = Vector512.Equals(v - v, Vector512<double>.Zero);
+                nonFinite += Vector512.AndNot(one, isFinite);
+                if (pending)
+                {
+                    // Until every lane has seen a finite sample; after that the references are fixed for the block.
+                    reference = Vector512.ConditionalSelect(Vector512.AndNot(isFinite, Vector512.Equals(reference, reference)), v, reference);
+                    pending = !Vector512.EqualsAll(reference, reference);
+                }
+
+                var d = v - reference;
+                sum += d & isFinite;
+                squares += (d * d) & isFinite;
+                finite += one & isFinite;
+                clipped += one & isFinite & (Vector512.LessThanOrEqual(v, low) | Vector512.GreaterThanOrEqual(v, high));
+            }
+        }
+
+        reference.StoreUnsafe(ref referenceAt);
+        ref var sumAt = ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(_sum), cell);
+        (Vector512.LoadUnsafe(ref sumAt) + sum).StoreUnsafe(ref sumAt);
+        ref var squaresAt = ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(_sumSquares), cell);
+        (Vector512.LoadUnsafe(ref squaresAt) + squares).StoreUnsafe(ref squaresAt);
+        for (var j = 0; j < Vector512<double>.Count; j++)
+        {
+            _finite[cell + j] += (int)finite.GetElement(j);
+            _clipped[cell + j] += (int)clipped.GetElement(j);
+            _nonFinite[cell + j] += (int)nonFinite.GetElement(j);
+        }
     }
 
     private static int Gcd(int a, int b)

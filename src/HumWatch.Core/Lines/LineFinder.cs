@@ -1,3 +1,7 @@
+using System.Numerics;
+using System.Runtime.InteropServices;
+using System.Runtime.Intrinsics;
+
 namespace HumWatch.Core.Lines;
 
 /// <summary>
@@ -46,6 +50,9 @@ internal sealed class LineFinder
     // Farthest bin of the near level that bounds the floor from below.
     private const int NearOuterBins = 5;
 
+    // Bins in the near level when both sides are present.
+    private const int NearCount = 2 * (NearOuterBins - GuardBins + 1);
+
     private readonly int _binCount;
     private readonly double _binWidthHz;
     private readonly int _minBin;
@@ -57,12 +64,19 @@ internal sealed class LineFinder
     private readonly double _floorCorrection;
     private readonly double[] _scratch;
     private readonly ChannelPeak[] _kept;
+    private readonly int _vectorBits;
 
     /// <param name="options">Search settings (validated by the caller).</param>
     /// <param name="binCount">One-sided bins of the PSD (segment length / 2 + 1), ≥ 16.</param>
     /// <param name="binWidthHz">Bin spacing, Hz.</param>
     /// <param name="degreesOfFreedom">Equivalent χ² degrees of freedom of a PSD bin (see <see cref="WelchStatistics"/>), ≥ 2.</param>
     public LineFinder(LineFinderOptions options, int binCount, double binWidthHz, double degreesOfFreedom)
+        : this(options, binCount, binWidthHz, degreesOfFreedom, 512)
+    {
+    }
+
+    /// <summary>As the public constructor, with the widest prefilter vector allowed (512, 256 or 0 bits = scalar only), for tests.</summary>
+    internal LineFinder(LineFinderOptions options, int binCount, double binWidthHz, double degreesOfFreedom, int vectorBits)
     {
         ArgumentNullException.ThrowIfNull(options);
         if (binCount < 16)
@@ -94,6 +108,7 @@ internal sealed class LineFinder
         _floorCorrection = 1 / WelchStatistics.MedianOfScaledChiSquare(degreesOfFreedom);
         _scratch = new double[2 * _flankBins];
         _kept = new ChannelPeak[options.MaxPeaksPerChannel];
+        _vectorBits = vectorBits;
     }
 
     /// <summary>Largest number of peaks <see cref="Find"/> returns.</summary>
@@ -118,58 +133,29 @@ internal sealed class LineFinder
             throw new ArgumentException($"Peak buffer must hold {_kept.Length} peaks (got {peaks.Length}).", nameof(peaks));
         }
 
+        // Bins whose near level has all six neighbours go through the vector prefilter; the few near DC and Nyquist are
+        // checked one by one. Both visit bins in ascending order, so peaks are kept in the same order as a plain scan.
         var kept = 0;
-        var last = _binCount - 1;
-        for (var k = _minBin; k <= _maxBin; k++)
+        var k = _minBin;
+        var interiorFirst = Math.Max(_minBin, NearOuterBins + 1);
+        var interiorLast = Math.Min(_maxBin, _binCount - 1 - NearOuterBins);
+        for (; k <= _maxBin && k < interiorFirst; k++)
         {
-            var p = psd[k];
-            if (!(p > 0) || p < psd[k - 1] || (k < last && p <= psd[k + 1]))
-            {
-                continue;
-            }
+            kept = Consider(psd, k, kept);
+        }
 
-            // The level right beside the main lobe (bins 3…5 away, where a tone leaks < −31 dB) also bounds the floor: on
-            // the slope of a strong rhythm the far flanks sit low, and a χ² fluctuation of the rhythm would otherwise pass.
-            // It is cheap, so it goes first: most local maxima of noise fail against it and never need the median.
-            var near = NearLevel(psd, k);
-            if (p < near * _minProminenceRatio)
-            {
-                continue;
-            }
+        if (Vector512.IsHardwareAccelerated && _vectorBits >= 512)
+        {
+            k = Prefilter512(psd, k, interiorLast, ref kept);
+        }
+        else if (Vector256.IsHardwareAccelerated && _vectorBits >= 256)
+        {
+            k = Prefilter256(psd, k, interiorLast, ref kept);
+        }
 
-            var median = LocalFloor.Median(psd, k, GuardBins, _flankBins, 2, MinimumFlankBins, _scratch);
-            if (!(median > 0))
-            {
-                continue;
-            }
-
-            var floor = Math.Max(median * _floorCorrection, near);
-            if (p < floor * _minProminenceRatio)
-            {
-                continue;
-            }
-
-            var excess = p - floor;
-            if (!IsNarrow(psd, k, floor, excess))
-            {
-                continue;
-            }
-
-            var power = 0.0;
-            for (var j = Math.Max(1, k - MainLobeBins); j <= Math.Min(last, k + MainLobeBins); j++)
-            {
-                power += psd[j] - floor;
-            }
-
-            var amplitude = Math.Sqrt(Math.Max(0, power * _binWidthHz));
-            if (amplitude < _minAmplitudeUvRms)
-            {
-                continue;
-            }
-
-            var offset = InterpolateOffset(psd, k, floor, excess);
-            var peak = new ChannelPeak(k, (k + offset) * _binWidthHz, amplitude, 10 * Math.Log10(p / floor), floor);
-            kept = Keep(peak, kept);
+        for (; k <= _maxBin; k++)
+        {
+            kept = Consider(psd, k, kept);
         }
 
         // Insertion sort by amplitude, largest first (at most MaxPeaksPerChannel entries).
@@ -192,6 +178,127 @@ internal sealed class LineFinder
 
     /// <summary>The smallest prominence a kept peak has, dB.</summary>
     public double MinProminenceDb => _minProminenceDb;
+
+    // The full test of bin k; adds it to the kept peaks when it is a line. Returns the new kept count.
+    private int Consider(ReadOnlySpan<double> psd, int k, int kept)
+    {
+        var last = _binCount - 1;
+        var p = psd[k];
+        if (!(p > 0) || p < psd[k - 1] || (k < last && p <= psd[k + 1]))
+        {
+            return kept;
+        }
+
+        // The level right beside the main lobe (bins 3…5 away, where a tone leaks < −31 dB) also bounds the floor: on
+        // the slope of a strong rhythm the far flanks sit low, and a χ² fluctuation of the rhythm would otherwise pass.
+        // It is cheap, so it goes first: most local maxima of noise fail against it and never need the median.
+        var near = NearLevel(psd, k);
+        if (p < near * _minProminenceRatio)
+        {
+            return kept;
+        }
+
+        var median = LocalFloor.Median(psd, k, GuardBins, _flankBins, 2, MinimumFlankBins, _scratch);
+        if (!(median > 0))
+        {
+            return kept;
+        }
+
+        var floor = Math.Max(median * _floorCorrection, near);
+        if (p < floor * _minProminenceRatio)
+        {
+            return kept;
+        }
+
+        var excess = p - floor;
+        if (!IsNarrow(psd, k, floor, excess))
+        {
+            return kept;
+        }
+
+        var power = 0.0;
+        for (var j = Math.Max(1, k - MainLobeBins); j <= Math.Min(last, k + MainLobeBins); j++)
+        {
+            power += psd[j] - floor;
+        }
+
+        var amplitude = Math.Sqrt(Math.Max(0, power * _binWidthHz));
+        if (amplitude < _minAmplitudeUvRms)
+        {
+            return kept;
+        }
+
+        var offset = InterpolateOffset(psd, k, floor, excess);
+        var peak = new ChannelPeak(k, (k + offset) * _binWidthHz, amplitude, 10 * Math.Log10(p / floor), floor);
+        return Keep(peak, kept);
+    }
+
+    // Vector prefilter over bins k … interiorLast (all six near-level neighbours present): a lane passes only when the
+    // bin is a local maximum and stands at least the prominence ratio over its near level, computed with the same
+    // operations in the same order as NearLevel (0 + P[k−3] + P[k+3] + P[k−4] + P[k+4] + P[k−5] + P[k+5], then ÷ 6),
+    // so it rejects exactly the bins Consider would reject at those two tests. Passing bins get the full scalar test.
+    // NaN semantics match the scalar comparisons: a test written "p &lt; x ⇒ reject" rejects only when the comparison is true.
+    // Returns the first bin not covered.
+    private int Prefilter256(ReadOnlySpan<double> psd, int k, int interiorLast, ref int kept)
+    {
+        ref var origin = ref MemoryMarshal.GetReference(psd);
+        var ratio = Vector256.Create(_minProminenceRatio);
+        var count = Vector256.Create((double)NearCount);
+        for (; k + Vector256<double>.Count - 1 <= interiorLast; k += Vector256<double>.Count)
+        {
+            var at = (nuint)k;
+            var p = Vector256.LoadUnsafe(ref origin, at);
+            var candidate = Vector256.AndNot(
+                Vector256.AndNot(Vector256.GreaterThan(p, Vector256<double>.Zero), Vector256.LessThan(p, Vector256.LoadUnsafe(ref origin, at - 1))),
+                Vector256.LessThanOrEqual(p, Vector256.LoadUnsafe(ref origin, at + 1)));
+            var sum = Vector256<double>.Zero + Vector256.LoadUnsafe(ref origin, at - 3);
+            sum += Vector256.LoadUnsafe(ref origin, at + 3);
+            sum += Vector256.LoadUnsafe(ref origin, at - 4);
+            sum += Vector256.LoadUnsafe(ref origin, at + 4);
+            sum += Vector256.LoadUnsafe(ref origin, at - 5);
+            sum += Vector256.LoadUnsafe(ref origin, at + 5);
+            var pass = Vector256.AndNot(candidate, Vector256.LessThan(p, sum / count * ratio));
+            var bits = pass.ExtractMostSignificantBits();
+            while (bits != 0)
+            {
+                kept = Consider(psd, k + BitOperations.TrailingZeroCount(bits), kept);
+                bits &= bits - 1;
+            }
+        }
+
+        return k;
+    }
+
+    // As Prefilter256, eight bins at a time.
+    private int Prefilter512(ReadOnlySpan<double> psd, int k, int interiorLast, ref int kept)
+    {
+        ref var origin = ref MemoryMarshal.GetReference(psd);
+        var ratio = Vector512.Create(_minProminenceRatio);
+        var count = Vector512.Create((double)NearCount);
+        for (; k + Vector512<double>.Count - 1 <= interiorLast; k += Vector512<double>.Count)
+        {
+            var at = (nuint)k;
+            var p = Vector512.LoadUnsafe(ref origin, at);
+            var candidate = Vector512.AndNot(
+                Vector512.AndNot(Vector512.GreaterThan(p, Vector512<double>.Zero), Vector512.LessThan(p, Vector512.LoadUnsafe(ref origin, at - 1))),
+                Vector512.LessThanOrEqual(p, Vector512.LoadUnsafe(ref origin, at + 1)));
+            var sum = Vector512<double>.Zero + Vector512.LoadUnsafe(ref origin, at - 3);
+            sum += Vector512.LoadUnsafe(ref origin, at + 3);
+            sum += Vector512.LoadUnsafe(ref origin, at - 4);
+            sum += Vector512.LoadUnsafe(ref origin, at + 4);
+            sum += Vector512.LoadUnsafe(ref origin, at - 5);
+            sum += Vector512.LoadUnsafe(ref origin, at + 5);
+            var pass = Vector512.AndNot(candidate, Vector512.LessThan(p, sum / count * ratio));
+            var bits = pass.ExtractMostSignificantBits();
+            while (bits != 0)
+            {
+                kept = Consider(psd, k + BitOperations.TrailingZeroCount(bits), kept);
+                bits &= bits - 1;
+            }
+        }
+
+        return k;
+    }
 
     private double NearLevel(ReadOnlySpan<double> psd, int k)
     {

@@ -1,3 +1,7 @@
+using System.Runtime.CompilerServices;
+using System.Runtime.InteropServices;
+using System.Runtime.Intrinsics;
+
 namespace HumWatch.Core.Spectra;
 
 /// <summary>
@@ -20,6 +24,10 @@ public sealed class SlidingWelch
     // Ring of periodograms: slot s (segment index mod K), channel c, at (s·C + c)·B.
     private readonly double[] _periodograms;
     private readonly double[] _averaged;
+
+    // Which channels' means of the newest frame are computed, and where the frame's rows start, oldest first.
+    private readonly bool[] _averagedReady;
+    private readonly int[] _rowOffsets;
     private int _fill;
     private long _segmentsCompleted;
     private long _lastComputedSegment = -1;
@@ -102,6 +110,8 @@ public sealed class SlidingWelch
         _samples = new double[channelCount * segmentLength];
         _periodograms = new double[segmentsPerSpan * channelCount * BinCount];
         _averaged = new double[channelCount * BinCount];
+        _averagedReady = new bool[channelCount];
+        _rowOffsets = new int[segmentsPerSpan];
     }
 
     /// <summary>Sample rate in Hz.</summary>
@@ -154,13 +164,7 @@ public sealed class SlidingWelch
             var take = Math.Min(samplesPerChannel - offset, segmentLength - _fill);
             for (var c = 0; c < ChannelCount; c++)
             {
-                var source = channelMajor.Slice((c * samplesPerChannel) + offset, take);
-                var target = samples.Slice((c * segmentLength) + _fill, take);
-                for (var i = 0; i < take; i++)
-                {
-                    var value = source[i];
-                    target[i] = float.IsFinite(value) ? value : 0.0;
-                }
+                WidenFinite(channelMajor.Slice((c * samplesPerChannel) + offset, take), samples.Slice((c * segmentLength) + _fill, take));
             }
 
             _fill += take;
@@ -172,6 +176,31 @@ public sealed class SlidingWelch
         }
     }
 
+    // target[i] = source[i] widened to double, or 0 where it is not finite (v − v is 0 exactly when v is finite).
+    private static void WidenFinite(ReadOnlySpan<float> source, Span<double> target)
+    {
+        var i = 0;
+        if (Vector256.IsHardwareAccelerated && source.Length >= Vector256<float>.Count)
+        {
+            ref var from = ref MemoryMarshal.GetReference(source);
+            ref var to = ref MemoryMarshal.GetReference(target);
+            for (; i <= source.Length - Vector256<float>.Count; i += Vector256<float>.Count)
+            {
+                var v = Vector256.LoadUnsafe(ref from, (nuint)i);
+                var finite = Vector256.Equals(v - v, Vector256<float>.Zero);
+                var (lower, upper) = Vector256.Widen(finite & v);
+                lower.StoreUnsafe(ref to, (nuint)i);
+                upper.StoreUnsafe(ref to, (nuint)(i + Vector256<double>.Count));
+            }
+        }
+
+        for (; i < source.Length; i++)
+        {
+            var value = source[i];
+            target[i] = float.IsFinite(value) ? value : 0.0;
+        }
+    }
+
     /// <summary>Mean of the K periodograms of the newest frame's span for <paramref name="channel"/>, µV²/Hz, <see cref="BinCount"/> bins.</summary>
     public ReadOnlySpan<double> AveragedPsd(int channel)
     {
@@ -179,6 +208,11 @@ public sealed class SlidingWelch
         if (_frameNewestSegment < 0)
         {
             throw new InvalidOperationException("No frame has been completed since the last Reset.");
+        }
+
+        if (!_averagedReady[channel])
+        {
+            AverageChannel(channel);
         }
 
         return _averaged.AsSpan(channel * BinCount, BinCount);
@@ -252,7 +286,12 @@ public sealed class SlidingWelch
         }
 
         _frameNewestSegment = segment;
-        AverageSpan((int)(oldest % k));
+        for (var i = 0; i < k; i++)
+        {
+            _rowOffsets[i] = (int)((oldest + i) % k) * channels * bins;
+        }
+
+        Array.Clear(_averagedReady);
         _inCallback = true;
         try
         {
@@ -261,36 +300,57 @@ public sealed class SlidingWelch
         finally
         {
             _inCallback = false;
+            for (var c = 0; c < channels; c++)
+            {
+                if (!_averagedReady[c])
+                {
+                    AverageChannel(c);
+                }
+            }
         }
     }
 
-    // Re-averages the K rows, oldest first, so each frame equals a fresh Welch mean over its span.
-    private void AverageSpan(int oldestSlot)
+    // Channel c's mean of the newest frame's K rows, oldest first, so each frame equals a fresh Welch mean over its
+    // span: per bin ((row₀ + row₁) + …) / K. The vector loop does exactly those operations per lane, so it gives the
+    // same bits. Done on first use inside OnSpan (while the consumer is about to read it, so it is still in cache) and
+    // for the rest of the channels right after OnSpan, before later segments can replace the rows.
+    private void AverageChannel(int channel)
     {
         var k = SegmentsPerSpan;
         var bins = BinCount;
-        var channels = ChannelCount;
-        var rows = _periodograms.AsSpan();
-        for (var c = 0; c < channels; c++)
+        var divisor = (double)k;
+        ref var rows = ref MemoryMarshal.GetArrayDataReference(_periodograms);
+        ref var mean = ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(_averaged), channel * bins);
+        ref var offsets = ref MemoryMarshal.GetArrayDataReference(_rowOffsets);
+        var channelAt = channel * bins;
+        var b = 0;
+        if (Vector256.IsHardwareAccelerated)
         {
-            var mean = _averaged.AsSpan(c * bins, bins);
-            var first = rows.Slice(((oldestSlot * channels) + c) * bins, bins);
-            first.CopyTo(mean);
-            for (var i = 1; i < k; i++)
+            var vectorDivisor = Vector256.Create(divisor);
+            for (; b <= bins - Vector256<double>.Count; b += Vector256<double>.Count)
             {
-                var slot = (oldestSlot + i) % k;
-                var row = rows.Slice(((slot * channels) + c) * bins, bins);
-                for (var b = 0; b < bins; b++)
+                var sum = Vector256.LoadUnsafe(ref rows, (nuint)(offsets + channelAt + b));
+                for (var i = 1; i < k; i++)
                 {
-                    mean[b] += row[b];
+                    sum += Vector256.LoadUnsafe(ref rows, (nuint)(Unsafe.Add(ref offsets, i) + channelAt + b));
                 }
-            }
 
-            for (var b = 0; b < bins; b++)
-            {
-                mean[b] /= k;
+                (sum / vectorDivisor).StoreUnsafe(ref mean, (nuint)b);
             }
         }
+
+        for (; b < bins; b++)
+        {
+            var sum = Unsafe.Add(ref rows, offsets + channelAt + b);
+            for (var i = 1; i < k; i++)
+            {
+                sum += Unsafe.Add(ref rows, Unsafe.Add(ref offsets, i) + channelAt + b);
+            }
+
+            Unsafe.Add(ref mean, b) = sum / divisor;
+        }
+
+        _averagedReady[channel] = true;
     }
 
     private void CheckChannel(int channel)

@@ -170,6 +170,38 @@ public sealed class SlidingWelchTests
     }
 
     [Fact]
+    public void Averaged_PSD_not_read_during_the_frame_still_equals_the_frames_Welch_PSD_after_later_segments_arrive()
+    {
+        // fs 100, 1 s segments, 50 % overlap, 3 s span, 2 s hop: K = 5, hop of 4 steps. One frame, then two more segments
+        // whose periodograms replace two of the frame's rows; channel 1 is read inside the callback, the others only after.
+        var options = new SpectralOptions { SegmentSeconds = 1, OverlapFraction = 0.5, SpanSeconds = 3, HopSeconds = 2 };
+        const int channels = 3;
+        var welch = new SlidingWelch(100, channels, options);
+        var total = welch.SpanSamples + (2 * welch.SegmentStep);
+        var signal = TestSignals.Channels(channels, total, 100, seed: 9);
+        double[]? readInside = null;
+        var frames = 0;
+        var sink = new CallbackSink((w, start, end) =>
+        {
+            frames++;
+            readInside = w.AveragedPsd(1).ToArray();
+        });
+
+        welch.Append(TestSignals.ChannelMajor(signal, total), total, sink);
+
+        Assert.Equal(1, frames);
+        var reference = new double[welch.BinCount];
+        for (var c = 0; c < channels; c++)
+        {
+            var span = TestSignals.AsDoubles(signal[c].AsSpan(0, welch.SpanSamples));
+            WelchPsd.Compute(span, 100, welch.SegmentLength, welch.SegmentLength - welch.SegmentStep, reference);
+            SpectraAssert.BinsClose(reference, welch.AveragedPsd(c).ToArray(), 1e-12, 1e-12, $"channel {c} after the frame");
+        }
+
+        Assert.Equal(welch.AveragedPsd(1).ToArray(), readInside);
+    }
+
+    [Fact]
     public void A_hop_longer_than_the_span_skips_the_FFTs_of_segments_no_frame_uses()
     {
         // fs 64, 1 s segments without overlap, 2 s span, 5 s hop: segments 0,1 | 5,6 | 10,11 are the only ones averaged.
