@@ -188,13 +188,13 @@ public sealed class FftPeriodogramKernel32Tests
         kernel.Compute(samples, 9, segmentLength, psd); // warm-up (tiering, statics, adapter buffers)
         kernel.Compute(samples, 9, segmentLength, psd);
 
-        var before = GC.GetAllocatedBytesForCurrentThread();
-        for (var i = 0; i < 50; i++)
+        var allocated = SteadyState.AllocatedBytesPerRound(() =>
         {
-            kernel.Compute(samples, 9, segmentLength, psd);
-        }
-
-        var allocated = GC.GetAllocatedBytesForCurrentThread() - before;
+            for (var i = 0; i < 50; i++)
+            {
+                kernel.Compute(samples, 9, segmentLength, psd);
+            }
+        });
 
         Assert.True(psd[10] > 0);
         if (kernel is FftPeriodogramKernel32)

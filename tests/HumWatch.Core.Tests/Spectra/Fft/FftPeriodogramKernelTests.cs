@@ -185,13 +185,13 @@ public sealed class FftPeriodogramKernelTests
         kernel.Compute(samples, 7, segmentLength, psd); // warm-up (tiering, statics)
         kernel.Compute(samples, 7, segmentLength, psd);
 
-        var before = GC.GetAllocatedBytesForCurrentThread();
-        for (var i = 0; i < 50; i++)
+        var allocated = SteadyState.AllocatedBytesPerRound(() =>
         {
-            kernel.Compute(samples, 7, segmentLength, psd);
-        }
-
-        var allocated = GC.GetAllocatedBytesForCurrentThread() - before;
+            for (var i = 0; i < 50; i++)
+            {
+                kernel.Compute(samples, 7, segmentLength, psd);
+            }
+        });
 
         Assert.True(psd[10] > 0);
         Assert.Equal(0, allocated);
