@@ -62,30 +62,58 @@ public sealed class AnalysisFrame
 
     /// <summary>
     /// A deep copy with buffers of its own, for a sink that keeps frames beyond <see cref="IAnalysisFrameSink.OnFrame"/>
-    /// (e.g. to hand them to another thread). Allocates; not for the allocation-free streaming path.
+    /// (e.g. to hand them to another thread). Allocates; reuse copies with <see cref="CopyTo"/>.
     /// </summary>
     public AnalysisFrame Clone()
     {
-        var copy = new AnalysisFrame(Layout, MeanPsdBuffer.Length, BinWidthHz)
+        var copy = new AnalysisFrame(Layout, MeanPsdBuffer.Length, BinWidthHz);
+        CopyTo(copy);
+        return copy;
+    }
+
+    /// <summary>
+    /// Overwrites <paramref name="target"/> (a frame of the same stream shape, e.g. an earlier <see cref="Clone"/>) with
+    /// this frame. Allocates only when the target holds fewer lines or faults than this frame.
+    /// </summary>
+    public void CopyTo(AnalysisFrame target)
+    {
+        ArgumentNullException.ThrowIfNull(target);
+        if (target.MeanPsdBuffer.Length != MeanPsdBuffer.Length || !target.Layout.IsSameShape(Layout))
         {
-            StartSampleIndex = StartSampleIndex,
-            EndSampleIndex = EndSampleIndex,
-            StartUtc = StartUtc,
-            AnalysedChannelCount = AnalysedChannelCount,
-            EstimatedMainsHz = EstimatedMainsHz,
-            LineCount = LineCount,
-            LineBuffer = new FrameLine[LineCount],
-            FaultCount = FaultCount,
-            FaultBuffer = Faults.ToArray(),
-        };
-        MeanPsdBuffer.CopyTo(copy.MeanPsdBuffer, 0);
-        for (var i = 0; i < LineCount; i++)
-        {
-            copy.LineBuffer[i] = new FrameLine();
-            copy.LineBuffer[i].CopyFrom(LineBuffer[i]);
+            throw new ArgumentException($"Target frame has {target.MeanPsdBuffer.Length} bins and {target.Layout.ChannelCount} channels; this one {MeanPsdBuffer.Length} and {Layout.ChannelCount}.", nameof(target));
         }
 
-        return copy;
+        target.StartSampleIndex = StartSampleIndex;
+        target.EndSampleIndex = EndSampleIndex;
+        target.StartUtc = StartUtc;
+        target.AnalysedChannelCount = AnalysedChannelCount;
+        target.EstimatedMainsHz = EstimatedMainsHz;
+        MeanPsdBuffer.CopyTo(target.MeanPsdBuffer, 0);
+        if (target.LineBuffer.Length < LineCount)
+        {
+            var grown = new FrameLine[LineCount];
+            target.LineBuffer.CopyTo(grown, 0);
+            for (var i = target.LineBuffer.Length; i < grown.Length; i++)
+            {
+                grown[i] = new FrameLine();
+            }
+
+            target.LineBuffer = grown;
+        }
+
+        for (var i = 0; i < LineCount; i++)
+        {
+            target.LineBuffer[i].CopyFrom(LineBuffer[i]);
+        }
+
+        target.LineCount = LineCount;
+        if (target.FaultBuffer.Length < FaultCount)
+        {
+            target.FaultBuffer = new ChannelFault[FaultCount];
+        }
+
+        Faults.CopyTo(target.FaultBuffer);
+        target.FaultCount = FaultCount;
     }
 }
 

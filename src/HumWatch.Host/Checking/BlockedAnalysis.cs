@@ -1,3 +1,4 @@
+using System.Collections.Concurrent;
 using System.Runtime.ExceptionServices;
 using HumWatch.Core.Analysis;
 using HumWatch.Core.Spectra;
@@ -31,6 +32,7 @@ internal sealed class BlockedAnalysis
     private readonly long _blockRecords;
     private readonly long _warmUpRecords;
     private readonly int _workers;
+    private readonly ConcurrentBag<AnalysisFrame>[] _framePools;
 
     private BlockedAnalysis(string path, AnalysisOptions options, IReadOnlyList<SignalGroup> groups, int[] samplesPerRecord, long recordCount, long blockRecords, long warmUpRecords, int workers)
     {
@@ -42,6 +44,7 @@ internal sealed class BlockedAnalysis
         _blockRecords = blockRecords;
         _warmUpRecords = warmUpRecords;
         _workers = workers;
+        _framePools = [.. groups.Select(_ => new ConcurrentBag<AnalysisFrame>())];
     }
 
     /// <summary>Blocks the recording is split into.</summary>
@@ -145,6 +148,7 @@ internal sealed class BlockedAnalysis
                     foreach (var frame in frames[g])
                     {
                         sinks[g].OnFrame(frame);
+                        _framePools[g].Add(frame);
                     }
                 }
 
@@ -211,7 +215,7 @@ internal sealed class BlockedAnalysis
                 var layout = _groups[g].Layout;
                 var kernel = PeriodogramKernels.Create(SlidingWelch.SegmentLengthFor(_options.Spectra, layout.SampleRateHz), layout.SampleRateHz);
                 analyzers[g] = new StreamAnalyzer(layout, _options, kernel);
-                collectors[g] = new BlockFrameCollector();
+                collectors[g] = new BlockFrameCollector(_framePools[g]);
             }
 
             return reader;
@@ -262,8 +266,11 @@ internal sealed class BlockedAnalysis
 
     private static long Lcm(long a, long b) => a / Gcd(a, b) * b;
 
-    /// <summary>Keeps copies of the frames that end inside the block (not those of the warm-up).</summary>
-    private sealed class BlockFrameCollector : IAnalysisFrameSink
+    /// <summary>
+    /// Keeps copies of the frames that end inside the block (not those of the warm-up), in frames taken from a pool the
+    /// caller refills once it has handed them on, so a long file does not leave a trail of dead frames for the GC.
+    /// </summary>
+    private sealed class BlockFrameCollector(ConcurrentBag<AnalysisFrame> pool) : IAnalysisFrameSink
     {
         private List<AnalysisFrame> _frames = [];
         private long _blockStartSample;
@@ -276,10 +283,21 @@ internal sealed class BlockedAnalysis
 
         public void OnFrame(AnalysisFrame frame)
         {
-            if (frame.EndSampleIndex > _blockStartSample)
+            if (frame.EndSampleIndex <= _blockStartSample)
             {
-                _frames.Add(frame.Clone());
+                return;
             }
+
+            if (pool.TryTake(out var copy))
+            {
+                frame.CopyTo(copy);
+            }
+            else
+            {
+                copy = frame.Clone();
+            }
+
+            _frames.Add(copy);
         }
 
         public List<AnalysisFrame> TakeFrames() => _frames;
