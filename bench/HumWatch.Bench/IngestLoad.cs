@@ -33,7 +33,8 @@ internal sealed record LoadResult(
     int PeakIngestQueue,
     double PeakBufferMb,
     double AllocatedMbPerSecond,
-    int Gen0Collections);
+    int Gen0Collections,
+    double SocketThreadCpuPercent);
 
 /// <summary>
 /// One load step against the real host: N simulated streams pushed through the real ingest socket at real-time rate by
@@ -100,6 +101,7 @@ internal sealed class IngestLoad(int channels, int sampleRateHz, double chunkSec
                 var sendTicks = new long[chunkCount];
                 var process = Process.GetCurrentProcess();
                 var cpu0 = process.TotalProcessorTime;
+                var socketCpuBefore = ThreadClock.NamedThreadsSeconds("HumWatch ingest");
                 var gen2Before = GC.CollectionCount(2);
                 var gen0Before = GC.CollectionCount(0);
                 var allocatedBefore = GC.GetTotalAllocatedBytes(precise: false);
@@ -149,6 +151,7 @@ internal sealed class IngestLoad(int channels, int sampleRateHz, double chunkSec
                     }
                 }
 
+                var socketCpuPercent = 100 * (ThreadClock.NamedThreadsSeconds("HumWatch ingest") - socketCpuBefore) / wallSeconds;
                 var gen2 = GC.CollectionCount(2) - gen2Before;
                 var gen0 = GC.CollectionCount(0) - gen0Before;
                 var allocatedMbPerSecond = (GC.GetTotalAllocatedBytes(precise: false) - allocatedBefore) / 1048576.0 / wallSeconds;
@@ -211,7 +214,8 @@ internal sealed class IngestLoad(int channels, int sampleRateHz, double chunkSec
                     queue.PeakCount,
                     pool.PeakRentedBytes / 1048576.0,
                     allocatedMbPerSecond,
-                    gen0);
+                    gen0,
+                    socketCpuPercent);
             }
             finally
             {
