@@ -4,12 +4,24 @@ using NetMQ;
 namespace HumWatch.Host.Ingest;
 
 /// <summary>
-/// Lets NetMQ reuse message buffers from <see cref="ArrayPool{T}.Shared"/> instead of allocating one per frame (its
-/// default). At hundreds of streams a fresh 32 KiB+ array per received frame was most of the process's allocation and
-/// GC pause time. The setting is process-wide, so it is installed once and never undone.
+/// Lets NetMQ reuse message buffers instead of allocating one per frame (its default). At hundreds of streams a fresh
+/// 32 KiB+ array per received frame was most of the process's allocation and GC pause time. The setting is
+/// process-wide, so it is installed once and never undone.
 /// </summary>
+/// <remarks>
+/// A pool of its own rather than the shared one: after a pause the receive pipes hold up to their high-water mark of
+/// messages at once (1000 per socket by default), far more than the shared pool keeps per size, so every message over
+/// that would be allocated again. Only arrays that were in use at once are kept, so what it holds follows the peak.
+/// </remarks>
 internal static class NetMqMessageBuffers
 {
+    /// <summary>Frames up to 4 MiB are pooled; larger ones are allocated (and collected) as before.</summary>
+    private const int MaxPooledBytes = 4 * 1024 * 1024;
+
+    /// <summary>Arrays kept per power-of-two size class.</summary>
+    private const int ArraysPerSize = 4096;
+
+    private static readonly ArrayPool<byte> Pool = ArrayPool<byte>.Create(MaxPooledBytes, ArraysPerSize);
     private static int _installed;
 
     /// <summary>Installs the pooled buffers for every NetMQ socket in the process; later calls do nothing.</summary>
@@ -17,20 +29,20 @@ internal static class NetMqMessageBuffers
     {
         if (Interlocked.Exchange(ref _installed, 1) == 0)
         {
-            BufferPool.SetCustomBufferPool(new SharedArrayBufferPool());
+            BufferPool.SetCustomBufferPool(new PooledMessageBuffers());
         }
     }
 
-    private sealed class SharedArrayBufferPool : IBufferPool
+    private sealed class PooledMessageBuffers : IBufferPool
     {
         // NetMQ keeps a message's size apart from its buffer, so a rounded-up array is fine.
-        public byte[] Take(int size) => ArrayPool<byte>.Shared.Rent(size);
+        public byte[] Take(int size) => Pool.Rent(size);
 
-        public void Return(byte[] buffer) => ArrayPool<byte>.Shared.Return(buffer);
+        public void Return(byte[] buffer) => Pool.Return(buffer);
 
         public void Dispose()
         {
-            // The shared pool lives as long as the process.
+            // The pool lives as long as the process.
         }
     }
 }
