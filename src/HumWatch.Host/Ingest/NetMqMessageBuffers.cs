@@ -1,4 +1,5 @@
 using System.Buffers;
+using System.Numerics;
 using NetMQ;
 
 namespace HumWatch.Host.Ingest;
@@ -17,6 +18,9 @@ internal static class NetMqMessageBuffers
 {
     /// <summary>Frames up to 4 MiB are pooled; larger ones are allocated (and collected) as before.</summary>
     private const int MaxPooledBytes = 4 * 1024 * 1024;
+
+    /// <summary>The pool's smallest size class; its classes are this times powers of two.</summary>
+    private const int MinPooledBytes = 16;
 
     /// <summary>Arrays kept per power-of-two size class.</summary>
     private const int ArraysPerSize = 4096;
@@ -38,7 +42,15 @@ internal static class NetMqMessageBuffers
         // NetMQ keeps a message's size apart from its buffer, so a rounded-up array is fine.
         public byte[] Take(int size) => Pool.Rent(size);
 
-        public void Return(byte[] buffer) => Pool.Return(buffer);
+        public void Return(byte[] buffer)
+        {
+            // Messages taken before the pool was installed come back with any length, and the pool throws (on NetMQ's
+            // own thread, ending the process) for a length it does not hand out; those are left to the GC.
+            if (buffer.Length >= MinPooledBytes && buffer.Length <= MaxPooledBytes && BitOperations.IsPow2(buffer.Length))
+            {
+                Pool.Return(buffer);
+            }
+        }
 
         public void Dispose()
         {

@@ -136,13 +136,22 @@ internal sealed class SocketIngestService : BackgroundService
 
         // From here this method owns the rented array until the queue takes the chunk (TryEnqueue releases it when not).
         var chunk = result.Chunk;
-        if (result.StartsNewLayout)
+        var item = new StreamChunk(result.StreamId, chunk, origin, _pool);
+        try
         {
-            _logger.NewSession(result.StreamId, origin, chunk.Layout.SampleRateHz, chunk.Layout.ChannelCount);
+            if (result.StartsNewLayout)
+            {
+                _logger.NewSession(result.StreamId, origin, chunk.Layout.SampleRateHz, chunk.Layout.ChannelCount);
+            }
+        }
+        catch
+        {
+            item.Release();
+            throw;
         }
 
         var endSampleIndex = chunk.EndSampleIndex;
-        if (_queue.TryEnqueue(new StreamChunk(result.StreamId, chunk, origin, _pool)))
+        if (_queue.TryEnqueue(item))
         {
             _counters.RecordAccepted(result.StreamId, endSampleIndex);
         }
