@@ -25,7 +25,16 @@ internal sealed record LoadResult(
     double PusherCpuPercent,
     double WorkingSetMb,
     double ManagedHeapMb,
-    double MaxPusherLagSeconds);
+    double MaxPusherLagSeconds,
+    string DropReasons,
+    int Gen2Collections,
+    double GcPauseSeconds,
+    double MaxGcPauseSeconds,
+    int PeakIngestQueue,
+    double PeakBufferMb,
+    double AllocatedMbPerSecond,
+    int Gen0Collections,
+    double SocketThreadCpuPercent);
 
 /// <summary>
 /// One load step against the real host: N simulated streams pushed through the real ingest socket at real-time rate by
@@ -84,12 +93,21 @@ internal sealed class IngestLoad(int channels, int sampleRateHz, double chunkSec
                 var ingestEndpoint = host.Services.GetServices<IHostedService>().OfType<SocketIngestService>().Single().Endpoints[0];
                 var publishEndpoint = host.Services.GetRequiredService<ZmqPublisher>().Endpoint;
                 var counters = host.Services.GetRequiredService<IngestCounters>();
+                var queue = host.Services.GetRequiredService<IngestQueue>();
+                var pool = host.Services.GetRequiredService<SampleBufferPool>();
                 using var subscriber = new AlertWatcher(publishEndpoint);
                 Thread.Sleep(500); // let the SUB connect before the tagged line can raise anything
 
                 var sendTicks = new long[chunkCount];
                 var process = Process.GetCurrentProcess();
                 var cpu0 = process.TotalProcessorTime;
+                var socketCpuBefore = ThreadClock.NamedThreadsSeconds("HumWatch ingest");
+                var gen2Before = GC.CollectionCount(2);
+                var gen0Before = GC.CollectionCount(0);
+                var allocatedBefore = GC.GetTotalAllocatedBytes(precise: false);
+                var pauseBefore = GC.GetTotalPauseDuration();
+                using var pauses = new PauseWatcher();
+                using var sampler = Environment.GetEnvironmentVariable("HUMWATCH_BENCH_ALLOC_TYPES") == "1" ? new AllocationSampler() : null;
                 var wall = Stopwatch.StartNew();
                 var startUtc = DateTimeOffset.UtcNow;
                 var startTicks = Stopwatch.GetTimestamp();
@@ -125,13 +143,34 @@ internal sealed class IngestLoad(int channels, int sampleRateHz, double chunkSec
                 process.Refresh();
                 var cpuSeconds = (process.TotalProcessorTime - cpu0).TotalSeconds;
                 var wallSeconds = wall.Elapsed.TotalSeconds;
+                if (sampler is not null)
+                {
+                    foreach (var (type, mb) in sampler.Top(12))
+                    {
+                        Console.WriteLine(FormattableString.Invariant($"  alloc sample: {mb,8:F1} MB  {type}"));
+                    }
+                }
+
+                var socketCpuPercent = 100 * (ThreadClock.NamedThreadsSeconds("HumWatch ingest") - socketCpuBefore) / wallSeconds;
+                var gen2 = GC.CollectionCount(2) - gen2Before;
+                var gen0 = GC.CollectionCount(0) - gen0Before;
+                var allocatedMbPerSecond = (GC.GetTotalAllocatedBytes(precise: false) - allocatedBefore) / 1048576.0 / wallSeconds;
+                var pauseSeconds = (GC.GetTotalPauseDuration() - pauseBefore).TotalSeconds;
+                var maxPause = pauses.MaxPauseSeconds;
                 long accepted = 0, dropped = 0, rejected = 0;
+                var byReason = new SortedDictionary<string, long>(StringComparer.Ordinal);
                 foreach (var c in counters.Snapshot())
                 {
                     accepted += c.Accepted;
                     dropped += c.Dropped;
                     rejected += c.RejectedTotal;
+                    foreach (var (reason, count) in c.DroppedByReason)
+                    {
+                        byReason[reason.ToString()] = byReason.GetValueOrDefault(reason.ToString()) + count;
+                    }
                 }
+
+                var dropReasons = byReason.Count == 0 ? "-" : string.Join(",", byReason.Select(p => $"{p.Key}={p.Value}"));
 
                 var liveHeapMb = GC.GetTotalMemory(forceFullCollection: true) / 1048576.0;
                 process.Refresh();
@@ -167,7 +206,16 @@ internal sealed class IngestLoad(int channels, int sampleRateHz, double chunkSec
                     100 * pusherCpu.Sum() / wallSeconds,
                     workingSetMb,
                     liveHeapMb,
-                    pusherLag.Max());
+                    pusherLag.Max(),
+                    dropReasons,
+                    gen2,
+                    pauseSeconds,
+                    maxPause,
+                    queue.PeakCount,
+                    pool.PeakRentedBytes / 1048576.0,
+                    allocatedMbPerSecond,
+                    gen0,
+                    socketCpuPercent);
             }
             finally
             {
@@ -296,4 +344,46 @@ internal sealed class IngestLoad(int channels, int sampleRateHz, double chunkSec
     }
 
     private sealed record ArrivedAlert(double StreamSeconds, long ArrivalTicks);
+
+    /// <summary>Longest single GC pause seen while it lives: polls the last collection's pause every 20 ms on its own thread.</summary>
+    private sealed class PauseWatcher : IDisposable
+    {
+        private readonly Thread _thread;
+        private volatile bool _stop;
+        private long _maxPauseTicks;
+
+        public PauseWatcher()
+        {
+            _thread = new Thread(Watch) { IsBackground = true, Name = "bench-gc-pauses" };
+            _thread.Start();
+        }
+
+        public double MaxPauseSeconds => TimeSpan.FromTicks(Interlocked.Read(ref _maxPauseTicks)).TotalSeconds;
+
+        public void Dispose()
+        {
+            _stop = true;
+            _thread.Join();
+        }
+
+        private void Watch()
+        {
+            while (!_stop)
+            {
+                foreach (var kind in (ReadOnlySpan<GCKind>)[GCKind.Ephemeral, GCKind.FullBlocking, GCKind.Background])
+                {
+                    var info = GC.GetGCMemoryInfo(kind);
+                    foreach (var pause in info.PauseDurations)
+                    {
+                        if (pause.Ticks > Interlocked.Read(ref _maxPauseTicks))
+                        {
+                            Interlocked.Exchange(ref _maxPauseTicks, pause.Ticks);
+                        }
+                    }
+                }
+
+                Thread.Sleep(20);
+            }
+        }
+    }
 }

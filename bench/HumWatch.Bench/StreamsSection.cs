@@ -37,6 +37,7 @@ internal sealed class StreamsSection : IBenchmarkSection
         Console.WriteLine(F($"payloads: pre-generated quiet rooms (20 s pool, reused with advancing index and t0); stream '{IngestLoad.TaggedStream}' carries 50 Hz at 6 µV RMS on all channels from {onset:F0} s"));
         Console.WriteLine("alert latency: from the wall time the pusher's send of the chunk holding the raising frame's last sample returned (sample index round(streamSeconds·fs) − 1, streamSeconds from the alert body) to the wall time the 'alert/load-tagged' raise arrived at a SUB socket in this process");
         Console.WriteLine("dropped/accepted/rejected: IngestCounters of the host (ingest queue and per-stream queues), read about 2 s after the last send; missing = sent − accepted − rejected − dropped, floored at 0 (chunks the service never counted; a failure); CPU %: process CPU time ÷ wall time (100 % = one core; pushers and subscriber included, pusher share shown); memory: process working set and live managed heap (after a full collection) at the end of the step, host still running; each step starts after a full collection");
+        Console.WriteLine("dropped by reason: IngestDropReason counts summed over streams; gen0/gen2: collections during the step (every collection counts as gen0); alloc MB/s: managed bytes allocated in the process (pushers included) ÷ wall time; GC pause s: total pause time during the step / longest single pause seen (polled every 20 ms); socket %: CPU of the ingest socket thread (receive + decode) ÷ wall time; queue peak: most chunks waiting in the ingest queue at once; buffer peak MB: most decoded-sample bytes rented at once (ingest queue + per-stream queues + in analysis)");
         Console.WriteLine($"load average at start: {LoadAverage()}");
         var clock = Stopwatch.StartNew();
         var held32 = Search("32 ch × 500 Hz", new IngestLoad(32, 500, ChunkSeconds, seconds, onset), Steps32x500, from, max, seconds, clock, budget * 0.6);
@@ -52,7 +53,7 @@ internal sealed class StreamsSection : IBenchmarkSection
     {
         Console.WriteLine();
         Console.WriteLine($"{shape}:");
-        Console.WriteLine($"{"N",6} {"sent",8} {"accepted",9} {"dropped",8} {"rejected",9} {"missing",8} {"latency s",10} {"CPU %",7} {"pushers %",10} {"WS MB",8} {"live heap MB",13} {"push lag s",11} {"load avg",16} {"verdict",8}");
+        Console.WriteLine($"{"N",6} {"sent",8} {"accepted",9} {"dropped",8} {"rejected",9} {"missing",8} {"latency s",10} {"CPU %",7} {"pushers %",10} {"WS MB",8} {"live heap MB",13} {"push lag s",11} {"load avg",16} {"verdict",8}  {"socket %",8} {"gen0/gen2",9} {"alloc MB/s",10} {"GC pause s",14} {"queue peak",10} {"buffer peak MB",14}  dropped by reason");
         var held = 0;
         foreach (var n in steps)
         {
@@ -89,7 +90,7 @@ internal sealed class StreamsSection : IBenchmarkSection
             var missing = Math.Max(0, r.ChunksSent - r.ChunksAccepted - r.ChunksRejected - r.ChunksDropped);
             var ok = r.ChunksDropped == 0 && missing == 0 && r.AlertLatencySeconds is { } l && l < MaxLatencySeconds;
             var latency = r.AlertLatencySeconds is { } v ? F($"{v:F2}") : "no alert";
-            Console.WriteLine(F($"{n,6} {r.ChunksSent,8} {r.ChunksAccepted,9} {r.ChunksDropped,8} {r.ChunksRejected,9} {missing,8} {latency,10} {r.ProcessCpuPercent,7:F0} {r.PusherCpuPercent,10:F0} {r.WorkingSetMb,8:F0} {r.ManagedHeapMb,13:F0} {r.MaxPusherLagSeconds,11:F2} {LoadAverage(),16} {(ok ? "held" : "FAILED"),8}"));
+            Console.WriteLine(F($"{n,6} {r.ChunksSent,8} {r.ChunksAccepted,9} {r.ChunksDropped,8} {r.ChunksRejected,9} {missing,8} {latency,10} {r.ProcessCpuPercent,7:F0} {r.PusherCpuPercent,10:F0} {r.WorkingSetMb,8:F0} {r.ManagedHeapMb,13:F0} {r.MaxPusherLagSeconds,11:F2} {LoadAverage(),16} {(ok ? "held" : "FAILED"),8}  {r.SocketThreadCpuPercent,8:F0} {$"{r.Gen0Collections}/{r.Gen2Collections}",9} {r.AllocatedMbPerSecond,10:F1} {$"{r.GcPauseSeconds:F2}/{r.MaxGcPauseSeconds:F2}",14} {r.PeakIngestQueue,10} {r.PeakBufferMb,14:F0}  {r.DropReasons}"));
             if (!ok)
             {
                 break;

@@ -26,4 +26,38 @@ internal static class ThreadClock
         var space = text.IndexOf(' ', StringComparison.Ordinal);
         return long.Parse(text.AsSpan(0, space), NumberStyles.None, CultureInfo.InvariantCulture) * 1e-9;
     }
+
+    /// <summary>Seconds on CPU of every thread of this process whose name starts with <paramref name="namePrefix"/> (Linux; 0 elsewhere).</summary>
+    public static double NamedThreadsSeconds(string namePrefix)
+    {
+        const string Tasks = "/proc/self/task";
+        if (!Directory.Exists(Tasks))
+        {
+            return 0;
+        }
+
+        double total = 0;
+        foreach (var task in Directory.EnumerateDirectories(Tasks))
+        {
+            try
+            {
+                // Linux keeps the first 15 bytes of a thread's name.
+                var comm = File.ReadAllText(Path.Combine(task, "comm")).TrimEnd('\n');
+                if (!comm.StartsWith(namePrefix.Length > 15 ? namePrefix[..15] : namePrefix, StringComparison.Ordinal))
+                {
+                    continue;
+                }
+
+                var text = File.ReadAllText(Path.Combine(task, "schedstat"));
+                var space = text.IndexOf(' ', StringComparison.Ordinal);
+                total += long.Parse(text.AsSpan(0, space), NumberStyles.None, CultureInfo.InvariantCulture) * 1e-9;
+            }
+            catch (IOException)
+            {
+                // The thread ended while we looked.
+            }
+        }
+
+        return total;
+    }
 }

@@ -13,9 +13,10 @@ namespace HumWatch.Formats.Wire;
 /// channel-major. Decoding is stateless apart from the optional <see cref="StreamLayoutCache"/>.
 /// </summary>
 /// <remarks>
-/// Ownership: every decoded <see cref="SampleChunk"/> gets a fresh, exactly sized float array that it owns outright;
-/// nothing is rented, so a consumer may keep the chunk as long as it likes. The receive side avoids copies instead
-/// (frames are decoded straight from the socket's pooled message buffers).
+/// Ownership: without a pool every decoded <see cref="SampleChunk"/> gets a fresh, exactly sized float array that it
+/// owns outright. With a <see cref="SampleBufferPool"/> the array is rented from it: the caller owns the decoded chunk's
+/// array and must return it to that pool exactly once, after the last read (a rejected message's array is returned
+/// here). Frames are decoded straight from the socket's message buffers either way.
 /// </remarks>
 public static class ChunkWireCodec
 {
@@ -40,7 +41,8 @@ public static class ChunkWireCodec
     /// <param name="header">Frame 1: UTF-8 JSON header.</param>
     /// <param name="samples">Frame 2: float32 little-endian samples, channel-major.</param>
     /// <param name="layouts">When given, one layout instance is kept per stream while its shape is unchanged.</param>
-    public static WireDecodeResult Decode(ReadOnlySpan<byte> header, ReadOnlySpan<byte> samples, StreamLayoutCache? layouts = null)
+    /// <param name="pool">When given, the sample array is rented from it (see remarks); when its budget is spent the result is <see cref="WireDecodeResult.IsBufferFull"/>.</param>
+    public static WireDecodeResult Decode(ReadOnlySpan<byte> header, ReadOnlySpan<byte> samples, StreamLayoutCache? layouts = null, SampleBufferPool? pool = null)
     {
         var fields = new HeaderFields();
         var malformed = ParseHeader(header, ref fields);
@@ -89,10 +91,24 @@ public static class ChunkWireCodec
         }
 
         var samplesPerChannel = samples.Length / bytesPerSampleRow;
-        var data = new float[samples.Length / 4];
+        float[] data;
+        if (pool is null)
+        {
+            data = new float[samples.Length / 4];
+        }
+        else if (pool.TryRent(samples.Length / 4) is { } rented)
+        {
+            data = rented;
+        }
+        else
+        {
+            return WireDecodeResult.BufferFull(streamId!);
+        }
+
         var nonFinite = ReadSamples(samples, data, Scale(fields.Unit));
         if (nonFinite >= 0)
         {
+            pool?.Return(data);
             return Reject(WireRejectReason.NonFiniteSample, streamId,
                 $"sample {nonFinite % samplesPerChannel} of channel '{Printable(labels[nonFinite / samplesPerChannel])}' is not a finite number (in µV)");
         }

@@ -10,6 +10,7 @@ public sealed class IngestCounters
     public const int MaxTrackedStreams = 10_000;
 
     private static readonly int ReasonCount = Enum.GetValues<WireRejectReason>().Length;
+    private static readonly int DropReasonCount = Enum.GetValues<IngestDropReason>().Length;
 
     private readonly ConcurrentDictionary<string, Cell> _streams = new(StringComparer.Ordinal);
     private readonly ConcurrentDictionary<string, Cell> _origins = new(StringComparer.Ordinal);
@@ -35,13 +36,18 @@ public sealed class IngestCounters
         Interlocked.Increment(ref cell.Rejected[(int)reason]);
     }
 
-    /// <summary>Counts a chunk dropped because the queue was full.</summary>
-    public void RecordDropped(string streamId)
+    /// <summary>Counts a good chunk dropped before analysis, with the reason.</summary>
+    public void RecordDropped(string streamId, IngestDropReason reason)
     {
+        if ((uint)reason >= (uint)DropReasonCount)
+        {
+            throw new ArgumentOutOfRangeException(nameof(reason), reason, "Must be a defined IngestDropReason.");
+        }
+
         var cell = StreamCell(streamId);
         if (cell is not null)
         {
-            Interlocked.Increment(ref cell.Dropped);
+            Interlocked.Increment(ref cell.DroppedFor[(int)reason]);
         }
     }
 
@@ -90,9 +96,9 @@ public sealed class IngestCounters
     private sealed class Cell
     {
         public long Accepted;
-        public long Dropped;
         public long LastEndSampleIndex = -1;
         public readonly long[] Rejected = new long[ReasonCount];
+        public readonly long[] DroppedFor = new long[DropReasonCount];
 
         public Dictionary<WireRejectReason, long> RejectedByReason()
         {
@@ -109,23 +115,47 @@ public sealed class IngestCounters
             return map;
         }
 
-        public IngestStreamCounts ToStreamCounts(string streamId) => new(
-            streamId,
-            Interlocked.Read(ref Accepted),
-            Interlocked.Read(ref Dropped),
-            Interlocked.Read(ref LastEndSampleIndex),
-            RejectedByReason());
+        public Dictionary<IngestDropReason, long> DroppedByReason()
+        {
+            var map = new Dictionary<IngestDropReason, long>();
+            for (var i = 0; i < DroppedFor.Length; i++)
+            {
+                var count = Interlocked.Read(ref DroppedFor[i]);
+                if (count > 0)
+                {
+                    map[(IngestDropReason)i] = count;
+                }
+            }
+
+            return map;
+        }
+
+        public IngestStreamCounts ToStreamCounts(string streamId)
+        {
+            var dropped = DroppedByReason();
+            return new(
+                streamId,
+                Interlocked.Read(ref Accepted),
+                dropped.Values.Sum(),
+                Interlocked.Read(ref LastEndSampleIndex),
+                RejectedByReason(),
+                dropped);
+        }
     }
 }
 
 /// <summary>Counts of one stream at the moment of the snapshot.</summary>
 /// <param name="StreamId">Stream id.</param>
 /// <param name="Accepted">Chunks decoded and queued.</param>
-/// <param name="Dropped">Chunks decoded but dropped because the queue was full.</param>
+/// <param name="Dropped">Good chunks dropped before analysis, all reasons.</param>
 /// <param name="LastEndSampleIndex">One past the last sample of the latest accepted chunk; -1 before the first.</param>
 /// <param name="Rejected">Refused messages by reason (reasons with zero count are absent).</param>
-public sealed record IngestStreamCounts(string StreamId, long Accepted, long Dropped, long LastEndSampleIndex, IReadOnlyDictionary<WireRejectReason, long> Rejected)
+/// <param name="DroppedByReason">Dropped chunks by reason (reasons with zero count are absent).</param>
+public sealed record IngestStreamCounts(string StreamId, long Accepted, long Dropped, long LastEndSampleIndex, IReadOnlyDictionary<WireRejectReason, long> Rejected, IReadOnlyDictionary<IngestDropReason, long> DroppedByReason)
 {
+    /// <summary>Dropped chunks for one reason.</summary>
+    public long DroppedFor(IngestDropReason reason) => DroppedByReason.TryGetValue(reason, out var count) ? count : 0;
+
     /// <summary>All refused messages of the stream.</summary>
     public long RejectedTotal => Rejected.Values.Sum();
 

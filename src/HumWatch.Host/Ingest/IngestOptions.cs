@@ -12,8 +12,11 @@ public sealed class IngestOptions
     /// <summary>Default message size limit, 16 MiB.</summary>
     public const long DefaultMaxMessageBytes = 16L * 1024 * 1024;
 
-    /// <summary>Default queue capacity, 1024 chunks.</summary>
-    public const int DefaultQueueCapacity = 1024;
+    /// <summary>Default queue capacity, 65 536 chunks (about 30 s of 1000 streams sending 0.5 s chunks).</summary>
+    public const int DefaultQueueCapacity = 65_536;
+
+    /// <summary>Default budget for decoded samples in flight, 256 MiB (about 4 s of 1000 streams of 32 channels at 500 Hz).</summary>
+    public const long DefaultBufferBytes = 256L * 1024 * 1024;
 
     /// <summary>Sockets to receive chunks on. When empty, one PULL socket bound to <see cref="DefaultAddress"/>.</summary>
     public IList<IngestEndpointOptions> Endpoints { get; } = [];
@@ -21,8 +24,15 @@ public sealed class IngestOptions
     /// <summary>Largest accepted message (all frames), 1 KiB to 1 GiB. The default is 16 MiB.</summary>
     public long MaxMessageBytes { get; set; } = DefaultMaxMessageBytes;
 
-    /// <summary>Chunks held between the sockets and the analysis, 1 to 1 000 000; when full, chunks are dropped and counted. The default is 1024.</summary>
+    /// <summary>Chunks held in the queue between the sockets and the streams, 1 to 1 000 000; when full, chunks are dropped and counted. Guards against floods of tiny chunks; <see cref="BufferBytes"/> bounds the memory. The default is 65 536.</summary>
     public int QueueCapacity { get; set; } = DefaultQueueCapacity;
+
+    /// <summary>
+    /// Most bytes of decoded samples held between the sockets and the analysis (the ingest queue, every stream's queue,
+    /// and arrays kept for reuse), 1 MiB to 64 GiB and at least <see cref="MaxMessageBytes"/>; when spent, chunks are
+    /// dropped and counted. Each stream needs 4 bytes × channels × rate per second of buffer. The default is 256 MiB.
+    /// </summary>
+    public long BufferBytes { get; set; } = DefaultBufferBytes;
 
     /// <summary>Shortest interval between repeated warnings about the same stream's drops or rejections. The default is 10 s.</summary>
     public TimeSpan WarningInterval { get; set; } = TimeSpan.FromSeconds(10);

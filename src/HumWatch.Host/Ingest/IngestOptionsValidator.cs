@@ -23,6 +23,15 @@ internal sealed class IngestOptionsValidator : IValidateOptions<IngestOptions>
             failures.Add($"{Section}:QueueCapacity must be between 1 and 1000000 chunks; it is {options.QueueCapacity}.");
         }
 
+        if (options.BufferBytes is < 1L << 20 or > 1L << 36)
+        {
+            failures.Add($"{Section}:BufferBytes must be between 1048576 (1 MiB) and 68719476736 (64 GiB); it is {options.BufferBytes}.");
+        }
+        else if (options.BufferBytes < options.MaxMessageBytes)
+        {
+            failures.Add($"{Section}:BufferBytes ({options.BufferBytes}) must be at least {Section}:MaxMessageBytes ({options.MaxMessageBytes}), or the largest allowed chunk could never be held.");
+        }
+
         if (options.WarningInterval < TimeSpan.Zero || options.WarningInterval > TimeSpan.FromHours(1))
         {
             failures.Add($"{Section}:WarningInterval must be between 00:00:00 and 01:00:00; it is {options.WarningInterval}.");

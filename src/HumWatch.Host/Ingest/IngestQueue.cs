@@ -6,7 +6,8 @@ namespace HumWatch.Host.Ingest;
 
 /// <summary>
 /// Bounded hand-off from the ingest sockets to the analysis. A full queue never blocks a socket: the chunk is
-/// dropped, counted per stream in <see cref="IngestCounters"/>, and a rate-limited warning is logged.
+/// released, dropped, counted per stream in <see cref="IngestCounters"/>, and a rate-limited warning is logged.
+/// A chunk read from <see cref="Reader"/> belongs to the reader, who must pass it on or release it.
 /// </summary>
 [SuppressMessage("Naming", "CA1711:Identifiers should not have incorrect suffix", Justification = "It is a queue; the name is part of the agreed host contract.")]
 public sealed class IngestQueue
@@ -15,6 +16,8 @@ public sealed class IngestQueue
     private readonly IngestCounters _counters;
     private readonly ILogger _logger;
     private readonly WarningThrottle _throttle;
+    private int _peakCount;
+    private volatile bool _completed;
 
     /// <param name="capacity">Chunks held, 1 to 1 000 000.</param>
     /// <param name="counters">Where drops are counted.</param>
@@ -48,28 +51,48 @@ public sealed class IngestQueue
     /// <summary>Chunks waiting now.</summary>
     public int Count => _channel.Reader.Count;
 
-    /// <summary>The consumer side.</summary>
+    /// <summary>Most chunks that were waiting at once.</summary>
+    public int PeakCount => Volatile.Read(ref _peakCount);
+
+    /// <summary>The consumer side; a chunk read from it belongs to the reader.</summary>
     public ChannelReader<StreamChunk> Reader => _channel.Reader;
 
-    /// <summary>Queues a chunk without waiting; when the queue is full the chunk is dropped, counted and reported.</summary>
-    /// <returns>True when queued.</returns>
+    /// <summary>Queues a chunk without waiting; when the queue is full (or completed) the chunk is released, dropped, counted and reported.</summary>
+    /// <returns>True when queued (the queue's reader now owns the chunk).</returns>
     public bool TryEnqueue(StreamChunk chunk)
     {
         ArgumentNullException.ThrowIfNull(chunk);
         if (_channel.Writer.TryWrite(chunk))
         {
+            var count = _channel.Reader.Count;
+            if (count > Volatile.Read(ref _peakCount))
+            {
+                // A lost race only under-reports the peak by a chunk; it is a diagnostic figure.
+                Volatile.Write(ref _peakCount, count);
+            }
+
             return true;
         }
 
-        _counters.RecordDropped(chunk.StreamId);
+        chunk.Release();
+        var reason = _completed ? IngestDropReason.ShuttingDown : IngestDropReason.QueueFull;
+        _counters.RecordDropped(chunk.StreamId, reason);
         if (_throttle.ShouldWarn(chunk.StreamId, out var suppressed))
         {
-            _logger.ChunkDropped(chunk.StreamId, chunk.Origin, Capacity, suppressed);
+            _logger.ChunkDropped(chunk.StreamId, chunk.Origin, reason, DropDetail(reason), suppressed);
         }
 
         return false;
     }
 
     /// <summary>Marks the end of input; readers finish after the queued chunks.</summary>
-    public void Complete() => _channel.Writer.TryComplete();
+    public void Complete()
+    {
+        _completed = true;
+        _channel.Writer.TryComplete();
+    }
+
+    private string DropDetail(IngestDropReason reason) => reason == IngestDropReason.QueueFull
+        ? $"the ingest queue holds its capacity of {Capacity} chunks (Ingest:QueueCapacity)"
+        : "the service is stopping";
 }

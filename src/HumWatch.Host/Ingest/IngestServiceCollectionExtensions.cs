@@ -1,3 +1,4 @@
+using HumWatch.Formats.Wire;
 using Microsoft.Extensions.Configuration;
 using Microsoft.Extensions.DependencyInjection;
 using Microsoft.Extensions.DependencyInjection.Extensions;
@@ -6,7 +7,7 @@ using Microsoft.Extensions.Options;
 
 namespace HumWatch.Host.Ingest;
 
-/// <summary>Registers the socket ingest: options (section "Ingest", validated at start), counters, queue and the hosted service.</summary>
+/// <summary>Registers the socket ingest: options (section "Ingest", validated at start), counters, queue, sample buffer pool and the hosted service.</summary>
 public static class IngestServiceCollectionExtensions
 {
     /// <summary>Adds socket ingest bound to the "Ingest" section of <paramref name="configuration"/>.</summary>
@@ -30,6 +31,8 @@ public static class IngestServiceCollectionExtensions
                 provider.GetRequiredService<TimeProvider>(),
                 options.WarningInterval);
         });
+        services.TryAddSingleton(static provider =>
+            new SampleBufferPool(provider.GetRequiredService<IOptions<IngestOptions>>().Value.BufferBytes));
         services.AddHostedService<SocketIngestService>();
         return services;
     }

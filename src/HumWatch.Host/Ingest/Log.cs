@@ -15,8 +15,8 @@ internal static partial class Log
     [LoggerMessage(1102, LogLevel.Warning, "Rejected message on {Endpoint}: {Problem} (reason {Reason}; {Suppressed} similar rejections not logged since the last warning)")]
     public static partial void MessageRejected(this ILogger logger, string endpoint, string problem, WireRejectReason reason, long suppressed);
 
-    [LoggerMessage(1103, LogLevel.Warning, "Ingest queue full (capacity {Capacity}): dropped a chunk of stream {StreamId} from {Endpoint}; {Suppressed} more drops of this stream since the last warning")]
-    public static partial void ChunkDropped(this ILogger logger, string streamId, string endpoint, int capacity, long suppressed);
+    [LoggerMessage(1103, LogLevel.Warning, "Dropped a chunk of stream {StreamId} from {Endpoint} ({Reason}): {Detail}; {Suppressed} more drops of this stream since the last warning")]
+    public static partial void ChunkDropped(this ILogger logger, string streamId, string endpoint, IngestDropReason reason, string detail, long suppressed);
 
     [LoggerMessage(1104, LogLevel.Error, "Ingest socket {Endpoint} failed while receiving; the socket keeps running")]
     public static partial void ReceiveFailed(this ILogger logger, Exception exception, string endpoint);
@@ -26,6 +26,9 @@ internal static partial class Log
 
     [LoggerMessage(1106, LogLevel.Information, "Stream {StreamId} started a new session on {Endpoint}: {SampleRateHz} Hz, {ChannelCount} channels")]
     public static partial void NewSession(this ILogger logger, string streamId, string endpoint, double sampleRateHz, int channelCount);
+
+    [LoggerMessage(1108, LogLevel.Information, "Ingest holds up to {BufferMiB:F0} MiB of decoded samples in flight (Ingest:BufferBytes) and up to {QueueCapacity} chunks in its queue (Ingest:QueueCapacity)")]
+    public static partial void BufferBudget(this ILogger logger, double bufferMiB, int queueCapacity);
 
     [LoggerMessage(1107, LogLevel.Warning, "CURVE key file {Path} can be read by other users; restrict it to the service account (e.g. chmod 600)")]
     public static partial void KeyFileTooOpen(this ILogger logger, string path);

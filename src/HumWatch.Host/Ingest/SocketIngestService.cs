@@ -7,7 +7,9 @@ namespace HumWatch.Host.Ingest;
 
 /// <summary>
 /// Receives chunk messages (protocol v1) on the configured ZeroMQ sockets, one owner thread per socket, decodes them
-/// and queues them on <see cref="IngestQueue"/>. Bad messages are refused, counted and logged; the sockets keep running.
+/// into sample arrays rented from the <see cref="SampleBufferPool"/> and queues them on <see cref="IngestQueue"/>. Bad
+/// messages are refused, counted and logged; good ones that find no room are dropped, counted and logged; the sockets
+/// keep running.
 /// </summary>
 internal sealed class SocketIngestService : BackgroundService
 {
@@ -15,21 +17,26 @@ internal sealed class SocketIngestService : BackgroundService
     private readonly IngestQueue _queue;
     private readonly IngestCounters _counters;
     private readonly ILogger _logger;
+    private readonly SampleBufferPool _pool;
     private readonly WarningThrottle _rejectionThrottle;
+    private readonly WarningThrottle _dropThrottle;
     private readonly StreamLayoutCache _layouts = new();
     private readonly List<IngestSocketLoop> _loops = [];
 
-    public SocketIngestService(IOptions<IngestOptions> options, IngestQueue queue, IngestCounters counters, ILogger<SocketIngestService> logger, TimeProvider timeProvider)
+    public SocketIngestService(IOptions<IngestOptions> options, IngestQueue queue, IngestCounters counters, SampleBufferPool pool, ILogger<SocketIngestService> logger, TimeProvider timeProvider)
     {
         ArgumentNullException.ThrowIfNull(options);
         ArgumentNullException.ThrowIfNull(queue);
         ArgumentNullException.ThrowIfNull(counters);
+        ArgumentNullException.ThrowIfNull(pool);
         ArgumentNullException.ThrowIfNull(logger);
         _options = options.Value;
         _queue = queue;
         _counters = counters;
+        _pool = pool;
         _logger = logger;
         _rejectionThrottle = new WarningThrottle(timeProvider, _options.WarningInterval);
+        _dropThrottle = new WarningThrottle(timeProvider, _options.WarningInterval);
     }
 
     /// <summary>Endpoints as bound or connected, in configuration order (valid after start).</summary>
@@ -51,6 +58,8 @@ internal sealed class SocketIngestService : BackgroundService
     public override Task StartAsync(CancellationToken cancellationToken)
     {
         var endpoints = _options.EffectiveEndpoints();
+        _logger.BufferBudget(_pool.BudgetBytes / 1048576.0, _queue.Capacity);
+        NetMqMessageBuffers.Install();
         try
         {
             for (var i = 0; i < endpoints.Count; i++)
@@ -101,22 +110,50 @@ internal sealed class SocketIngestService : BackgroundService
             return;
         }
 
-        var result = ChunkWireCodec.Decode(header, samples, _layouts);
-        if (!result.IsSuccess)
+        var result = ChunkWireCodec.Decode(header, samples, _layouts, _pool);
+        if (result.IsRejected)
         {
             Reject(result.Rejection, origin);
             return;
         }
 
-        var chunk = result.Chunk;
-        if (result.StartsNewLayout)
+        if (result.IsBufferFull)
         {
-            _logger.NewSession(result.StreamId, origin, chunk.Layout.SampleRateHz, chunk.Layout.ChannelCount);
+            _counters.RecordDropped(result.StreamId, IngestDropReason.BufferFull);
+            if (_dropThrottle.ShouldWarn(result.StreamId, out var suppressed))
+            {
+                _logger.ChunkDropped(result.StreamId, origin, IngestDropReason.BufferFull,
+                    $"decoded samples in flight fill Ingest:BufferBytes ({_pool.BudgetBytes} bytes); analysis is behind", suppressed);
+            }
+
+            return;
         }
 
-        if (_queue.TryEnqueue(new StreamChunk(result.StreamId, chunk, origin)))
+        if (!result.IsSuccess)
         {
-            _counters.RecordAccepted(result.StreamId, chunk.EndSampleIndex);
+            throw new InvalidOperationException("The decoder returned neither a chunk, a rejection nor a full buffer.");
+        }
+
+        // From here this method owns the rented array until the queue takes the chunk (TryEnqueue releases it when not).
+        var chunk = result.Chunk;
+        var item = new StreamChunk(result.StreamId, chunk, origin, _pool);
+        try
+        {
+            if (result.StartsNewLayout)
+            {
+                _logger.NewSession(result.StreamId, origin, chunk.Layout.SampleRateHz, chunk.Layout.ChannelCount);
+            }
+        }
+        catch
+        {
+            item.Release();
+            throw;
+        }
+
+        var endSampleIndex = chunk.EndSampleIndex;
+        if (_queue.TryEnqueue(item))
+        {
+            _counters.RecordAccepted(result.StreamId, endSampleIndex);
         }
     }
 

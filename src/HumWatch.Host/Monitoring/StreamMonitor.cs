@@ -4,13 +4,15 @@ using HumWatch.Core.Analysis;
 using HumWatch.Core.Ledger;
 using HumWatch.Core.Signals;
 using HumWatch.Core.Summaries;
+using HumWatch.Host.Ingest;
 using Microsoft.Extensions.Logging;
 
 namespace HumWatch.Host.Monitoring;
 
 /// <summary>
 /// Runs one live stream: a bounded queue of chunks and one worker on the thread pool that feeds them through the
-/// stream's current session. A change of rate or channels ends the session and starts a new one.
+/// stream's current session. A change of rate or channels ends the session and starts a new one. The monitor owns every
+/// chunk posted to it and releases each exactly once: after the analyser consumed it, or when it cannot be queued.
 /// </summary>
 internal sealed class StreamMonitor : IAsyncDisposable
 {
@@ -29,6 +31,7 @@ internal sealed class StreamMonitor : IAsyncDisposable
     private long _dropped;
     private long _lastDropWarningTicks = long.MinValue;
     private long _lastInputTicks;
+    private volatile bool _closed;
 
     public StreamMonitor(
         string streamId,
@@ -78,15 +81,24 @@ internal sealed class StreamMonitor : IAsyncDisposable
     /// <summary>Seconds since the last chunk was offered.</summary>
     public double IdleSeconds => _time.GetElapsedTime(Interlocked.Read(ref _lastInputTicks)).TotalSeconds;
 
-    /// <summary>Queues a chunk; false (and counted) when analysis is behind and the queue is full.</summary>
-    public bool TryPost(SampleChunk chunk)
+    /// <summary>Takes the chunk: queues it, or releases it and returns false (with the reason) when the queue is full or closed.</summary>
+    public bool TryPost(StreamChunk chunk, out IngestDropReason reason)
     {
         Interlocked.Exchange(ref _lastInputTicks, _time.GetTimestamp());
         if (_queue.Writer.TryWrite(MonitorItem.ForChunk(chunk)))
         {
+            reason = default;
             return true;
         }
 
+        chunk.Release();
+        if (_closed)
+        {
+            reason = IngestDropReason.ShuttingDown;
+            return false;
+        }
+
+        reason = IngestDropReason.StreamQueueFull;
         var dropped = Interlocked.Increment(ref _dropped);
         var now = _time.GetTimestamp();
         var last = Interlocked.Read(ref _lastDropWarningTicks);
@@ -105,12 +117,16 @@ internal sealed class StreamMonitor : IAsyncDisposable
     /// <summary>Finishes queued work, ends the session and stops the worker.</summary>
     public async ValueTask DisposeAsync()
     {
+        _closed = true;
         _queue.Writer.TryWrite(MonitorItem.ForClose("service stopping"));
         _queue.Writer.TryComplete();
         await _worker.ConfigureAwait(false);
+
+        // The close item finds no room when the queue was full; the worker has stopped, so end the session here.
+        EndSession("service stopping");
     }
 
-    /// <summary>Processes one item on the caller's thread. The worker calls it; tests may too.</summary>
+    /// <summary>Processes one item on the caller's thread and releases its chunk. The worker calls it; tests may too.</summary>
     internal void Process(MonitorItem item)
     {
         if (item.Chunk is null)
@@ -119,7 +135,19 @@ internal sealed class StreamMonitor : IAsyncDisposable
             return;
         }
 
-        var chunk = item.Chunk;
+        try
+        {
+            Analyse(item.Chunk.Chunk);
+        }
+        finally
+        {
+            // The analyser copies what it keeps, so the samples are free once Append returns (also after a failure).
+            item.Chunk.Release();
+        }
+    }
+
+    private void Analyse(SampleChunk chunk)
+    {
         if (_session is null || !_session.Layout.IsSameShape(chunk.Layout))
         {
             EndSession("rate or channels changed");
@@ -189,9 +217,9 @@ internal sealed class StreamMonitor : IAsyncDisposable
         }
     }
 
-    internal readonly record struct MonitorItem(SampleChunk? Chunk, string? CloseReason)
+    internal readonly record struct MonitorItem(StreamChunk? Chunk, string? CloseReason)
     {
-        public static MonitorItem ForChunk(SampleChunk chunk) => new(chunk, null);
+        public static MonitorItem ForChunk(StreamChunk chunk) => new(chunk, null);
 
         public static MonitorItem ForClose(string reason) => new(null, reason);
     }

@@ -30,6 +30,7 @@ internal sealed class StreamMonitorService : BackgroundService
     private readonly ILoggerFactory _loggerFactory;
     private readonly ILogger _logger;
     private readonly ConcurrentDictionary<string, StreamMonitor> _monitors = new(StringComparer.Ordinal);
+    private readonly WarningThrottle _tooManyThrottle;
 
     public StreamMonitorService(
         IngestQueue queue,
@@ -58,6 +59,7 @@ internal sealed class StreamMonitorService : BackgroundService
         _time = time;
         _loggerFactory = loggerFactory;
         _logger = loggerFactory.CreateLogger<StreamMonitorService>();
+        _tooManyThrottle = new WarningThrottle(time, TimeSpan.FromSeconds(10));
     }
 
     /// <summary>Streams currently held.</summary>
@@ -71,6 +73,13 @@ internal sealed class StreamMonitorService : BackgroundService
         // Stop taking input first, then let every stream finish what it holds and close its alerts and minutes.
         _queue.Complete();
         await base.StopAsync(cancellationToken).ConfigureAwait(false);
+
+        // Chunks still in the ingest queue go to their streams (or are released and counted), so nothing is lost unseen.
+        while (_queue.Reader.TryRead(out var item))
+        {
+            Route(item);
+        }
+
         foreach (var monitor in _monitors.Values)
         {
             await monitor.DisposeAsync().ConfigureAwait(false);
@@ -79,15 +88,20 @@ internal sealed class StreamMonitorService : BackgroundService
         _monitors.Clear();
     }
 
-    /// <summary>Hands one chunk to its stream's monitor, creating it on first sight.</summary>
+    /// <summary>Hands one chunk to its stream's monitor, creating it on first sight; takes the chunk (a refused one is released and counted).</summary>
     internal void Route(StreamChunk item)
     {
         if (!_monitors.TryGetValue(item.StreamId, out var monitor))
         {
             if (_monitors.Count >= _options.MaxStreams)
             {
-                _counters.RecordDropped(item.StreamId);
-                _logger.TooManyStreams(item.StreamId, _options.MaxStreams);
+                item.Release();
+                _counters.RecordDropped(item.StreamId, IngestDropReason.TooManyStreams);
+                if (_tooManyThrottle.ShouldWarn(item.StreamId, out _))
+                {
+                    _logger.TooManyStreams(item.StreamId, _options.MaxStreams);
+                }
+
                 return;
             }
 
@@ -95,9 +109,9 @@ internal sealed class StreamMonitorService : BackgroundService
                 id, _analysis, _alerts, _options, _alertSink, _rowWriter, _time, _loggerFactory.CreateLogger($"HumWatch.Stream.{id}"), _spectrumSink));
         }
 
-        if (!monitor.TryPost(item.Chunk))
+        if (!monitor.TryPost(item, out var reason))
         {
-            _counters.RecordDropped(item.StreamId);
+            _counters.RecordDropped(item.StreamId, reason);
         }
     }
 

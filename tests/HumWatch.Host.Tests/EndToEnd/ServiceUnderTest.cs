@@ -61,7 +61,7 @@ internal sealed class ServiceUnderTest : IAsyncDisposable
         ["Ingest:QueueCapacity"] = "100000",
     };
 
-    public static async Task<ServiceUnderTest> StartAsync(string folder, IReadOnlyDictionary<string, string?>? extra = null)
+    public static async Task<ServiceUnderTest> StartAsync(string folder, IReadOnlyDictionary<string, string?>? extra = null, Action<IServiceCollection, Microsoft.Extensions.Configuration.IConfiguration>? configureServices = null)
     {
         var settings = Settings(folder);
         foreach (var (key, value) in extra ?? new Dictionary<string, string?>())
@@ -74,6 +74,7 @@ internal sealed class ServiceUnderTest : IAsyncDisposable
             Overrides = settings,
             ReadWorkingDirectorySettings = false,
             EnvironmentPrefix = null,
+            ConfigureServices = configureServices,
         });
         await host.StartAsync();
         return new ServiceUnderTest(host, folder);

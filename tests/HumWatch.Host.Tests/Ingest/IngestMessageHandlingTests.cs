@@ -30,6 +30,8 @@ public sealed class IngestMessageHandlingTests
         var counts = harness.Counters.Get("busy")!;
         Assert.Equal(2, counts.Accepted);
         Assert.Equal(4, counts.Dropped);
+        Assert.Equal(4, counts.DroppedFor(IngestDropReason.QueueFull));
+        Assert.Equal(2, harness.Pool.RentedCount); // dropped chunks gave their arrays back
         Assert.Equal(20, counts.LastEndSampleIndex);
         var warnings = harness.QueueLogger.Entries.Where(e => e.Level == LogLevel.Warning).ToList();
         Assert.Equal(2, warnings.Count);
@@ -66,6 +68,48 @@ public sealed class IngestMessageHandlingTests
 
         Assert.Equal(50, harness.Counters.Get("noisy")!.RejectedFor(WireRejectReason.BadSampleRate));
         Assert.Single(harness.ServiceLogger.Entries, e => e.EventId == 1102);
+    }
+
+    [Fact]
+    public async Task Spent_buffer_budget_drops_and_counts_good_chunks_until_analysis_gives_arrays_back()
+    {
+        var options = IngestHarness.LoopbackOptions();
+        options.BufferBytes = 1024 * 1024;
+        await using var harness = new IngestHarness(options);
+        var layout = Some.Layout(1000, "A", "B");
+
+        // 2 channels × 100 000 samples × 4 bytes = 800 000 bytes: one fits in 1 MiB, a second does not.
+        Handle(harness, ChunkWireCodec.Encode("big", Some.Chunk(layout, 0, 100_000, 0)));
+        Handle(harness, ChunkWireCodec.Encode("big", Some.Chunk(layout, 100_000, 100_000, 0)));
+        Handle(harness, ChunkWireCodec.Encode("big", Some.Chunk(layout, 200_000, 100_000, 0)));
+        var first = (await harness.ReadAsync(1))[0];
+        first.Release();
+        Handle(harness, ChunkWireCodec.Encode("big", Some.Chunk(layout, 300_000, 100_000, 0)));
+
+        var counts = harness.Counters.Get("big")!;
+        Assert.Equal(2, counts.Accepted);
+        Assert.Equal(2, counts.DroppedFor(IngestDropReason.BufferFull));
+        Assert.Equal(0, counts.RejectedTotal);
+        var warning = Assert.Single(harness.ServiceLogger.Entries, e => e.EventId == 1103);
+        Assert.Contains("Ingest:BufferBytes", warning.Message, StringComparison.Ordinal);
+        var second = (await harness.ReadAsync(1))[0];
+        Assert.Equal(300_000, second.Chunk.FirstSampleIndex);
+        Assert.True(harness.Pool.IsRented(second.Chunk.SamplesUv));
+    }
+
+    [Fact]
+    public async Task A_released_chunk_is_poisoned_and_a_second_release_throws()
+    {
+        await using var harness = new IngestHarness(IngestHarness.LoopbackOptions());
+        Handle(harness, ChunkWireCodec.Encode("s", Some.Chunk(Some.Layout(250, "A"), 0, 10, 7)));
+        var chunk = (await harness.ReadAsync(1))[0];
+        Assert.Equal(7f, chunk.Chunk.SamplesUv[0]);
+
+        chunk.Release();
+
+        Assert.True(float.IsNaN(chunk.Chunk.SamplesUv[0]));
+        Assert.Equal(0, harness.Pool.RentedCount);
+        Assert.Throws<InvalidOperationException>(chunk.Release);
     }
 
     private static void Handle(IngestHarness harness, WireMessage message) =>

@@ -1,3 +1,4 @@
+using HumWatch.Formats.Wire;
 using HumWatch.Host.Ingest;
 using Microsoft.Extensions.Configuration;
 using Microsoft.Extensions.DependencyInjection;
@@ -18,6 +19,8 @@ public sealed class IngestOptionsTests
         Assert.Equal(IngestSocketMode.Bind, endpoint.Mode);
         Assert.Equal(IngestSocketType.Pull, endpoint.SocketType);
         Assert.Equal(16L * 1024 * 1024, options.MaxMessageBytes);
+        Assert.Equal(256L * 1024 * 1024, options.BufferBytes);
+        Assert.Equal(65_536, options.QueueCapacity);
         Assert.True(new IngestOptionsValidator().Validate(null, options).Succeeded);
     }
 
@@ -32,10 +35,13 @@ public sealed class IngestOptionsTests
     [InlineData("Curve:ServerKeyFile", "", "Ingest:Endpoints:0:Curve:ServerKeyFile must name")]
     [InlineData("MaxMessageBytes", "100", "Ingest:MaxMessageBytes must be between")]
     [InlineData("QueueCapacity", "0", "Ingest:QueueCapacity must be between")]
+    [InlineData("BufferBytes", "1048575", "Ingest:BufferBytes must be between 1048576 (1 MiB) and 68719476736 (64 GiB); it is 1048575.")]
+    [InlineData("BufferBytes", "68719476737", "Ingest:BufferBytes must be between 1048576 (1 MiB) and 68719476736 (64 GiB)")]
+    [InlineData("BufferBytes", "8388608", "Ingest:BufferBytes (8388608) must be at least Ingest:MaxMessageBytes (16777216)")]
     public void Bad_setting_fails_at_start_with_a_message_naming_the_key(string key, string value, string expected)
     {
         var settings = new Dictionary<string, string?> { ["Ingest:Endpoints:0:Address"] = "tcp://127.0.0.1:*" };
-        settings[key.StartsWith("Max", StringComparison.Ordinal) || key.StartsWith("Queue", StringComparison.Ordinal) ? $"Ingest:{key}" : $"Ingest:Endpoints:0:{key}"] = value;
+        settings[key.StartsWith("Max", StringComparison.Ordinal) || key.StartsWith("Queue", StringComparison.Ordinal) || key.StartsWith("Buffer", StringComparison.Ordinal) ? $"Ingest:{key}" : $"Ingest:Endpoints:0:{key}"] = value;
         using var provider = Build(settings);
 
         var ex = Assert.Throws<OptionsValidationException>(() => provider.GetRequiredService<IOptions<IngestOptions>>().Value);
@@ -56,6 +62,7 @@ public sealed class IngestOptionsTests
             ["Ingest:Endpoints:1:SocketType"] = "Sub",
             ["Ingest:Endpoints:1:SubscribePrefix"] = "{\"v\":1,\"stream\":\"ward-",
             ["Ingest:QueueCapacity"] = "64",
+            ["Ingest:BufferBytes"] = "33554432",
         });
 
         var options = provider.GetRequiredService<IOptions<IngestOptions>>().Value;
@@ -66,6 +73,15 @@ public sealed class IngestOptionsTests
         Assert.Equal(IngestSocketType.Sub, options.Endpoints[1].SocketType);
         Assert.Equal(IngestSocketMode.Connect, options.Endpoints[1].Mode);
         Assert.Equal(64, provider.GetRequiredService<IngestQueue>().Capacity);
+        Assert.Equal(32L * 1024 * 1024, provider.GetRequiredService<SampleBufferPool>().BudgetBytes);
+    }
+
+    [Fact]
+    public void A_buffer_budget_equal_to_the_message_limit_is_valid()
+    {
+        var options = new IngestOptions { MaxMessageBytes = 4L * 1024 * 1024, BufferBytes = 4L * 1024 * 1024 };
+
+        Assert.True(new IngestOptionsValidator().Validate(null, options).Succeeded);
     }
 
     [Theory]

@@ -59,7 +59,7 @@ public sealed class PythonInteropTests
         await harness.StartAsync();
 
         var run = await PythonPeer.RunAsync("push_chunk.py",
-            "--endpoint", harness.Endpoint, "--stream", "py-curve", "--chunks", "2", "--server-key", server.PublicKeyZ85);
+            "--endpoint", harness.Endpoint, "--stream", "py-curve", "--chunks", "2", "--server-key=" + server.PublicKeyZ85); // "=" form: a Z85 key may start with '-', which argparse would take for an option
 
         Assert.True(run.ExitCode == 0, run.Error);
         var chunks = await harness.ReadAsync(2);

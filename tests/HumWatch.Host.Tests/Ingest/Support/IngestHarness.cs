@@ -21,7 +21,8 @@ internal sealed class IngestHarness : IAsyncDisposable
         QueueLogger = new CollectingLogger<IngestQueue>();
         ServiceLogger = new CollectingLogger<SocketIngestService>();
         Queue = new IngestQueue(options.QueueCapacity, Counters, QueueLogger, Time, options.WarningInterval);
-        Service = new SocketIngestService(Microsoft.Extensions.Options.Options.Create(options), Queue, Counters, ServiceLogger, Time);
+        Pool = new SampleBufferPool(options.BufferBytes, poisonReturned: true);
+        Service = new SocketIngestService(Microsoft.Extensions.Options.Options.Create(options), Queue, Counters, Pool, ServiceLogger, Time);
     }
 
     public IngestOptions Options { get; }
@@ -31,6 +32,9 @@ internal sealed class IngestHarness : IAsyncDisposable
     public IngestCounters Counters { get; }
 
     public IngestQueue Queue { get; }
+
+    /// <summary>The pool decoded chunks rent from; returned arrays are poisoned with NaN.</summary>
+    public SampleBufferPool Pool { get; }
 
     public CollectingLogger<IngestQueue> QueueLogger { get; }
 
