@@ -89,13 +89,27 @@ internal static class SummaryPlots
 
         var line = plot.Add.ScatterLine(xs.ToArray(), ys.ToArray());
         line.LineWidth = 1;
-        foreach (var mark in spectrum.Marks)
+
+        // Labels go inside the plot, above the spectrum, on up to three staggered rows so that close lines (50 and 60 Hz)
+        // and the title do not print over each other.
+        const double RowDecades = 0.35;
+        var top = ys.Count > 0 ? ys.Max() : 0;
+        var bottom = double.IsFinite(floor) ? floor : top - 1;
+        var rows = Math.Min(3, spectrum.Marks.Count);
+        var labelTop = top + 0.3 + (rows * RowDecades);
+        var marks = spectrum.Marks.OrderBy(m => m.FrequencyHz).ToList();
+        for (var i = 0; i < marks.Count; i++)
         {
-            var v = plot.Add.VerticalLine(mark.FrequencyHz, 1, Colors.Red, LinePattern.Dashed);
-            v.Text = string.Create(CultureInfo.InvariantCulture, $"{mark.Label} ({mark.FrequencyHz:0.##} Hz)");
-            v.LabelOppositeAxis = true;
-            v.LabelStyle.FontSize = 10;
+            var mark = marks[i];
+            plot.Add.VerticalLine(mark.FrequencyHz, 1, Colors.Red, LinePattern.Dashed);
+            var text = plot.Add.Text(string.Create(CultureInfo.InvariantCulture, $"{mark.Label} ({mark.FrequencyHz:0.##} Hz)"), mark.FrequencyHz, labelTop - ((i % 3) * RowDecades));
+            text.LabelFontSize = 10;
+            text.LabelFontColor = Colors.DarkRed;
+            text.LabelBackgroundColor = Colors.White.WithAlpha(0.85);
+            text.LabelAlignment = Alignment.UpperLeft;
         }
+
+        plot.Axes.SetLimitsY(bottom - 0.2, labelTop + 0.1);
 
         var ticks = new ScottPlot.TickGenerators.NumericAutomatic
         {
