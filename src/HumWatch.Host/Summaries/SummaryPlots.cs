@@ -172,7 +172,7 @@ internal static class SummaryPlots
             plot.Add.Text("no contamination recorded", hours / 2.0, 0.5);
         }
 
-        plot.Title($"{data.Stream} {data.Day}: affected minutes per hour (dark 0, bright 60)");
+        plot.Title($"{data.Stream} {data.Day}: affected minutes per hour (blank: none; dark: a few; bright: all 60)");
         plot.XLabel("Local time");
         return plot;
     }
@@ -200,8 +200,8 @@ internal static class SummaryPlots
 
         if (mains.MeanHz is { } mean)
         {
-            var h = plot.Add.HorizontalLine(mean, 1, Colors.Gray, LinePattern.Dashed);
-            h.Text = string.Create(CultureInfo.InvariantCulture, $"mean {mean:0.000} Hz");
+            // The title states the mean; a label on the line itself would print over the frequency ticks.
+            plot.Add.HorizontalLine(mean, 1, Colors.Gray, LinePattern.Dashed);
         }
         else
         {
@@ -209,7 +209,7 @@ internal static class SummaryPlots
         }
 
         plot.Title(mains.MeanHz is { } m
-            ? string.Create(CultureInfo.InvariantCulture, $"{data.Stream} {data.Day}: mains frequency (mean {m:0.000} Hz, {mains.MinHz:0.000}–{mains.MaxHz:0.000} Hz)")
+            ? string.Create(CultureInfo.InvariantCulture, $"{data.Stream} {data.Day}: mains frequency (dashed: mean {m:0.000} Hz; range {mains.MinHz:0.000}–{mains.MaxHz:0.000} Hz)")
             : $"{data.Stream} {data.Day}: mains frequency");
         plot.XLabel("Hours since local midnight");
         plot.YLabel("Frequency (Hz)");
