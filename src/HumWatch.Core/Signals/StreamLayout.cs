@@ -32,6 +32,12 @@ public sealed class StreamLayout
     public bool IsSameShape(StreamLayout other)
     {
         ArgumentNullException.ThrowIfNull(other);
+        if (ReferenceEquals(other, this))
+        {
+            // The common case: every chunk of a stream carries the stream's own layout.
+            return true;
+        }
+
         if (other.SampleRateHz != SampleRateHz || other.ChannelCount != ChannelCount)
         {
             return false;
