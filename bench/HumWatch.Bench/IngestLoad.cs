@@ -4,6 +4,7 @@ using System.Text;
 using System.Text.Json;
 using HumWatch.Formats.Wire;
 using HumWatch.Host.Composition;
+using HumWatch.Host.Configuration;
 using HumWatch.Host.Ingest;
 using HumWatch.Host.Publishing;
 using Microsoft.Extensions.DependencyInjection;
@@ -73,7 +74,7 @@ internal sealed class IngestLoad(int channels, int sampleRateHz, double chunkSec
         {
             using var host = HumWatchHost.Build(new HumWatchHostSettings
             {
-                Overrides = new Dictionary<string, string?>
+                Sources = SettingsSources.Isolated(new Dictionary<string, string?>
                 {
                     ["Ingest:Endpoints:0:Address"] = "tcp://127.0.0.1:*",
                     ["Publish:Endpoint"] = "tcp://127.0.0.1:*",
@@ -83,9 +84,7 @@ internal sealed class IngestLoad(int channels, int sampleRateHz, double chunkSec
                     ["Inbox:Folder"] = Path.Combine(folder.FullName, "inbox"),
                     ["Inbox:ArchiveFolder"] = Path.Combine(folder.FullName, "archive"),
                     ["Inbox:RejectedFolder"] = Path.Combine(folder.FullName, "rejected"),
-                },
-                ReadWorkingDirectorySettings = false,
-                EnvironmentPrefix = null,
+                }),
             });
             host.StartAsync().GetAwaiter().GetResult();
             try

@@ -125,6 +125,38 @@ public sealed class CheckCommandTests : IClassFixture<CheckCommandTests.Recordin
         Assert.Contains("Site:TimeZone", error, StringComparison.Ordinal);
     }
 
+    [Fact]
+    public async Task Check_reads_the_working_directory_settings_then_HUMWATCH_variables_then_set_like_run()
+    {
+        // The simulated mains line is 9 µV RMS (see Recordings): it passes under limits of 20/50 µV and fails under 2/4 µV.
+        using var work = new TempFolder();
+        await File.WriteAllTextAsync(Path.Combine(work.Path, "appsettings.json"), """{ "Check": { "WarnLineUvRms": 20, "FailLineUvRms": 50 } }""");
+        var strict = new Dictionary<string, string> { ["HUMWATCH_Check__WarnLineUvRms"] = "2", ["HUMWATCH_Check__FailLineUvRms"] = "4" };
+
+        var fromFile = await CliRunner.RunInAsync(work.Path, new Dictionary<string, string>(), "check", _files.Mains, "--json");
+        var fromEnvironment = await CliRunner.RunInAsync(work.Path, strict, "check", _files.Mains, "--json");
+        var fromSet = await CliRunner.RunInAsync(work.Path, strict, "check", _files.Mains, "--json", "--set", "Check:WarnLineUvRms=20", "--set", "Check:FailLineUvRms=50");
+
+        Assert.Equal((0, "pass"), (fromFile.ExitCode, Verdict(fromFile.Output)));
+        Assert.Equal((1, "fail"), (fromEnvironment.ExitCode, Verdict(fromEnvironment.Output)));
+        Assert.Equal((0, "pass"), (fromSet.ExitCode, Verdict(fromSet.Output)));
+    }
+
+    [Fact]
+    public async Task A_malformed_set_on_check_exits_with_code_2()
+    {
+        var (code, _, error) = await CliRunner.RunAsync("check", _files.Quiet, "--set", "Check:WarnLineUvRms");
+
+        Assert.Equal(2, code);
+        Assert.Contains("--set takes KEY=VALUE", error, StringComparison.Ordinal);
+    }
+
+    private static string? Verdict(string json)
+    {
+        using var document = JsonDocument.Parse(json);
+        return document.RootElement.GetProperty("verdict").GetString();
+    }
+
     private static int CountOf(string text, string what)
     {
         var count = 0;

@@ -5,15 +5,24 @@ namespace HumWatch.Cli.Tests;
 /// <summary>Runs the real humwatch executable (built next to the tests) as a separate process.</summary>
 internal static class CliRunner
 {
-    public static async Task<(int ExitCode, string Output, string Error)> RunAsync(params string[] arguments)
+    public static Task<(int ExitCode, string Output, string Error)> RunAsync(params string[] arguments) =>
+        RunInAsync(AppContext.BaseDirectory, new Dictionary<string, string>(), arguments);
+
+    /// <summary>Runs in <paramref name="workingDirectory"/> with <paramref name="environment"/> added to the child's own environment only.</summary>
+    public static async Task<(int ExitCode, string Output, string Error)> RunInAsync(string workingDirectory, IReadOnlyDictionary<string, string> environment, params string[] arguments)
     {
         var info = new ProcessStartInfo("dotnet")
         {
             RedirectStandardOutput = true,
             RedirectStandardError = true,
             UseShellExecute = false,
-            WorkingDirectory = AppContext.BaseDirectory,
+            WorkingDirectory = workingDirectory,
         };
+        foreach (var (name, value) in environment)
+        {
+            info.Environment[name] = value;
+        }
+
         info.ArgumentList.Add(Path.Combine(AppContext.BaseDirectory, "humwatch.dll"));
         foreach (var argument in arguments)
         {

@@ -5,7 +5,7 @@ using HumWatch.Host.Configuration;
 
 namespace HumWatch.Cli.Commands;
 
-/// <summary>`humwatch check FILE... [--mains 50|60] [--json] [--config PATH]`.</summary>
+/// <summary>`humwatch check FILE... [--mains 50|60] [--json] [--config PATH]... [--set KEY=VALUE]...`.</summary>
 internal static class CheckCommand
 {
     public static Command Create()
@@ -21,11 +21,8 @@ internal static class CheckCommand
         };
         mains.AcceptOnlyFromAmong("50", "60");
         var json = new Option<bool>("--json") { Description = "Print the report as JSON (an array when several files are given)." };
-        var config = new Option<string[]>("--config")
-        {
-            Description = "Configuration file(s) layered over the defaults, e.g. config/site-60hz.json (repeatable).",
-            AllowMultipleArgumentsPerToken = false,
-        };
+        var config = CommandSettings.ConfigOption("Configuration file(s) layered over the defaults and ./appsettings.json, later files winning, e.g. config/site-60hz.json (repeatable).");
+        var set = CommandSettings.SetOption();
 
         var command = new Command("check", "Checks recordings once and reports every narrowband line and channel fault; exit code 0 pass, 1 contaminated past the limits, 2 unreadable input or bad arguments.")
         {
@@ -33,33 +30,46 @@ internal static class CheckCommand
             mains,
             json,
             config,
+            set,
         };
         command.SetAction(parse => Run(
             parse.GetValue(files) ?? [],
             parse.GetValue(mains),
             parse.GetValue(json),
-            parse.GetValue(config) ?? []));
+            parse.GetValue(config) ?? [],
+            parse.GetValue(set) ?? []));
         return command;
     }
 
-    private static int Run(string[] files, int? mains, bool asJson, string[] configFiles)
+    /// <summary>The layers check reads, as every command does; --mains is a command-line setting applied after --set.</summary>
+    internal static SettingsSources? Sources(string[] configFiles, string[] settings, int? mains, TextWriter stderr)
     {
+        var overrides = new Dictionary<string, string?>(StringComparer.OrdinalIgnoreCase);
+        if (!CommandSettings.TryParseSettings("check", settings, overrides, stderr))
+        {
+            return null;
+        }
+
+        if (mains is { } hz)
+        {
+            overrides["Analysis:Sources:MainsHz"] = hz.ToString(System.Globalization.CultureInfo.InvariantCulture);
+        }
+
+        return new SettingsSources { ConfigFiles = configFiles, Overrides = overrides };
+    }
+
+    private static int Run(string[] files, int? mains, bool asJson, string[] configFiles, string[] settings)
+    {
+        var sources = Sources(configFiles, settings, mains, Console.Error);
+        if (sources is null || CommandSettings.TryBuild("check", sources, Console.Error) is not { } bound)
+        {
+            return ExitCodes.BadInput;
+        }
+
         RecordingChecker checker;
         try
         {
-            var overrides = new Dictionary<string, string?>();
-            if (mains is { } hz)
-            {
-                overrides["Analysis:Sources:MainsHz"] = hz.ToString(System.Globalization.CultureInfo.InvariantCulture);
-            }
-
-            var configuration = ConfigLoader.Build(configFiles, overrides);
-            checker = new RecordingChecker(ConfigLoader.BindAnalysis(configuration), ConfigLoader.BindCheckLimits(configuration), Environment.ProcessorCount);
-        }
-        catch (ConfigurationException ex)
-        {
-            Console.Error.WriteLine($"humwatch check: {ex.Message}");
-            return ExitCodes.BadInput;
+            checker = new RecordingChecker(bound.Analysis, bound.Check, Environment.ProcessorCount);
         }
         catch (ArgumentException ex)
         {

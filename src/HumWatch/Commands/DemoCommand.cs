@@ -2,9 +2,9 @@ using System.CommandLine;
 using System.Text.Json;
 using HumWatch.Cli.Demo;
 using HumWatch.Host.Composition;
+using HumWatch.Host.Configuration;
 using HumWatch.Host.Ingest;
 using HumWatch.Simulation;
-using Microsoft.Extensions.Configuration;
 using Microsoft.Extensions.DependencyInjection;
 using Microsoft.Extensions.Hosting;
 using NetMQ.Sockets;
@@ -21,8 +21,8 @@ internal static class DemoCommand
         var data = new Option<string>("--data") { Description = "Folder for the store, logs and inbox.", DefaultValueFactory = _ => "humwatch-data" };
         var seconds = new Option<double?>("--seconds") { Description = "Stops by itself after this many wall-clock seconds." };
         var start = new Option<DateTimeOffset?>("--start") { Description = "UTC time of the rooms' first sample, e.g. 2026-12-01T00:00:00Z to replay a whole day fast (default: now)." };
-        var config = new Option<string[]>("--config") { Description = "Configuration file(s) layered over the defaults (repeatable)." };
-        var set = new Option<string[]>("--set") { Description = "Overrides one setting, KEY=VALUE (repeatable)." };
+        var config = CommandSettings.ConfigOption();
+        var set = CommandSettings.SetOption();
         var command = new Command("demo", "Runs the service with simulated recording rooms streaming to it, and prints each alert as it is raised and cleared.")
         {
             speed,
@@ -91,7 +91,7 @@ internal static class DemoCommand
             return ExitCodes.BadInput;
         }
 
-        var overrides = new Dictionary<string, string?>
+        var overrides = new Dictionary<string, string?>(StringComparer.OrdinalIgnoreCase)
         {
             ["Store:Path"] = Path.Combine(dataFolder, "humwatch.db"),
             ["Logs:Folder"] = Path.Combine(dataFolder, "logs"),
@@ -103,7 +103,7 @@ internal static class DemoCommand
             // The demo prints alerts itself (alerts are logged as warnings); the console log keeps to errors, the files get everything.
             ["Logs:ConsoleLevel"] = "Error",
         };
-        if (!ServiceRunner.TryParseSettings("demo", settings, overrides))
+        if (!CommandSettings.TryParseSettings("demo", settings, overrides, Console.Error))
         {
             return ExitCodes.BadInput;
         }
@@ -112,12 +112,11 @@ internal static class DemoCommand
         string publishEndpoint = "tcp://127.0.0.1:5711";
         var hostSettings = new HumWatchHostSettings
         {
-            ConfigFiles = configFiles,
-            Overrides = overrides,
-            ConfigureServices = (services, configuration) =>
+            Sources = new SettingsSources { ConfigFiles = configFiles, Overrides = overrides },
+            ConfigureServices = (services, bound) =>
             {
-                ingestEndpoint = configuration["Ingest:Endpoints:0:Address"] ?? IngestOptions.DefaultAddress;
-                publishEndpoint = configuration["Publish:Endpoint"] ?? publishEndpoint;
+                ingestEndpoint = bound.Ingest.Endpoints.Count > 0 ? bound.Ingest.Endpoints[0].Address : IngestOptions.DefaultAddress;
+                publishEndpoint = bound.Publish.Endpoint;
                 var endpoint = ingestEndpoint;
                 services.AddHostedService(sp => new DemoRoomPlayer(rooms, endpoint, speed, sp.GetRequiredService<TimeProvider>()));
             },

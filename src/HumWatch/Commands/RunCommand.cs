@@ -1,5 +1,6 @@
 using System.CommandLine;
 using HumWatch.Host.Composition;
+using HumWatch.Host.Configuration;
 
 namespace HumWatch.Cli.Commands;
 
@@ -8,8 +9,8 @@ internal static class RunCommand
 {
     public static Command Create()
     {
-        var config = new Option<string[]>("--config") { Description = "Configuration file(s) layered over the defaults and ./appsettings.json (repeatable)." };
-        var set = new Option<string[]>("--set") { Description = "Overrides one setting, e.g. --set Ingest:QueueCapacity=2048 (repeatable)." };
+        var config = CommandSettings.ConfigOption();
+        var set = CommandSettings.SetOption();
         var command = new Command("run", "Runs the service: watches streams on the ingest socket and files in the inbox, publishes alerts, keeps the store and logs. Stops on Ctrl-C or SIGTERM.")
         {
             config,
@@ -17,13 +18,14 @@ internal static class RunCommand
         };
         command.SetAction(parse =>
         {
-            var overrides = new Dictionary<string, string?>();
-            if (!ServiceRunner.TryParseSettings("run", parse.GetValue(set) ?? [], overrides))
+            var overrides = new Dictionary<string, string?>(StringComparer.OrdinalIgnoreCase);
+            if (!CommandSettings.TryParseSettings("run", parse.GetValue(set) ?? [], overrides, Console.Error))
             {
                 return ExitCodes.BadInput;
             }
 
-            return ServiceRunner.Run("run", new HumWatchHostSettings { ConfigFiles = parse.GetValue(config) ?? [], Overrides = overrides });
+            var sources = new SettingsSources { ConfigFiles = parse.GetValue(config) ?? [], Overrides = overrides };
+            return ServiceRunner.Run("run", new HumWatchHostSettings { Sources = sources });
         });
         return command;
     }

@@ -17,12 +17,7 @@ internal static class ServiceRunner
         }
         catch (ConfigurationException ex)
         {
-            Console.Error.WriteLine($"humwatch {command}: configuration is not valid:");
-            foreach (var line in ex.Message.Split(Environment.NewLine))
-            {
-                Console.Error.WriteLine($"  {line}");
-            }
-
+            CommandSettings.WriteInvalid(command, ex, Console.Error);
             return ExitCodes.BadInput;
         }
 
@@ -34,7 +29,7 @@ internal static class ServiceRunner
                 {
                     host.Start();
                 }
-                catch (Exception ex) when (ex is InvalidOperationException or IOException or UnauthorizedAccessException or ArgumentException or NetMQException or Microsoft.Extensions.Options.OptionsValidationException)
+                catch (Exception ex) when (ex is InvalidOperationException or IOException or UnauthorizedAccessException or ArgumentException or NetMQException)
                 {
                     // A socket that cannot bind or a folder that cannot be created stops the start with one clear line.
                     Console.Error.WriteLine($"humwatch {command}: cannot start: {Innermost(ex).Message}");
@@ -54,24 +49,6 @@ internal static class ServiceRunner
         }
 
         return ExitCodes.Ok;
-    }
-
-    /// <summary>Parses repeated KEY=VALUE settings into configuration overrides.</summary>
-    public static bool TryParseSettings(string command, IEnumerable<string> pairs, Dictionary<string, string?> into)
-    {
-        foreach (var pair in pairs)
-        {
-            var equals = pair.IndexOf('=', StringComparison.Ordinal);
-            if (equals <= 0)
-            {
-                Console.Error.WriteLine($"humwatch {command}: --set takes KEY=VALUE (e.g. Publish:StatusIntervalSeconds=5); got '{pair}'.");
-                return false;
-            }
-
-            into[pair[..equals].Trim()] = pair[(equals + 1)..];
-        }
-
-        return true;
     }
 
     private static Exception Innermost(Exception ex)

@@ -1,14 +1,12 @@
 using System.CommandLine;
 using System.Globalization;
-using HumWatch.Host.Composition;
 using HumWatch.Host.Configuration;
 using HumWatch.Host.Store;
 using HumWatch.Host.Summaries;
-using Microsoft.Extensions.Configuration;
 
 namespace HumWatch.Cli.Commands;
 
-/// <summary>`humwatch summary --day YYYY-MM-DD [--stream ID] [--out DIR] [--config PATH]` and `humwatch summary --list`.</summary>
+/// <summary>`humwatch summary --day YYYY-MM-DD [--stream ID] [--out DIR] [--config PATH]... [--set KEY=VALUE]...` and `humwatch summary --list`.</summary>
 internal static class SummaryCommand
 {
     public static Command Create()
@@ -17,11 +15,8 @@ internal static class SummaryCommand
         var stream = new Option<string?>("--stream") { Description = "Render only this stream (the day page still lists every room)." };
         var output = new Option<string?>("--out") { Description = "Output folder (default: Summaries:Folder from configuration)." };
         var list = new Option<bool>("--list") { Description = "List the local days the store holds, with their streams and whether their summaries were written." };
-        var config = new Option<string[]>("--config")
-        {
-            Description = "Configuration file(s) layered over the defaults (repeatable).",
-            AllowMultipleArgumentsPerToken = false,
-        };
+        var config = CommandSettings.ConfigOption();
+        var set = CommandSettings.SetOption();
 
         var command = new Command("summary", "Re-renders a day's summaries (JSON, Markdown page, PNG plots) from the store, or lists the days it holds.")
         {
@@ -30,6 +25,7 @@ internal static class SummaryCommand
             output,
             list,
             config,
+            set,
         };
         command.SetAction(parse => Run(
             parse.GetValue(day),
@@ -37,13 +33,14 @@ internal static class SummaryCommand
             parse.GetValue(output),
             parse.GetValue(list),
             parse.GetValue(config) ?? [],
+            parse.GetValue(set) ?? [],
             Console.Out,
             Console.Error));
         return command;
     }
 
     /// <summary>Runs the command; returns the exit code.</summary>
-    internal static int Run(string? dayText, string? stream, string? output, bool list, string[] configFiles, TextWriter stdout, TextWriter stderr)
+    internal static int Run(string? dayText, string? stream, string? output, bool list, string[] configFiles, string[] settings, TextWriter stdout, TextWriter stderr)
     {
         if (list == (dayText is not null))
         {
@@ -58,31 +55,16 @@ internal static class SummaryCommand
             return ExitCodes.BadInput;
         }
 
-        StoreOptions storeOptions;
-        SiteOptions site;
-        SummariesOptions options;
-        TimeZoneInfo zone;
-        try
+        var overrides = new Dictionary<string, string?>(StringComparer.OrdinalIgnoreCase);
+        if (!CommandSettings.TryParseSettings("summary", settings, overrides, stderr)
+            || CommandSettings.TryBuild("summary", new SettingsSources { ConfigFiles = configFiles, Overrides = overrides }, stderr) is not { } bound)
         {
-            var configuration = HumWatchHost.BuildConfiguration(new HumWatchHostSettings { ConfigFiles = configFiles });
-            storeOptions = Bind<StoreOptions>(configuration, "Store");
-            site = Bind<SiteOptions>(configuration, "Site");
-            options = SummariesServiceCollectionExtensions.Bind(configuration);
-            var errors = new List<string>();
-            errors.AddRange(storeOptions.Validate());
-            errors.AddRange(site.Validate());
-            if (errors.Count > 0)
-            {
-                throw new ConfigurationException(string.Join(Environment.NewLine, errors));
-            }
-
-            zone = site.ResolveTimeZone();
-        }
-        catch (ConfigurationException ex)
-        {
-            stderr.WriteLine($"humwatch summary: {ex.Message}");
             return ExitCodes.BadInput;
         }
+
+        var storeOptions = bound.Store;
+        var options = bound.Summaries;
+        var zone = bound.Site.ResolveTimeZone();
 
         if (!File.Exists(storeOptions.Path))
         {
@@ -92,7 +74,7 @@ internal static class SummaryCommand
 
         try
         {
-            return list ? List(storeOptions, zone, stdout) : Render(storeOptions, options, site.Name, zone, day, stream, output, stdout, stderr);
+            return list ? List(storeOptions, zone, stdout) : Render(storeOptions, options, bound.Site.Name, zone, day, stream, output, stdout, stderr);
         }
         catch (Exception ex) when (ex is InvalidOperationException or IOException or UnauthorizedAccessException)
         {
@@ -138,13 +120,5 @@ internal static class SummaryCommand
 
         stdout.WriteLine($"Written to {Path.GetFullPath(SummaryOnDemand.DayFolder(output ?? options.Folder, day))}");
         return ExitCodes.Ok;
-    }
-
-    private static T Bind<T>(IConfiguration configuration, string section)
-        where T : new()
-    {
-        var options = new T();
-        ConfigLoader.BindStrict(configuration.GetSection(section), options, section);
-        return options;
     }
 }

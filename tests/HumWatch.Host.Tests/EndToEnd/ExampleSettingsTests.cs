@@ -1,4 +1,4 @@
-using HumWatch.Host.Composition;
+using HumWatch.Host.Configuration;
 using Xunit;
 
 namespace HumWatch.Host.Tests.EndToEnd;
@@ -14,14 +14,7 @@ public sealed class ExampleSettingsTests
     public void A_shipped_settings_file_binds_and_validates(string relativePath)
     {
         var path = Path.Combine(RepositoryRoot(), relativePath);
-        var configuration = HumWatchHost.BuildConfiguration(new HumWatchHostSettings
-        {
-            ConfigFiles = [path],
-            ReadWorkingDirectorySettings = false,
-            EnvironmentPrefix = null,
-        });
-
-        var bound = HumWatchHost.BoundOptions.From(configuration);
+        var bound = SettingsBuilder.Build(SettingsSources.Isolated(configFiles: [path]));
 
         Assert.NotEmpty(bound.Analysis.Sources.DisplayRatesHz);
     }
@@ -29,14 +22,7 @@ public sealed class ExampleSettingsTests
     [Fact]
     public void A_configured_display_list_replaces_the_default_list()
     {
-        var configuration = HumWatchHost.BuildConfiguration(new HumWatchHostSettings
-        {
-            ReadWorkingDirectorySettings = false,
-            EnvironmentPrefix = null,
-            Overrides = new Dictionary<string, string?> { ["Analysis:Sources:DisplayRatesHz:0"] = "75" },
-        });
-
-        var bound = HumWatchHost.BoundOptions.From(configuration);
+        var bound = SettingsBuilder.Build(SettingsSources.Isolated(new Dictionary<string, string?> { ["Analysis:Sources:DisplayRatesHz:0"] = "75" }));
 
         Assert.Equal([75.0], bound.Analysis.Sources.DisplayRatesHz);
     }
@@ -44,14 +30,9 @@ public sealed class ExampleSettingsTests
     [Fact]
     public void A_misspelt_key_is_refused_with_its_name()
     {
-        var configuration = HumWatchHost.BuildConfiguration(new HumWatchHostSettings
-        {
-            ReadWorkingDirectorySettings = false,
-            EnvironmentPrefix = null,
-            Overrides = new Dictionary<string, string?> { ["Alerts:RaiseAfterFrame"] = "4" },
-        });
+        var sources = SettingsSources.Isolated(new Dictionary<string, string?> { ["Alerts:RaiseAfterFrame"] = "4" });
 
-        var ex = Assert.Throws<HumWatch.Host.Configuration.ConfigurationException>(() => HumWatchHost.BoundOptions.From(configuration));
+        var ex = Assert.Throws<ConfigurationException>(() => SettingsBuilder.Build(sources));
 
         Assert.Contains("RaiseAfterFrame", ex.Message, StringComparison.Ordinal);
     }

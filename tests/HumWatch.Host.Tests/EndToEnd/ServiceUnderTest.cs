@@ -61,7 +61,7 @@ internal sealed class ServiceUnderTest : IAsyncDisposable
         ["Ingest:QueueCapacity"] = "100000",
     };
 
-    public static async Task<ServiceUnderTest> StartAsync(string folder, IReadOnlyDictionary<string, string?>? extra = null, Action<IServiceCollection, Microsoft.Extensions.Configuration.IConfiguration>? configureServices = null)
+    public static async Task<ServiceUnderTest> StartAsync(string folder, IReadOnlyDictionary<string, string?>? extra = null, Action<IServiceCollection, HumWatch.Host.Configuration.BoundSettings>? configureServices = null)
     {
         var settings = Settings(folder);
         foreach (var (key, value) in extra ?? new Dictionary<string, string?>())
@@ -71,9 +71,7 @@ internal sealed class ServiceUnderTest : IAsyncDisposable
 
         var host = HumWatchHost.Build(new HumWatchHostSettings
         {
-            Overrides = settings,
-            ReadWorkingDirectorySettings = false,
-            EnvironmentPrefix = null,
+            Sources = HumWatch.Host.Configuration.SettingsSources.Isolated(settings),
             ConfigureServices = configureServices,
         });
         await host.StartAsync();

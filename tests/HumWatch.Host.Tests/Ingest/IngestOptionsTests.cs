@@ -1,6 +1,6 @@
 using HumWatch.Formats.Wire;
+using HumWatch.Host.Configuration;
 using HumWatch.Host.Ingest;
-using Microsoft.Extensions.Configuration;
 using Microsoft.Extensions.DependencyInjection;
 using Microsoft.Extensions.Options;
 using Xunit;
@@ -38,13 +38,11 @@ public sealed class IngestOptionsTests
     [InlineData("BufferBytes", "1048575", "Ingest:BufferBytes must be between 1048576 (1 MiB) and 68719476736 (64 GiB); it is 1048575.")]
     [InlineData("BufferBytes", "68719476737", "Ingest:BufferBytes must be between 1048576 (1 MiB) and 68719476736 (64 GiB)")]
     [InlineData("BufferBytes", "8388608", "Ingest:BufferBytes (8388608) must be at least Ingest:MaxMessageBytes (16777216)")]
-    public void Bad_setting_fails_at_start_with_a_message_naming_the_key(string key, string value, string expected)
+    public void Bad_setting_is_refused_with_a_message_naming_the_key(string key, string value, string expected)
     {
         var settings = new Dictionary<string, string?> { ["Ingest:Endpoints:0:Address"] = "tcp://127.0.0.1:*" };
         settings[key.StartsWith("Max", StringComparison.Ordinal) || key.StartsWith("Queue", StringComparison.Ordinal) || key.StartsWith("Buffer", StringComparison.Ordinal) ? $"Ingest:{key}" : $"Ingest:Endpoints:0:{key}"] = value;
-        using var provider = Build(settings);
-
-        var ex = Assert.Throws<OptionsValidationException>(() => provider.GetRequiredService<IOptions<IngestOptions>>().Value);
+        var ex = Assert.Throws<ConfigurationException>(() => Build(settings));
 
         Assert.Contains(expected, ex.Message, StringComparison.Ordinal);
     }
@@ -97,12 +95,21 @@ public sealed class IngestOptionsTests
     public void Loopback_addresses_are_recognised(string address, bool localOnly) => // RFC 1122 §3.2.1.3: 127/8 is loopback; RFC 4291 §2.5.3: ::1
         Assert.Equal(localOnly, IngestOptionsValidator.IsLocalOnly(address));
 
+    [Fact]
+    public void A_misspelt_ingest_key_is_refused_with_its_name()
+    {
+        var ex = Assert.Throws<ConfigurationException>(() => Build(new Dictionary<string, string?> { ["Ingest:QueueCapasity"] = "64" }));
+
+        Assert.Contains("Ingest", ex.Message, StringComparison.Ordinal);
+        Assert.Contains("QueueCapasity", ex.Message, StringComparison.Ordinal);
+    }
+
     private static ServiceProvider Build(Dictionary<string, string?> settings)
     {
-        var configuration = new ConfigurationBuilder().AddInMemoryCollection(settings).Build();
+        var bound = SettingsBuilder.Build(SettingsSources.Isolated(settings));
         var services = new ServiceCollection();
         services.AddLogging();
-        services.AddHumWatchIngest(configuration);
+        services.AddHumWatchIngest(bound.Ingest);
         return services.BuildServiceProvider();
     }
 }

@@ -103,9 +103,7 @@ public sealed class PooledChunkOwnershipTests
 
         return HumWatchHost.Build(new HumWatchHostSettings
         {
-            Overrides = settings,
-            ReadWorkingDirectorySettings = false,
-            EnvironmentPrefix = null,
+            Sources = HumWatch.Host.Configuration.SettingsSources.Isolated(settings),
             ConfigureServices = (services, _) => services.TryAddSingleton(pool),
         });
     }

@@ -1,0 +1,140 @@
+using HumWatch.Core.Alerts;
+using HumWatch.Core.Analysis;
+using HumWatch.Core.Reporting;
+using HumWatch.Host.Composition;
+using HumWatch.Host.Inbox;
+using HumWatch.Host.Ingest;
+using HumWatch.Host.Monitoring;
+using HumWatch.Host.Publishing;
+using HumWatch.Host.Store;
+using HumWatch.Host.Summaries;
+using Microsoft.Extensions.Configuration;
+
+namespace HumWatch.Host.Configuration;
+
+/// <summary>
+/// Every options class, bound once from one layered configuration and validated together. The service's registrations,
+/// `check` and `summary` all take their options from here; nothing else binds configuration.
+/// </summary>
+public sealed class BoundSettings
+{
+    private BoundSettings(
+        AnalysisOptions analysis,
+        CheckLimits check,
+        AlertOptions alerts,
+        MonitorOptions monitor,
+        PublishOptions publish,
+        StoreOptions store,
+        InboxOptions inbox,
+        SiteOptions site,
+        LogOptions logs,
+        IngestOptions ingest,
+        SummariesOptions summaries)
+    {
+        Analysis = analysis;
+        Check = check;
+        Alerts = alerts;
+        Monitor = monitor;
+        Publish = publish;
+        Store = store;
+        Inbox = inbox;
+        Site = site;
+        Logs = logs;
+        Ingest = ingest;
+        Summaries = summaries;
+    }
+
+    /// <summary>Section "Analysis".</summary>
+    public AnalysisOptions Analysis { get; }
+
+    /// <summary>Section "Check".</summary>
+    public CheckLimits Check { get; }
+
+    /// <summary>Section "Alerts".</summary>
+    public AlertOptions Alerts { get; }
+
+    /// <summary>Section "Monitor".</summary>
+    public MonitorOptions Monitor { get; }
+
+    /// <summary>Section "Publish".</summary>
+    public PublishOptions Publish { get; }
+
+    /// <summary>Section "Store".</summary>
+    public StoreOptions Store { get; }
+
+    /// <summary>Section "Inbox".</summary>
+    public InboxOptions Inbox { get; }
+
+    /// <summary>Section "Site".</summary>
+    public SiteOptions Site { get; }
+
+    /// <summary>Section "Logs".</summary>
+    public LogOptions Logs { get; }
+
+    /// <summary>Section "Ingest".</summary>
+    public IngestOptions Ingest { get; }
+
+    /// <summary>Section "Summaries".</summary>
+    public SummariesOptions Summaries { get; }
+
+    /// <summary>Binds every section strictly (unknown keys are errors) and validates all of them.</summary>
+    /// <exception cref="ConfigurationException">Every problem at once, one line each, each naming its key.</exception>
+    public static BoundSettings Bind(IConfiguration configuration)
+    {
+        ArgumentNullException.ThrowIfNull(configuration);
+        var errors = new List<string>();
+        var analysis = Section<AnalysisOptions>(configuration, "Analysis", errors, o => o.Validate(), ReplaceConfiguredSourceLists);
+        var check = Section<CheckLimits>(configuration, "Check", errors, o => o.Validate());
+        var alerts = Section<AlertOptions>(configuration, "Alerts", errors, o => o.Validate());
+        var monitor = Section<MonitorOptions>(configuration, "Monitor", errors, o => o.Validate());
+        var publish = Section<PublishOptions>(configuration, "Publish", errors, o => o.Validate());
+        var store = Section<StoreOptions>(configuration, "Store", errors, o => o.Validate());
+        var inbox = Section<InboxOptions>(configuration, "Inbox", errors, o => o.Validate());
+        var site = Section<SiteOptions>(configuration, "Site", errors, o => o.Validate());
+        var logs = Section<LogOptions>(configuration, "Logs", errors, o => o.Validate());
+        var ingest = Section<IngestOptions>(configuration, IngestOptions.SectionName, errors, o => new IngestOptionsValidator().Validate(null, o).Failures?.ToList() ?? []);
+        var summaries = Section<SummariesOptions>(configuration, SummariesOptions.SectionName, errors, o => o.Validate());
+        if (errors.Count > 0)
+        {
+            throw new ConfigurationException(string.Join(Environment.NewLine, errors));
+        }
+
+        return new BoundSettings(analysis, check, alerts, monitor, publish, store, inbox, site, logs, ingest, summaries);
+    }
+
+    private static T Section<T>(IConfiguration configuration, string name, List<string> errors, Func<T, IReadOnlyList<string>> validate, Action<IConfigurationSection, T>? prepare = null)
+        where T : new()
+    {
+        var options = new T();
+        var section = configuration.GetSection(name);
+        prepare?.Invoke(section, options);
+        try
+        {
+            section.Bind(options, o => o.ErrorOnUnknownConfiguration = true);
+        }
+        catch (InvalidOperationException ex)
+        {
+            // A half-bound section would only add follow-on errors; its binding error is the one to fix.
+            errors.Add($"{name}: {ex.Message}");
+            return options;
+        }
+
+        errors.AddRange(validate(options));
+        return options;
+    }
+
+    /// <summary>The binder appends to a list that already has items; a configured list must replace the default one.</summary>
+    private static void ReplaceConfiguredSourceLists(IConfigurationSection analysis, AnalysisOptions options)
+    {
+        var sources = analysis.GetSection("Sources");
+        if (sources.GetSection(nameof(options.Sources.DisplayRatesHz)).Exists())
+        {
+            options.Sources.DisplayRatesHz.Clear();
+        }
+
+        if (sources.GetSection(nameof(options.Sources.SiteTones)).Exists())
+        {
+            options.Sources.SiteTones.Clear();
+        }
+    }
+}
