@@ -166,17 +166,18 @@ public sealed class ScenarioTests
         var analyzer = new StreamAnalyzer(simulator.Layout, new AnalysisOptions());
         var sink = new LineCounter();
 
-        // What users see — the check report's lines (a peak must persist for 3 frames, Check:MinLineFrames) and the
+        // What users see — the check report's lines (a peak must persist for 3 frames, Analysis:Tracking:PersistFrames) and the
         // service's alerts (raised after 3 frames) — must stay at zero: no false alarm at all.
-        var report = new HumWatch.Core.Reporting.RecordingAccumulator(hopSeconds: 2, mergeGapSeconds: 8, minLineFrames: new HumWatch.Core.Reporting.CheckLimits().MinLineFrames);
+        var report = new HumWatch.Core.Reporting.RecordingAccumulator(hopSeconds: 2, mergeGapSeconds: 8);
         var alerts = new HumWatch.Core.Alerts.AlertBook("clean-room", new HumWatch.Core.Alerts.AlertOptions());
         var raised = new RaiseCounter();
         var buffer = new float[256 * 32 * 10];
+        var tracked = new HumWatch.Core.Tracking.LineTracker(new AnalysisOptions(), new Fanout(sink, report, frame => alerts.Observe(frame, DateTimeOffset.UnixEpoch.AddSeconds(frame.EndSeconds), raised)));
         for (var t = 0; t < 40 * 60; t += 10)
         {
             var first = simulator.PositionSamples;
             simulator.Fill(buffer, 2560);
-            analyzer.Append(new Signals.SampleChunk(simulator.Layout, first, 2560, buffer), new Fanout(sink, report, frame => alerts.Observe(frame, DateTimeOffset.UnixEpoch.AddSeconds(frame.EndSeconds), raised)));
+            analyzer.Append(new Signals.SampleChunk(simulator.Layout, first, 2560, buffer), tracked);
         }
 
         Assert.Equal(1197, sink.Frames);
