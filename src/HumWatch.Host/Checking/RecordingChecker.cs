@@ -5,12 +5,13 @@ using HumWatch.Core.Faults;
 using HumWatch.Core.Reporting;
 using HumWatch.Core.Spectra;
 using HumWatch.Formats;
+using HumWatch.Host.Monitoring;
 
 namespace HumWatch.Host.Checking;
 
 /// <summary>
 /// Runs one recording file through the analysis, group by group, and builds its report. Shared by the `check`
-/// command and the folder inbox (which adds its own frame sinks for alerts and the ledger).
+/// command and the folder inbox (whose stream sessions take the frames and hand them on to the report).
 /// </summary>
 public sealed class RecordingChecker
 {
@@ -42,17 +43,22 @@ public sealed class RecordingChecker
     /// </summary>
     /// <param name="path">The recording.</param>
     /// <param name="progress">Receives the share of the recording read so far, 0..1.</param>
-    /// <param name="extraSinks">Optional: per signal group, another sink to feed the same frames to.</param>
-    public CheckReport Check(
+    public CheckReport Check(string path, IProgress<double>? progress = null, CancellationToken cancellationToken = default) =>
+        Check(path, progress, sessionFor: null, cancellationToken);
+
+    /// <summary>Checks one file, each signal group's frames going through a stream session (the folder inbox).</summary>
+    /// <param name="sessionFor">Per signal group, the session that takes its frames, given the group's report
+    /// accumulator to hand them on to (<see cref="StreamSessionFactory.CreateForFileGroup"/>); null: the report takes them directly.</param>
+    internal CheckReport Check(
         string path,
-        IProgress<double>? progress = null,
-        Func<SignalGroup, IAnalysisFrameSink?>? extraSinks = null,
-        CancellationToken cancellationToken = default)
+        IProgress<double>? progress,
+        Func<SignalGroup, RecordingAccumulator, StreamSession>? sessionFor,
+        CancellationToken cancellationToken)
     {
         ArgumentException.ThrowIfNullOrEmpty(path);
         try
         {
-            return CheckReadable(path, progress, extraSinks, cancellationToken);
+            return CheckReadable(path, progress, sessionFor, cancellationToken);
         }
         catch (RecordingFormatException ex)
         {
@@ -74,7 +80,7 @@ public sealed class RecordingChecker
     private CheckReport CheckReadable(
         string path,
         IProgress<double>? progress,
-        Func<SignalGroup, IAnalysisFrameSink?>? extraSinks,
+        Func<SignalGroup, RecordingAccumulator, StreamSession>? sessionFor,
         CancellationToken cancellationToken)
     {
         using var reader = RecordingReader.Open(path);
@@ -101,8 +107,9 @@ public sealed class RecordingChecker
         {
             // A line absent for a whole span is a new episode; a single missed frame is not.
             accumulators[g] = new RecordingAccumulator(hop, _analysis.Spectra.SpanSeconds, _limits.MinLineFrames);
-            var extra = extraSinks?.Invoke(groups[g]);
-            sinks[g] = extra is null ? accumulators[g] : new FrameSinkFanout(accumulators[g], extra);
+
+            // A session is the one fan-out point of the group's frames (report first); without one the report is the only consumer.
+            sinks[g] = sessionFor is null ? accumulators[g] : sessionFor(groups[g], accumulators[g]);
         }
 
         // One long file on several cores: split it in time when the format allows, else spread each group's spectra.

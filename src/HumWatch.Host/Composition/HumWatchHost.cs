@@ -1,5 +1,6 @@
 using HumWatch.Core.Alerts;
 using HumWatch.Core.Analysis;
+using HumWatch.Core.Ledger;
 using HumWatch.Core.Reporting;
 using HumWatch.Host.Configuration;
 using HumWatch.Host.Inbox;
@@ -75,15 +76,18 @@ public static class HumWatchHost
         services.AddSingleton(Options.Create(bound.Site));
         services.AddSingleton(sp => new HumWatchStore(bound.Store, sp.GetRequiredService<TimeProvider>()));
         services.AddSingleton<IAlertEventStore>(sp => sp.GetRequiredService<HumWatchStore>());
-        services.AddSingleton(sp => new LedgerWriter(sp.GetRequiredService<HumWatchStore>(), sp.GetRequiredService<ILogger<LedgerWriter>>()));
-        services.AddSingleton<IMinuteRowWriter>(sp => new StoreMinuteRowWriter(sp.GetRequiredService<LedgerWriter>()));
+        services.AddSingleton(sp => new LedgerWriter(sp.GetRequiredService<HumWatchStore>(), sp.GetRequiredService<ILogger<LedgerWriter>>(), sp.GetRequiredService<TimeProvider>()));
+        services.AddSingleton<IMinuteRowSink>(sp => sp.GetRequiredService<LedgerWriter>());
         services.AddSingleton(sp => new ZmqPublisher(bound.Publish, sp.GetRequiredService<ILogger<ZmqPublisher>>()));
         services.AddSingleton<IMessagePublisher>(sp => sp.GetRequiredService<ZmqPublisher>());
         services.AddSingleton<AlertDispatcher>();
         services.AddSingleton<IAlertEventSink>(sp => sp.GetRequiredService<AlertDispatcher>());
 
+        services.AddSingleton<StreamSessionFactory>();
+
         // Hosted services stop in reverse order: ingest (added last) stops taking input first, then the inbox, then
-        // the stream monitors drain what they hold and close their alerts.
+        // the stream monitors drain what they hold and close their alerts, then the ledger writer writes the last rows.
+        services.AddHostedService(sp => sp.GetRequiredService<LedgerWriter>());
         services.AddSingleton<StreamMonitorService>();
         services.AddHostedService(sp => sp.GetRequiredService<StreamMonitorService>());
         services.AddSingleton<InboxService>();

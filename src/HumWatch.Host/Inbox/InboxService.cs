@@ -1,10 +1,7 @@
 using System.Security.Cryptography;
 using System.Text;
 using System.Text.Json;
-using HumWatch.Core.Alerts;
-using HumWatch.Core.Analysis;
 using HumWatch.Core.Reporting;
-using HumWatch.Core.Summaries;
 using HumWatch.Host.Checking;
 using HumWatch.Host.Configuration;
 using HumWatch.Host.Monitoring;
@@ -24,46 +21,35 @@ namespace HumWatch.Host.Inbox;
 internal sealed class InboxService : BackgroundService
 {
     private readonly InboxOptions _options;
-    private readonly AnalysisOptions _analysis;
     private readonly CheckLimits _limits;
-    private readonly AlertOptions _alerts;
-    private readonly MonitorOptions _monitor;
     private readonly TimeZoneInfo _zone;
     private readonly HumWatchStore _store;
-    private readonly IAlertEventSink _alertSink;
-    private readonly IMinuteRowWriter _rowWriter;
+    private readonly StreamSessionFactory _sessions;
+    private readonly LedgerWriter _ledger;
     private readonly TimeProvider _time;
-    private readonly ISpectrumPartSink? _spectrumSink;
     private readonly ILogger _logger;
     private readonly Dictionary<string, (long Size, DateTime WriteUtc, long SeenTicks)> _candidates = new(StringComparer.Ordinal);
     private readonly SemaphoreSlim _wake = new(0, 1);
     private FileSystemWatcher? _watcher;
 
+    /// <param name="sessions">Makes each file's stream sessions (alerts, ledger, spectra), as for live streams.</param>
+    /// <param name="ledger">The ledger writer the sessions' rows go to; a file's rows are written before its journal entry is completed.</param>
     public InboxService(
         IOptions<InboxOptions> options,
-        AnalysisOptions analysis,
         IOptions<CheckLimits> limits,
-        IOptions<AlertOptions> alerts,
-        IOptions<MonitorOptions> monitor,
         IOptions<SiteOptions> site,
         HumWatchStore store,
-        IAlertEventSink alertSink,
-        IMinuteRowWriter rowWriter,
-        TimeProvider time,
-        ILogger<InboxService> logger,
-        ISpectrumPartSink? spectrumSink = null)
+        StreamSessionFactory sessions,
+        LedgerWriter ledger,
+        ILogger<InboxService> logger)
     {
-        _spectrumSink = spectrumSink;
         _options = options.Value;
-        _analysis = analysis;
         _limits = limits.Value;
-        _alerts = alerts.Value;
-        _monitor = monitor.Value;
         _zone = site.Value.ResolveTimeZone();
         _store = store;
-        _alertSink = alertSink;
-        _rowWriter = rowWriter;
-        _time = time;
+        _sessions = sessions;
+        _ledger = ledger;
+        _time = sessions.Time;
         _logger = logger;
     }
 
@@ -202,36 +188,29 @@ internal sealed class InboxService : BackgroundService
             return;
         }
 
-        var checker = new RecordingChecker(_analysis, _limits);
+        var checker = new RecordingChecker(_sessions.Analysis, _limits);
+        DateTimeOffset? recordingStartUtc = null;
         var sessions = new List<StreamSession>();
         var report = checker.Check(
             file.FullName,
-            extraSinks: group =>
+            progress: null,
+            sessionFor: (group, groupReport) =>
             {
-                var groupStream = group.Index == 0 ? streamId : $"{streamId}.{group.Layout.SampleRateHz:0}hz";
-                var session = new StreamSession(
-                    groupStream,
-                    $"file:{sha256}:{group.Index}",
-                    group.Layout,
-                    _analysis,
-                    _alerts,
-                    _monitor.LedgerMinAmplitudeUvRms,
-                    _monitor.LedgerMinLineFrames,
-                    _alertSink,
-                    _time.GetUtcNow,
-                    RecordingStartUtc(file),
-                    ownAnalyzer: false,
-                    spectrumSink: _spectrumSink);
+                // Read inside the check, and once: a read failure here becomes the file's error report.
+                recordingStartUtc ??= RecordingStartUtc(file);
+                var session = _sessions.CreateForFileGroup(streamId, sha256, group, recordingStartUtc.Value, groupReport);
                 sessions.Add(session);
                 return session;
             },
-            cancellationToken: cancellationToken);
+            cancellationToken);
 
         foreach (var session in sessions)
         {
             session.End();
-            _rowWriter.Write(session.TakeRows());
         }
+
+        // The file's minute rows reach the store (or the writer's retry backlog) before its journal entry is completed.
+        _ledger.Flush();
 
         if (report.Error is not null)
         {

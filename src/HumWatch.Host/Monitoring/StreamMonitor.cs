@@ -1,31 +1,26 @@
 using System.Threading.Channels;
-using HumWatch.Core.Alerts;
 using HumWatch.Core.Analysis;
-using HumWatch.Core.Ledger;
 using HumWatch.Core.Signals;
-using HumWatch.Core.Summaries;
 using HumWatch.Host.Ingest;
 using Microsoft.Extensions.Logging;
 
 namespace HumWatch.Host.Monitoring;
 
 /// <summary>
-/// Runs one live stream: a bounded queue of chunks and one worker on the thread pool that feeds them through the
-/// stream's current session. A change of rate or channels ends the session and starts a new one. The monitor owns every
-/// chunk posted to it and releases each exactly once: after the analyser consumed it, or when it cannot be queued.
+/// Runs one live stream: a bounded queue of chunks and one worker on the thread pool that feeds them to the stream's
+/// analyser, whose frames go to the current session. A change of rate or channels ends the session and starts a new one
+/// with a new analyser. The monitor owns every chunk posted to it and releases each exactly once: after the analyser
+/// consumed it, or when it cannot be queued.
 /// </summary>
 internal sealed class StreamMonitor : IAsyncDisposable
 {
     private readonly Channel<MonitorItem> _queue;
-    private readonly AnalysisOptions _analysis;
-    private readonly AlertOptions _alerts;
+    private readonly StreamSessionFactory _sessions;
     private readonly MonitorOptions _options;
-    private readonly IAlertEventSink _alertSink;
-    private readonly IMinuteRowWriter _rowWriter;
-    private readonly ISpectrumPartSink? _spectrumSink;
     private readonly TimeProvider _time;
     private readonly ILogger _logger;
     private readonly Task _worker;
+    private StreamAnalyzer? _analyzer;
     private StreamSession? _session;
     private long _lastGapCount;
     private long _dropped;
@@ -33,28 +28,16 @@ internal sealed class StreamMonitor : IAsyncDisposable
     private long _lastInputTicks;
     private volatile bool _closed;
 
-    public StreamMonitor(
-        string streamId,
-        AnalysisOptions analysis,
-        AlertOptions alerts,
-        MonitorOptions options,
-        IAlertEventSink alertSink,
-        IMinuteRowWriter rowWriter,
-        TimeProvider time,
-        ILogger logger,
-        ISpectrumPartSink? spectrumSink = null)
+    /// <param name="sessions">Makes the stream's sessions; its options, sinks and clock are the monitor's too.</param>
+    public StreamMonitor(string streamId, StreamSessionFactory sessions, ILogger logger)
     {
-        _spectrumSink = spectrumSink;
         StreamId = streamId;
-        _analysis = analysis;
-        _alerts = alerts;
-        _options = options;
-        _alertSink = alertSink;
-        _rowWriter = rowWriter;
-        _time = time;
+        _sessions = sessions;
+        _options = sessions.Monitor;
+        _time = sessions.Time;
         _logger = logger;
-        _lastInputTicks = time.GetTimestamp();
-        _queue = Channel.CreateBounded<MonitorItem>(new BoundedChannelOptions(options.StreamQueueCapacity)
+        _lastInputTicks = _time.GetTimestamp();
+        _queue = Channel.CreateBounded<MonitorItem>(new BoundedChannelOptions(_options.StreamQueueCapacity)
         {
             SingleReader = true,
             SingleWriter = false,
@@ -154,33 +137,33 @@ internal sealed class StreamMonitor : IAsyncDisposable
             StartSession(chunk.Layout);
         }
 
+        var analyzer = _analyzer!;
         var session = _session!;
         var framesBefore = session.FramesAnalysed;
         try
         {
-            session.Append(chunk);
+            analyzer.Append(chunk, session);
         }
         catch (Exception ex) when (ex is not OutOfMemoryException)
         {
             // By design: a chunk that fails analysis must not take the stream down; the span restarts with the next one.
             _logger.ChunkFailed(ex, StreamId);
-            session.RestartAnalysis();
+            analyzer.Reset();
         }
 
         FramesAnalysed += session.FramesAnalysed - framesBefore;
-        if (session.GapCount != _lastGapCount)
+        if (analyzer.GapCount != _lastGapCount)
         {
-            _lastGapCount = session.GapCount;
+            _lastGapCount = analyzer.GapCount;
             _logger.GapDetected(StreamId, _lastGapCount);
         }
-
-        WriteRows(session.TakeRows());
     }
 
     private void StartSession(StreamLayout layout)
     {
-        var sessionId = $"{StreamId}@{_time.GetUtcNow().UtcTicks}";
-        _session = new StreamSession(StreamId, sessionId, layout, _analysis, _alerts, _options.LedgerMinAmplitudeUvRms, _options.LedgerMinLineFrames, _alertSink, _time.GetUtcNow, spectrumSink: _spectrumSink);
+        // The analyser first: a layout it cannot take leaves no session behind.
+        _analyzer = new StreamAnalyzer(layout, _sessions.Analysis);
+        _session = _sessions.CreateLive(StreamId, layout);
         _lastGapCount = 0;
         _logger.SessionStarted(StreamId, layout.ChannelCount, layout.SampleRateHz);
     }
@@ -192,14 +175,12 @@ internal sealed class StreamMonitor : IAsyncDisposable
             return;
         }
 
+        // Minute rows go straight to the ledger writer, which writes them (and retries refused ones) on its own.
         _session.End();
-        WriteRows(_session.TakeRows());
         _logger.SessionEnded(StreamId, reason, _session.FramesAnalysed);
         _session = null;
+        _analyzer = null;
     }
-
-    // The writer keeps rows the store refused and retries them with the next call, so call it even with none.
-    private void WriteRows(IReadOnlyList<MinuteRow> rows) => _rowWriter.Write(rows);
 
     private async Task RunAsync()
     {

@@ -1,7 +1,4 @@
 using System.Collections.Concurrent;
-using HumWatch.Core.Alerts;
-using HumWatch.Core.Analysis;
-using HumWatch.Core.Summaries;
 using HumWatch.Host.Ingest;
 using HumWatch.Host.Publishing;
 using Microsoft.Extensions.Hosting;
@@ -18,14 +15,10 @@ internal sealed class StreamMonitorService : BackgroundService
 {
     private readonly IngestQueue _queue;
     private readonly IngestCounters _counters;
-    private readonly AnalysisOptions _analysis;
-    private readonly AlertOptions _alerts;
+    private readonly StreamSessionFactory _sessions;
     private readonly MonitorOptions _options;
     private readonly PublishOptions _publish;
-    private readonly IAlertEventSink _alertSink;
-    private readonly IMinuteRowWriter _rowWriter;
     private readonly IMessagePublisher _publisher;
-    private readonly ISpectrumPartSink? _spectrumSink;
     private readonly TimeProvider _time;
     private readonly ILoggerFactory _loggerFactory;
     private readonly ILogger _logger;
@@ -35,31 +28,21 @@ internal sealed class StreamMonitorService : BackgroundService
     public StreamMonitorService(
         IngestQueue queue,
         IngestCounters counters,
-        AnalysisOptions analysis,
-        IOptions<AlertOptions> alerts,
-        IOptions<MonitorOptions> options,
+        StreamSessionFactory sessions,
         IOptions<PublishOptions> publish,
-        IAlertEventSink alertSink,
-        IMinuteRowWriter rowWriter,
         IMessagePublisher publisher,
-        TimeProvider time,
-        ILoggerFactory loggerFactory,
-        ISpectrumPartSink? spectrumSink = null)
+        ILoggerFactory loggerFactory)
     {
-        _spectrumSink = spectrumSink;
         _queue = queue;
         _counters = counters;
-        _analysis = analysis;
-        _alerts = alerts.Value;
-        _options = options.Value;
+        _sessions = sessions;
+        _options = sessions.Monitor;
         _publish = publish.Value;
-        _alertSink = alertSink;
-        _rowWriter = rowWriter;
         _publisher = publisher;
-        _time = time;
+        _time = sessions.Time;
         _loggerFactory = loggerFactory;
         _logger = loggerFactory.CreateLogger<StreamMonitorService>();
-        _tooManyThrottle = new WarningThrottle(time, TimeSpan.FromSeconds(10));
+        _tooManyThrottle = new WarningThrottle(_time, TimeSpan.FromSeconds(10));
     }
 
     /// <summary>Streams currently held.</summary>
@@ -105,8 +88,7 @@ internal sealed class StreamMonitorService : BackgroundService
                 return;
             }
 
-            monitor = _monitors.GetOrAdd(item.StreamId, id => new StreamMonitor(
-                id, _analysis, _alerts, _options, _alertSink, _rowWriter, _time, _loggerFactory.CreateLogger($"HumWatch.Stream.{id}"), _spectrumSink));
+            monitor = _monitors.GetOrAdd(item.StreamId, id => new StreamMonitor(id, _sessions, _loggerFactory.CreateLogger($"HumWatch.Stream.{id}")));
         }
 
         if (!monitor.TryPost(item, out var reason))

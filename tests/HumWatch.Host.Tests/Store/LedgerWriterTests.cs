@@ -66,4 +66,43 @@ public sealed class LedgerWriterTests : IDisposable
         Assert.Equal(2, logger.Entries.Count(e => e.EventId.Id == 3101));
         Assert.False(writer.Flush());
     }
+
+    /// <summary>Hands a row in while the write is under way (as a session would from another thread), then refuses the write once.</summary>
+    private sealed class RowDuringWriteStore(Func<LedgerWriter> writer, MinuteRow lateRow) : ILedgerStore
+    {
+        private bool _refused;
+
+        public List<MinuteRow> Written { get; } = [];
+
+        public int AddMinuteRows(IReadOnlyList<MinuteRow> rows)
+        {
+            if (!_refused)
+            {
+                _refused = true;
+                writer().OnMinuteRow(lateRow);
+                throw new IOException("database is locked");
+            }
+
+            Written.AddRange(rows);
+            return rows.Count;
+        }
+    }
+
+    [Fact]
+    public void Rows_handed_in_during_a_refused_write_queue_behind_the_refused_ones()
+    {
+        LedgerWriter? writer = null;
+        var late = Some.Row("s", 3, 20, 0, 1, 1);
+        var store = new RowDuringWriteStore(() => writer!, late);
+        writer = new LedgerWriter(store, new RecordingLogger<LedgerWriter>());
+        writer.OnMinuteRow(Some.Row("s", 1, 20, 0, 1, 1));
+        writer.OnMinuteRow(Some.Row("s", 2, 20, 0, 1, 1));
+
+        Assert.False(writer.Flush());
+        Assert.Equal(3, writer.PendingCount);
+        Assert.True(writer.Flush());
+
+        Assert.Equal([1L, 2L, 3L], store.Written.Select(r => r.Sequence));
+        Assert.Equal(0, writer.PendingCount);
+    }
 }

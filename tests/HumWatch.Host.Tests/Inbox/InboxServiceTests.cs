@@ -1,0 +1,181 @@
+using System.Security.Cryptography;
+using HumWatch.Core.Alerts;
+using HumWatch.Core.Ledger;
+using HumWatch.Core.Reporting;
+using HumWatch.Core.Signals;
+using HumWatch.Formats;
+using HumWatch.Formats.Edf;
+using HumWatch.Host.Configuration;
+using HumWatch.Host.Inbox;
+using HumWatch.Host.Monitoring;
+using HumWatch.Host.Store;
+using HumWatch.Host.Tests.EndToEnd;
+using HumWatch.Host.Tests.Monitoring;
+using HumWatch.Host.Tests.Publishing.Support;
+using HumWatch.Simulation;
+using Microsoft.Extensions.Options;
+using Microsoft.Extensions.Time.Testing;
+using Xunit;
+
+namespace HumWatch.Host.Tests.Inbox;
+
+public sealed class InboxServiceTests : IDisposable
+{
+    // ServiceEndToEndTests.WriteRecording stamps files 2026-05-04 11:00 local; the site's zone here is UTC.
+    private static readonly DateTimeOffset RecordingStartUtc = new(2026, 5, 4, 11, 0, 0, TimeSpan.Zero);
+
+    private readonly TempDirectory _temp = new();
+
+    public void Dispose() => _temp.Dispose();
+
+    private string Inbox => _temp.File("inbox");
+
+    private string Archive => _temp.File("archive");
+
+    [Fact]
+    public async Task A_dropped_file_and_the_same_samples_streamed_live_give_the_same_alerts_minute_rows_and_spectra()
+    {
+        using var store = OpenStore();
+        using var filed = new SessionHarness();
+        var inbox = NewInbox(store, filed);
+        var dropped = Path.Combine(Inbox, "ward-2", "visit.edf");
+        Directory.CreateDirectory(Path.GetDirectoryName(dropped)!);
+        ServiceEndToEndTests.WriteRecording(dropped, Rooms.WithMains("ward-2", onSeconds: 0, offSeconds: null), seconds: 150);
+        var sha256 = Sha256Of(dropped);
+
+        Assert.Equal(1, inbox.ScanOnce());
+
+        // The same samples, as the reader decodes them from the archived copy, streamed live with their UTC times.
+        using var live = new SessionHarness();
+        var archived = Path.Combine(Archive, "ward-2", "visit.edf");
+        Assert.True(File.Exists(archived));
+        var monitor = live.Monitor("ward-2");
+        SessionHarness.Feed(monitor, Timed(archived, RecordingStartUtc));
+        await monitor.DisposeAsync();
+        live.Writer.Flush();
+
+        // Filed rows reached the store with the file: the inbox writes them before it completes the journal entry.
+        Assert.Equal(0, filed.Writer.PendingCount);
+        Assert.Equal(live.Outputs.Alerts.Select(SessionHarness.Describe), filed.Outputs.Alerts.Select(SessionHarness.Describe));
+        Assert.Equal(live.Outputs.StoredRows.Select(SessionHarness.Describe), filed.Outputs.StoredRows.Select(SessionHarness.Describe));
+        Assert.Equal(live.Outputs.Spectra.Select(SessionHarness.Describe), filed.Outputs.Spectra.Select(SessionHarness.Describe));
+
+        // And they are not trivially equal: a mains alert raised and cleared at the file's end, 150 s over three minutes.
+        Assert.Contains(filed.Outputs.Alerts.OfType<AlertRaised>(), r => r.Source.Kind == Core.Attribution.SourceKind.Mains);
+        Assert.Contains(filed.Outputs.Alerts.OfType<AlertCleared>(), c => c.Reason == AlertClearReason.StreamEnded);
+        var minutes = filed.Outputs.StoredRows.Where(r => r.SourceKey == MinuteLedger.AllSourcesKey).ToList();
+        Assert.Equal([RecordingStartUtc, RecordingStartUtc.AddMinutes(1), RecordingStartUtc.AddMinutes(2)], minutes.Select(r => r.MinuteUtc));
+        Assert.Equal(150, minutes.Sum(r => r.MonitoredSeconds), 9); // 150 one-second records, no gap
+        Assert.All(filed.Outputs.StoredRows, r => Assert.Equal($"file:{sha256}:0", r.SessionId));
+        Assert.Equal(FileJournalState.Archived, store.FindFile(sha256, new FileInfo(archived).Length)?.State);
+    }
+
+    [Fact]
+    public void The_same_content_dropped_again_after_a_restart_is_moved_aside_without_a_second_set_of_alerts_or_rows()
+    {
+        using var store = OpenStore();
+        using var outputs = new SessionHarness();
+        var source = _temp.File("source.edf");
+        ServiceEndToEndTests.WriteRecording(source, Rooms.WithMains("bay-1", onSeconds: 0, offSeconds: null), seconds: 70);
+        Directory.CreateDirectory(Inbox);
+        File.Copy(source, Path.Combine(Inbox, "bay-1.edf"));
+        Assert.Equal(1, NewInbox(store, outputs).ScanOnce());
+        var alerts = outputs.Outputs.Alerts.Count;
+        var rows = outputs.Outputs.StoredRows.Count;
+        var spectra = outputs.Outputs.Spectra.Count;
+        Assert.True(alerts > 0 && rows > 0 && spectra > 0);
+
+        // A new service instance on the same store, as after a restart.
+        File.Copy(source, Path.Combine(Inbox, "bay-1.edf"));
+        Assert.Equal(1, NewInbox(store, outputs).ScanOnce());
+
+        Assert.Equal(alerts, outputs.Outputs.Alerts.Count);
+        Assert.Equal(rows, outputs.Outputs.StoredRows.Count);
+        Assert.Equal(spectra, outputs.Outputs.Spectra.Count);
+        Assert.Equal(2, Directory.GetFiles(Path.Combine(Archive, "bay-1"), "bay-1*.edf").Length);
+        Assert.Single(Directory.GetFiles(Path.Combine(Archive, "bay-1"), "*.report.json"));
+        Assert.Empty(Directory.GetFiles(Inbox, "*", SearchOption.AllDirectories));
+    }
+
+    [Fact]
+    public void Each_rate_of_a_multi_rate_file_is_its_own_stream_with_its_own_session()
+    {
+        using var store = OpenStore();
+        using var outputs = new SessionHarness();
+        var dropped = Path.Combine(Inbox, "lab-9", "mixed.edf");
+        Directory.CreateDirectory(Path.GetDirectoryName(dropped)!);
+        WriteTwoRates(dropped, seconds: 70);
+        var sha256 = Sha256Of(dropped);
+
+        Assert.Equal(1, NewInbox(store, outputs).ScanOnce());
+
+        Assert.Equal(
+            [("lab-9", $"file:{sha256}:0"), ("lab-9.500hz", $"file:{sha256}:1")],
+            outputs.Outputs.StoredRows.Select(r => (r.StreamId, r.SessionId)).Distinct().Order());
+
+        // Both groups carry the simulated mains tone, so each stream raises its own mains alert.
+        Assert.Contains(outputs.Outputs.Alerts.OfType<AlertRaised>(), r => r.StreamId == "lab-9" && r.Source.Kind == Core.Attribution.SourceKind.Mains);
+        Assert.Contains(outputs.Outputs.Alerts.OfType<AlertRaised>(), r => r.StreamId == "lab-9.500hz" && r.Source.Kind == Core.Attribution.SourceKind.Mains);
+    }
+
+    private HumWatchStore OpenStore() => new(new StoreOptions { Path = _temp.File("inbox.db") }, new FakeTimeProvider(RecordingStartUtc));
+
+    private InboxService NewInbox(HumWatchStore store, SessionHarness sessions) => new(
+        Options.Create(new InboxOptions { Folder = Inbox, ArchiveFolder = Archive, RejectedFolder = _temp.File("rejected"), StableSeconds = 0 }),
+        Options.Create(new CheckLimits()),
+        Options.Create(new SiteOptions { TimeZone = "UTC" }),
+        store,
+        sessions.Factory,
+        sessions.Writer,
+        new RecordingLogger<InboxService>());
+
+    /// <summary>The file's chunks as its reader yields them, each stamped with the UTC time of its first sample.</summary>
+    private static IEnumerable<SampleChunk> Timed(string path, DateTimeOffset startUtc)
+    {
+        using var reader = RecordingReader.Open(path);
+        Assert.Single(reader.Info.Groups);
+        foreach (var item in reader.ReadChunks())
+        {
+            var chunk = item.Chunk;
+            var utc = startUtc.AddTicks((long)Math.Round(chunk.FirstSampleIndex / chunk.Layout.SampleRateHz * TimeSpan.TicksPerSecond));
+            yield return new SampleChunk(chunk.Layout, chunk.FirstSampleIndex, chunk.SamplesPerChannel, chunk.SamplesUv, utc);
+        }
+    }
+
+    private static void WriteTwoRates(string path, int seconds)
+    {
+        var slow = Rooms.WithMains("lab-9", onSeconds: 0, offSeconds: null);
+        var fastRoom = new SimulatedRoom
+        {
+            Name = "lab-9-fast",
+            SampleRateHz = 500,
+            Channels = [new SimulatedChannel { Label = "X1" }, new SimulatedChannel { Label = "X2" }],
+            Tones = [new SimulatedTone { Name = "mains", FrequencyHz = 50, AmplitudeUvRms = 8 }],
+        };
+        var fast = new RoomSimulator(fastRoom, seed: 3, Rooms.Start);
+        var slowPerRecord = (int)slow.Layout.SampleRateHz;
+        var fastPerRecord = (int)fast.Layout.SampleRateHz;
+        var options = new EdfWriterOptions
+        {
+            Kind = EdfFileKind.EdfPlusC,
+            StartLocal = new DateTime(2026, 5, 4, 11, 0, 0, DateTimeKind.Unspecified),
+            Signals =
+            [
+                .. slow.Layout.Channels.Select(c => EdfWriterSignal.Edf16(c.Label, slowPerRecord)),
+                .. fast.Layout.Channels.Select(c => EdfWriterSignal.Edf16(c.Label, fastPerRecord)),
+            ],
+        };
+        var record = new float[(slowPerRecord * slow.Layout.ChannelCount) + (fastPerRecord * fast.Layout.ChannelCount)];
+        using var writer = new EdfWriter(path, options);
+        for (var r = 0; r < seconds; r++)
+        {
+            // A record holds each signal's samples in turn: channel-major, as the simulator makes them.
+            var slowPart = slowPerRecord * slow.Layout.ChannelCount;
+            slow.Next(slowPerRecord).SamplesUv.AsSpan(0, slowPart).CopyTo(record);
+            fast.Next(fastPerRecord).SamplesUv.AsSpan().CopyTo(record.AsSpan(slowPart));
+            writer.WriteRecord(record);
+        }
+    }
+
+    private static string Sha256Of(string path) => Convert.ToHexStringLower(SHA256.HashData(File.ReadAllBytes(path)));
+}
