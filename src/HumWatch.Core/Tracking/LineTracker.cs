@@ -44,7 +44,7 @@ public sealed class LineTracker : IAnalysisFrameSink
     private const double EstimatedFundamentalErrorBins = 0.1;
 
     private readonly AnalysisOptions _options;
-    private readonly IAnalysisFrameSink _next;
+    private readonly IAnalysisFrameSink? _next;
     private readonly int _persistFrames;
     private readonly int _window;
     private readonly int _minShared;
@@ -66,11 +66,10 @@ public sealed class LineTracker : IAnalysisFrameSink
     private double _gridHz = double.NaN;
 
     /// <param name="options">The stream's analysis settings (the catalogue and <see cref="AnalysisOptions.Tracking"/>).</param>
-    /// <param name="next">Where frames go once tracked.</param>
-    public LineTracker(AnalysisOptions options, IAnalysisFrameSink next)
+    /// <param name="next">Where <see cref="OnFrame"/> hands frames once tracked; null when the owner calls <see cref="Track"/> and fans out itself.</param>
+    public LineTracker(AnalysisOptions options, IAnalysisFrameSink? next = null)
     {
         ArgumentNullException.ThrowIfNull(options);
-        ArgumentNullException.ThrowIfNull(next);
         var errors = options.Validate();
         if (errors.Count > 0)
         {
@@ -106,10 +105,10 @@ public sealed class LineTracker : IAnalysisFrameSink
     {
         ArgumentNullException.ThrowIfNull(frame);
         Track(frame);
-        _next.OnFrame(frame);
+        _next?.OnFrame(frame);
     }
 
-    /// <summary>Tracks and re-attributes the frame's lines in place without handing the frame on (tests, the bench).</summary>
+    /// <summary>Tracks and re-attributes the frame's lines in place, without handing the frame on.</summary>
     public void Track(AnalysisFrame frame)
     {
         ArgumentNullException.ThrowIfNull(frame);
