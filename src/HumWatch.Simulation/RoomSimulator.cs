@@ -69,16 +69,19 @@ public sealed class RoomSimulator
         {
             var fault = room.Faults[f];
             var c = index[fault.Channel];
-            var level = fault.LevelUv != 0 ? Math.Abs(fault.LevelUv) : 200;
+
+            // Saturation happens in the amplifier, before the converter: a set LevelUv is the rail even inside the range.
+            var rail = fault.LevelUv != 0 ? Math.Abs(fault.LevelUv) : 200;
+            var useRange = fault.LevelUv == 0 && montage[c].RangeMinUv is not null && montage[c].RangeMaxUv is not null;
             _faults[f] = new FaultWindow(
-                fault.Kind,
+                fault,
                 c,
                 (long)Math.Round(fault.OnsetSeconds * fs),
                 fault.OffsetSeconds is { } off ? (long)Math.Round(off * fs) : long.MaxValue,
-                fault.LevelUv,
-                fault.Gain,
-                montage[c].RangeMinUv ?? -level,
-                montage[c].RangeMaxUv ?? level);
+                fs,
+                useRange ? montage[c].RangeMinUv!.Value : -rail,
+                useRange ? montage[c].RangeMaxUv!.Value : rail,
+                new NoiseSource(NoiseSource.DeriveSeed(seed, f, 3)));
         }
     }
 
@@ -158,18 +161,23 @@ public sealed class RoomSimulator
     private static bool IsTemporal(string label) =>
         label.StartsWith('T') || label is "F7" or "F8";
 
-    private sealed record FaultWindow(SimulatedFaultKind Kind, int Channel, long Start, long End, double LevelUv, double Gain, double MinUv, double MaxUv)
+    private sealed class FaultWindow(SimulatedFault fault, int channel, long start, long end, double sampleRateHz, double minUv, double maxUv, NoiseSource noise)
     {
+        public int Channel => channel;
+
         public void Apply(Span<float> samples, long first)
         {
-            var from = Math.Max(0, Start - first);
-            var to = Math.Min(samples.Length, End - first);
+            var from = Math.Max(0, start - first);
+            var to = Math.Min(samples.Length, end - first);
             for (var i = from; i < to; i++)
             {
-                samples[(int)i] = Kind switch
+                var x = samples[(int)i];
+                samples[(int)i] = fault.Kind switch
                 {
-                    SimulatedFaultKind.Flat => (float)LevelUv,
-                    SimulatedFaultKind.Clipped => (float)Math.Clamp(samples[(int)i] * Gain, MinUv, MaxUv),
+                    // The noise source is drawn once per sample in order, so the samples do not depend on chunk sizes.
+                    SimulatedFaultKind.Flat => (float)(fault.LevelUv + (fault.NoiseUvRms > 0 ? fault.NoiseUvRms * noise.Gaussian() : 0)),
+                    SimulatedFaultKind.Clipped => (float)Math.Clamp(x * fault.Gain, minUv, maxUv),
+                    SimulatedFaultKind.OffsetDrift => (float)Math.Clamp(x + (fault.DriftUvPerSecond * (first + i - start) / sampleRateHz), minUv, maxUv),
                     _ => float.NaN,
                 };
             }

@@ -288,11 +288,21 @@ public enum SimulatedFaultKind
     /// <summary>The channel holds a constant value (<see cref="SimulatedFault.LevelUv"/>).</summary>
     Flat,
 
-    /// <summary>The channel is amplified by <see cref="SimulatedFault.Gain"/> and saturates at its range (or ±<see cref="SimulatedFault.LevelUv"/>).</summary>
+    /// <summary>
+    /// The channel is amplified by <see cref="SimulatedFault.Gain"/> and saturates at ±<see cref="SimulatedFault.LevelUv"/>
+    /// (the amplifier's rail, which may lie inside the declared range), or at the channel's range when LevelUv is 0.
+    /// </summary>
     Clipped,
 
     /// <summary>The channel delivers NaN.</summary>
     NaNBurst,
+
+    /// <summary>
+    /// The electrode's offset drifts by <see cref="SimulatedFault.DriftUvPerSecond"/> from the onset and the amplifier
+    /// saturates at ±<see cref="SimulatedFault.LevelUv"/> (or the channel's range when LevelUv is 0): the EEG rides up
+    /// the ramp, touches the rail ever more often, then sits there.
+    /// </summary>
+    OffsetDrift,
 }
 
 /// <summary>A channel fault on the timeline.</summary>
@@ -308,11 +318,20 @@ public sealed class SimulatedFault
     /// <summary>End, s; null means until the end.</summary>
     public double? OffsetSeconds { get; set; }
 
-    /// <summary>Flat: the constant value; Clipped without a channel range: the saturation level ±LevelUv. The default is 0 (clipped: 200 µV).</summary>
+    /// <summary>
+    /// Flat: the constant value; Clipped and OffsetDrift: the amplifier's rail ±LevelUv, even inside the channel's range.
+    /// The default is 0 (flat at 0 µV; saturation at the channel's range, or ±200 µV without one).
+    /// </summary>
     public double LevelUv { get; set; }
 
     /// <summary>Clipped: gain applied before saturation. The default is 50.</summary>
     public double Gain { get; set; } = 50;
+
+    /// <summary>Flat: residual noise around the level, µV RMS (an input with nothing attached still shows a little amplifier noise). The default is 0.</summary>
+    public double NoiseUvRms { get; set; }
+
+    /// <summary>OffsetDrift: how fast the electrode's offset moves, µV/s (signed). The default is 100 µV/s.</summary>
+    public double DriftUvPerSecond { get; set; } = 100;
 
     public IReadOnlyList<string> Validate(string prefix, IReadOnlySet<string> labels)
     {
@@ -330,6 +349,11 @@ public sealed class SimulatedFault
         if (!double.IsFinite(LevelUv) || !(Gain > 0))
         {
             errors.Add($"{prefix}: levelUv must be finite and gain positive (got {LevelUv}, {Gain}).");
+        }
+
+        if (!(NoiseUvRms >= 0) || !double.IsFinite(NoiseUvRms) || !double.IsFinite(DriftUvPerSecond))
+        {
+            errors.Add($"{prefix}: noiseUvRms must be zero or positive and driftUvPerSecond finite (got {NoiseUvRms}, {DriftUvPerSecond}).");
         }
 
         return errors;

@@ -56,8 +56,11 @@ public static class Suggestions
         ArgumentNullException.ThrowIfNull(channelLabel);
         return kind switch
         {
-            ChannelFaultKind.Flat => $"{channelLabel} is flat: check that the electrode is attached and its lead is plugged in.",
-            ChannelFaultKind.Clipped => $"{channelLabel} hits the input range limits: check the electrode's contact and for movement of its lead.",
+            // Flat: no variance around the usual level, so nothing reaches the input (off, unplugged, lead apart) or it
+            // follows a neighbour (bridged). Clipped: the input sits at a rail, typically an electrode offset too large
+            // or drifting for the amplifier, which a fresh preparation resets.
+            ChannelFaultKind.Flat => $"{channelLabel} is flat (disconnected or bridged to a neighbour): check that the electrode is attached, its lead plugged in and intact, and no gel joins it to the next.",
+            ChannelFaultKind.Clipped => $"{channelLabel} sits at or keeps hitting its amplifier's range limit (electrode offset or drift): re-prepare and re-gel that electrode, then check its offset and its lead.",
             ChannelFaultKind.NonFinite => $"{channelLabel} delivers invalid samples: check the acquisition software and that input's connection.",
             _ => throw new ArgumentOutOfRangeException(nameof(kind), kind, "Unknown channel fault kind."),
         };

@@ -12,11 +12,31 @@ namespace HumWatch.Core.Faults;
 /// over whole blocks. Allocation-free after construction. Not thread-safe.
 /// </summary>
 /// <remarks>
-/// Flat is judged per block, not over the whole span: an electrode that comes off for one hop of an 8 s span still
-/// moves over the span as a whole (the part before it fell off), yet that part of the span carries no signal and would
-/// distort the channel's spectrum. Any flat block therefore marks the channel flat for the span (Fraction = share of
-/// flat blocks). Clipped likewise: a block with at least ClippedFraction of its samples at the range limits marks the
-/// span (Fraction = share of the span's samples at the limits). Non-finite: any NaN/∞ in the span.
+/// <para>
+/// A block is still when its standard deviation is under FlatStdDevUv, moving otherwise. Still is judged per block, not
+/// over the whole span: an electrode that comes off for one hop of an 8 s span still moves over the span as a whole,
+/// yet that part of the span carries no signal and would distort the channel's spectrum, so any still block leaves
+/// the channel out of line finding for the span.
+/// </para>
+/// <para>
+/// A still block is flat (disconnected, dead or bridged input: no variance around the channel's usual level) or pinned
+/// at a rail (saturation: electrode offset or drift beyond the amplifier's input range). Amplifiers saturate before the
+/// converter and exports rescale, so the declared range is often not where that happens; the usual level has to come
+/// from the span itself, since a frame must depend on its span alone. A still block is pinned when it sits at the
+/// declared limits, when its level is SaturationDistanceSd or more of the channel's moving standard deviations from
+/// their mean (and at least SaturationMinDistanceUv), or when it holds the value at which the moving part piles up (below). A channel still for the whole
+/// span has no usual level of its own; it is pinned when its level lies outside the band every moving channel covers
+/// (mean ± that same distance), since no working electrode of the montage goes there — a level
+/// inside that band, zero included, stays flat. Without any moving channel nothing says where the rails are: flat.
+/// </para>
+/// <para>
+/// Clipped: a block with at least ClippedFraction of its samples at the declared limits, a pinned block, or a moving
+/// part whose highest (or lowest) value repeats in at least RepeatedExtremeFraction of its samples (and at least
+/// RepeatedExtremeMinSamples) — a continuous signal touches its extreme about once, a saturating one keeps returning to
+/// it. That test is skipped for a channel whose smallest step between samples is CoarseStepSd of its standard deviation
+/// or more, where quantisation alone fills the top level. Fraction = share of the span's samples at a limit (declared,
+/// repeated extreme, or pinned). Flat: Fraction = share of flat blocks. Non-finite: any NaN/∞ in the span.
+/// </para>
 /// </remarks>
 internal sealed class FaultDetector
 {
@@ -26,14 +46,37 @@ internal sealed class FaultDetector
     private readonly int _ringBlocks;
     private readonly double _flatStdDevUv;
     private readonly double _clippedFraction;
+    private readonly double _saturationDistanceSd;
+    private readonly double _saturationMinDistanceUv;
+    private readonly double _repeatedExtremeFraction;
+    private readonly int _repeatedExtremeMinSamples;
+    private readonly double _coarseStepSd;
     private readonly double[] _lowLimit;
     private readonly double[] _highLimit;
+
+    // Per ring cell (block × channel).
     private readonly double[] _reference;
     private readonly double[] _sum;
     private readonly double[] _sumSquares;
     private readonly int[] _finite;
     private readonly int[] _clipped;
     private readonly int[] _nonFinite;
+    private readonly double[] _max;
+    private readonly double[] _min;
+    private readonly int[] _atMax;
+    private readonly int[] _atMin;
+    private readonly double[] _last;
+    private readonly double[] _minStep;
+
+    // Per channel, the moving part of the span being evaluated (scratch, so Evaluate allocates nothing).
+    private readonly long[] _movingCount;
+    private readonly double[] _movingMean;
+    private readonly double[] _movingSd;
+    private readonly double[] _movingMax;
+    private readonly double[] _movingMin;
+    private readonly long[] _atMovingMax;
+    private readonly long[] _atMovingMin;
+    private readonly double[] _movingStep;
     private long _position;
 
     /// <param name="layout">Channels and their ranges (for clipping).</param>
@@ -51,6 +94,11 @@ internal sealed class FaultDetector
         _ringBlocks = (spanSamples / _blockSamples) + (hopSamples / _blockSamples) + 1;
         _flatStdDevUv = options.FlatStdDevUv;
         _clippedFraction = options.ClippedFraction;
+        _saturationDistanceSd = options.SaturationDistanceSd;
+        _saturationMinDistanceUv = options.SaturationMinDistanceUv;
+        _repeatedExtremeFraction = options.RepeatedExtremeFraction;
+        _repeatedExtremeMinSamples = options.RepeatedExtremeMinSamples;
+        _coarseStepSd = options.CoarseStepSd;
         _lowLimit = new double[_channelCount];
         _highLimit = new double[_channelCount];
         for (var c = 0; c < _channelCount; c++)
@@ -79,6 +127,20 @@ internal sealed class FaultDetector
         _finite = new int[cells];
         _clipped = new int[cells];
         _nonFinite = new int[cells];
+        _max = new double[cells];
+        _min = new double[cells];
+        _atMax = new int[cells];
+        _atMin = new int[cells];
+        _last = new double[cells];
+        _minStep = new double[cells];
+        _movingCount = new long[_channelCount];
+        _movingMean = new double[_channelCount];
+        _movingSd = new double[_channelCount];
+        _movingMax = new double[_channelCount];
+        _movingMin = new double[_channelCount];
+        _atMovingMax = new long[_channelCount];
+        _atMovingMin = new long[_channelCount];
+        _movingStep = new double[_channelCount];
     }
 
     /// <summary>Samples per statistics block.</summary>
@@ -140,10 +202,12 @@ internal sealed class FaultDetector
     internal int RingBlocks => _ringBlocks;
 
     /// <summary>The raw statistics held in ring slot <paramref name="slot"/> for <paramref name="channel"/> (for tests).</summary>
-    internal (double Reference, double Sum, double SumSquares, int Finite, int Clipped, int NonFinite) SlotStatistics(int slot, int channel)
+    internal BlockStatistics SlotStatistics(int slot, int channel)
     {
         var cell = (slot * _channelCount) + channel;
-        return (_reference[cell], _sum[cell], _sumSquares[cell], _finite[cell], _clipped[cell], _nonFinite[cell]);
+        return new BlockStatistics(
+            _reference[cell], _sum[cell], _sumSquares[cell], _finite[cell], _clipped[cell], _nonFinite[cell],
+            _max[cell], _min[cell], _atMax[cell], _atMin[cell], _last[cell], _minStep[cell]);
     }
 
     /// <summary>Forgets everything; sample indices restart at 0.</summary>
@@ -155,7 +219,7 @@ internal sealed class FaultDetector
     /// <summary>
     /// Judges the span [<paramref name="spanStart"/>, <paramref name="spanEnd"/>) (indices since Reset, block-aligned,
     /// within the last span + hop samples appended). Writes faults in channel order and marks channels to leave out of
-    /// line finding (flat or non-finite). Returns the number of faults.
+    /// line finding (any still block, or non-finite). Returns the number of faults.
     /// </summary>
     public int Evaluate(long spanStart, long spanEnd, Span<ChannelFault> faults, Span<bool> excluded)
     {
@@ -173,33 +237,95 @@ internal sealed class FaultDetector
         var firstBlock = spanStart / _blockSamples;
         var blocks = (int)((spanEnd - spanStart) / _blockSamples);
         var spanSamples = (double)(spanEnd - spanStart);
+
+        // Pass 1: every channel's moving part, and the band of levels the moving channels cover.
+        var bandLow = double.PositiveInfinity;
+        var bandHigh = double.NegativeInfinity;
+        for (var c = 0; c < _channelCount; c++)
+        {
+            DescribeMoving(c, firstBlock, blocks);
+            if (_movingCount[c] > 0)
+            {
+                var reach = PinnedDistance(c);
+                bandLow = Math.Min(bandLow, _movingMean[c] - reach);
+                bandHigh = Math.Max(bandHigh, _movingMean[c] + reach);
+            }
+        }
+
+        var hasBand = bandLow <= bandHigh;
         var count = 0;
         for (var c = 0; c < _channelCount; c++)
         {
+            var moving = _movingCount[c];
+            var repeatedHigh = false;
+            var repeatedLow = false;
+            if (moving > 0 && _movingStep[c] < _coarseStepSd * _movingSd[c])
+            {
+                var need = Math.Max(_repeatedExtremeMinSamples, _repeatedExtremeFraction * moving);
+                repeatedHigh = _atMovingMax[c] >= need;
+                repeatedLow = _atMovingMin[c] >= need;
+            }
+
             var flatBlocks = 0;
-            var clippedBlocks = 0;
-            long clipped = 0;
+            var pinnedBlocks = 0;
+            var declaredBlocks = 0;
+            long atLimit = 0;
             long nonFinite = 0;
             for (var b = 0; b < blocks; b++)
             {
                 var cell = ((int)((firstBlock + b) % _ringBlocks) * _channelCount) + c;
                 var n = _finite[cell];
-                clipped += _clipped[cell];
                 nonFinite += _nonFinite[cell];
-                if ((double)_clipped[cell] / _blockSamples >= _clippedFraction)
+                var declared = (double)_clipped[cell] / _blockSamples >= _clippedFraction;
+                if (IsStill(cell, out var level))
                 {
-                    clippedBlocks++;
-                }
+                    bool pinned;
+                    if (declared)
+                    {
+                        pinned = true;
+                    }
+                    else if (moving > 0)
+                    {
+                        pinned = Math.Abs(level - _movingMean[c]) >= PinnedDistance(c)
+                            || (repeatedHigh && _min[cell] <= _movingMax[c] && _movingMax[c] <= _max[cell])
+                            || (repeatedLow && _min[cell] <= _movingMin[c] && _movingMin[c] <= _max[cell]);
+                    }
+                    else
+                    {
+                        pinned = hasBand && (level < bandLow || level > bandHigh);
+                    }
 
-                if (n >= 2)
-                {
-                    var mean = _sum[cell] / n;
-                    var variance = Math.Max(0, (_sumSquares[cell] / n) - (mean * mean));
-                    if (Math.Sqrt(variance) < _flatStdDevUv)
+                    if (pinned)
+                    {
+                        pinnedBlocks++;
+                        atLimit += n;
+                    }
+                    else
                     {
                         flatBlocks++;
                     }
+
+                    continue;
                 }
+
+                if (declared)
+                {
+                    declaredBlocks++;
+                }
+
+                long rail = 0;
+                if (repeatedHigh && n > 0 && _max[cell] == _movingMax[c])
+                {
+                    rail += _atMax[cell];
+                }
+
+                if (repeatedLow && n > 0 && _min[cell] == _movingMin[c])
+                {
+                    rail += _atMin[cell];
+                }
+
+                // A repeated extreme at the declared limit is counted once.
+                atLimit += Math.Max(_clipped[cell], rail);
             }
 
             if (flatBlocks > 0)
@@ -207,9 +333,9 @@ internal sealed class FaultDetector
                 faults[count++] = new ChannelFault(c, ChannelFaultKind.Flat, (double)flatBlocks / blocks);
             }
 
-            if (clippedBlocks > 0)
+            if (pinnedBlocks > 0 || declaredBlocks > 0 || repeatedHigh || repeatedLow)
             {
-                faults[count++] = new ChannelFault(c, ChannelFaultKind.Clipped, clipped / spanSamples);
+                faults[count++] = new ChannelFault(c, ChannelFaultKind.Clipped, atLimit / spanSamples);
             }
 
             if (nonFinite > 0)
@@ -217,10 +343,107 @@ internal sealed class FaultDetector
                 faults[count++] = new ChannelFault(c, ChannelFaultKind.NonFinite, nonFinite / spanSamples);
             }
 
-            excluded[c] = flatBlocks > 0 || nonFinite > 0;
+            excluded[c] = flatBlocks > 0 || pinnedBlocks > 0 || nonFinite > 0;
         }
 
         return count;
+    }
+
+    // How far from channel c's moving mean a still level must lie to be pinned at a rail rather than flat.
+    private double PinnedDistance(int c) => Math.Max(_saturationDistanceSd * _movingSd[c], _saturationMinDistanceUv);
+
+    // Still: at least two finite samples with a standard deviation under the flat threshold; level = their mean.
+    private bool IsStill(int cell, out double level)
+    {
+        var n = _finite[cell];
+        level = n > 0 ? _reference[cell] + (_sum[cell] / n) : double.NaN;
+        if (n < 2)
+        {
+            return false;
+        }
+
+        var mean = _sum[cell] / n;
+        var variance = Math.Max(0, (_sumSquares[cell] / n) - (mean * mean));
+        return Math.Sqrt(variance) < _flatStdDevUv;
+    }
+
+    // Mean, standard deviation (pooled over the blocks), extremes with their counts and smallest step of channel c's
+    // moving blocks in the span.
+    private void DescribeMoving(int c, long firstBlock, int blocks)
+    {
+        long total = 0;
+        var weighted = 0.0;
+        var max = double.NegativeInfinity;
+        var min = double.PositiveInfinity;
+        long atMax = 0;
+        long atMin = 0;
+        var step = double.PositiveInfinity;
+        for (var b = 0; b < blocks; b++)
+        {
+            var cell = ((int)((firstBlock + b) % _ringBlocks) * _channelCount) + c;
+            var n = _finite[cell];
+            if (n == 0 || IsStill(cell, out _))
+            {
+                continue;
+            }
+
+            total += n;
+            weighted += (n * _reference[cell]) + _sum[cell];
+            step = Math.Min(step, _minStep[cell]);
+            if (_max[cell] > max)
+            {
+                max = _max[cell];
+                atMax = _atMax[cell];
+            }
+            else if (_max[cell] == max)
+            {
+                atMax += _atMax[cell];
+            }
+
+            if (_min[cell] < min)
+            {
+                min = _min[cell];
+                atMin = _atMin[cell];
+            }
+            else if (_min[cell] == min)
+            {
+                atMin += _atMin[cell];
+            }
+        }
+
+        var sd = 0.0;
+        var mean = 0.0;
+        if (total > 0)
+        {
+            // Within-block scatter plus the scatter of block means about the overall mean.
+            mean = weighted / total;
+            var scatter = 0.0;
+            for (var b = 0; b < blocks; b++)
+            {
+                var cell = ((int)((firstBlock + b) % _ringBlocks) * _channelCount) + c;
+                var n = _finite[cell];
+                if (n == 0 || IsStill(cell, out var blockMean))
+                {
+                    continue;
+                }
+
+                var relative = _sum[cell] / n;
+                var variance = Math.Max(0, (_sumSquares[cell] / n) - (relative * relative));
+                var offset = blockMean - mean;
+                scatter += n * (variance + (offset * offset));
+            }
+
+            sd = Math.Sqrt(scatter / total);
+        }
+
+        _movingCount[c] = total;
+        _movingMean[c] = mean;
+        _movingSd[c] = sd;
+        _movingMax[c] = max;
+        _movingMin[c] = min;
+        _atMovingMax[c] = atMax;
+        _atMovingMin[c] = atMin;
+        _movingStep[c] = step;
     }
 
     private void ClearSlot(int baseCell)
@@ -234,9 +457,16 @@ internal sealed class FaultDetector
             _finite[cell] = 0;
             _clipped[cell] = 0;
             _nonFinite[cell] = 0;
+            _max[cell] = double.NegativeInfinity;
+            _min[cell] = double.PositiveInfinity;
+            _atMax[cell] = 0;
+            _atMin[cell] = 0;
+            _last[cell] = double.NaN;
+            _minStep[cell] = double.PositiveInfinity;
         }
     }
 
+    // The reference for the vector paths: one channel, one block (or the next part of it).
     private void Accumulate(ReadOnlySpan<float> samples, int cell, double low, double high)
     {
         var reference = _reference[cell];
@@ -245,6 +475,12 @@ internal sealed class FaultDetector
         var finite = 0;
         var clipped = 0;
         var nonFinite = 0;
+        var max = _max[cell];
+        var min = _min[cell];
+        var atMax = _atMax[cell];
+        var atMin = _atMin[cell];
+        var last = _last[cell];
+        var minStep = _minStep[cell];
         for (var i = 0; i < samples.Length; i++)
         {
             double v = samples[i];
@@ -267,6 +503,35 @@ internal sealed class FaultDetector
             {
                 clipped++;
             }
+
+            if (v > max)
+            {
+                max = v;
+                atMax = 1;
+            }
+            else if (v == max)
+            {
+                atMax++;
+            }
+
+            if (v < min)
+            {
+                min = v;
+                atMin = 1;
+            }
+            else if (v == min)
+            {
+                atMin++;
+            }
+
+            // The block's first finite sample has no predecessor (last is NaN, so step is NaN and compares false).
+            var step = Math.Abs(v - last);
+            if (step > 0 && step < minStep)
+            {
+                minStep = step;
+            }
+
+            last = v;
         }
 
         _reference[cell] = reference;
@@ -275,12 +540,19 @@ internal sealed class FaultDetector
         _finite[cell] += finite;
         _clipped[cell] += clipped;
         _nonFinite[cell] += nonFinite;
+        _max[cell] = max;
+        _min[cell] = min;
+        _atMax[cell] = atMax;
+        _atMin[cell] = atMin;
+        _last[cell] = last;
+        _minStep[cell] = minStep;
     }
 
     // Accumulate for four channels at once, one channel per lane: each lane runs exactly the scalar sequence (same
-    // reference, same additions in sample order; a skipped non-finite sample adds +0, which changes no sum because a
-    // sum that starts at +0 is never −0), so the statistics are bit-identical to four Accumulate calls.
-    // Channel c + j's samples start at first + j·stride.
+    // reference, same additions in sample order, the same comparisons for extremes and steps; a skipped non-finite
+    // sample adds +0, which changes no sum because a sum that starts at +0 is never −0, and is masked out of every
+    // comparison), so the statistics are bit-identical to four Accumulate calls. Channel c + j's samples start at
+    // first + j·stride.
     private void AccumulateFour(ReadOnlySpan<float> channelMajor, int first, int stride, int count, int cell, int channel)
     {
         ref var s0 = ref Unsafe.Add(ref MemoryMarshal.GetReference(channelMajor), first);
@@ -290,18 +562,29 @@ internal sealed class FaultDetector
         var low = Vector256.LoadUnsafe(ref MemoryMarshal.GetArrayDataReference(_lowLimit), (nuint)channel);
         var high = Vector256.LoadUnsafe(ref MemoryMarshal.GetArrayDataReference(_highLimit), (nuint)channel);
         ref var referenceAt = ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(_reference), cell);
+        ref var maxAt = ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(_max), cell);
+        ref var minAt = ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(_min), cell);
+        ref var lastAt = ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(_last), cell);
+        ref var minStepAt = ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(_minStep), cell);
         var reference = Vector256.LoadUnsafe(ref referenceAt);
+        var max = Vector256.LoadUnsafe(ref maxAt);
+        var min = Vector256.LoadUnsafe(ref minAt);
+        var last = Vector256.LoadUnsafe(ref lastAt);
+        var minStep = Vector256.LoadUnsafe(ref minStepAt);
+        var atMax = Vector256.Create((double)_atMax[cell], _atMax[cell + 1], _atMax[cell + 2], _atMax[cell + 3]);
+        var atMin = Vector256.Create((double)_atMin[cell], _atMin[cell + 1], _atMin[cell + 2], _atMin[cell + 3]);
         var one = Vector256<double>.One;
-        var sum = Vector256<double>.Zero;
-        var squares = Vector256<double>.Zero;
-        var finite = Vector256<double>.Zero;
-        var clipped = Vector256<double>.Zero;
-        var nonFinite = Vector256<double>.Zero;
+        var zero = Vector256<double>.Zero;
+        var sum = zero;
+        var squares = zero;
+        var finite = zero;
+        var clipped = zero;
+        var nonFinite = zero;
         var pending = !Vector256.EqualsAll(reference, reference);
         for (var i = 0; i < count; i++)
         {
             var v = Vector256.Create((double)Unsafe.Add(ref s0, i), Unsafe.Add(ref s1, i), Unsafe.Add(ref s2, i), Unsafe.Add(ref s3, i));
-            var isFinite = Vector256.Equals(v - v, Vector256<double>.Zero);
+            var isFinite = Vector256.Equals(v - v, zero);
             nonFinite += Vector256.AndNot(one, isFinite);
             if (pending)
             {
@@ -315,9 +598,25 @@ internal sealed class FaultDetector
             squares += (d * d) & isFinite;
             finite += one & isFinite;
             clipped += one & isFinite & (Vector256.LessThanOrEqual(v, low) | Vector256.GreaterThanOrEqual(v, high));
+
+            var above = Vector256.GreaterThan(v, max) & isFinite;
+            atMax = Vector256.ConditionalSelect(above, one, atMax + (one & isFinite & Vector256.Equals(v, max)));
+            max = Vector256.ConditionalSelect(above, v, max);
+            var below = Vector256.LessThan(v, min) & isFinite;
+            atMin = Vector256.ConditionalSelect(below, one, atMin + (one & isFinite & Vector256.Equals(v, min)));
+            min = Vector256.ConditionalSelect(below, v, min);
+
+            var step = Vector256.Abs(v - last);
+            var smaller = isFinite & Vector256.GreaterThan(step, zero) & Vector256.LessThan(step, minStep);
+            minStep = Vector256.ConditionalSelect(smaller, step, minStep);
+            last = Vector256.ConditionalSelect(isFinite, v, last);
         }
 
         reference.StoreUnsafe(ref referenceAt);
+        max.StoreUnsafe(ref maxAt);
+        min.StoreUnsafe(ref minAt);
+        last.StoreUnsafe(ref lastAt);
+        minStep.StoreUnsafe(ref minStepAt);
         ref var sumAt = ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(_sum), cell);
         (Vector256.LoadUnsafe(ref sumAt) + sum).StoreUnsafe(ref sumAt);
         ref var squaresAt = ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(_sumSquares), cell);
@@ -327,6 +626,8 @@ internal sealed class FaultDetector
             _finite[cell + j] += (int)finite.GetElement(j);
             _clipped[cell + j] += (int)clipped.GetElement(j);
             _nonFinite[cell + j] += (int)nonFinite.GetElement(j);
+            _atMax[cell + j] = (int)atMax.GetElement(j);
+            _atMin[cell + j] = (int)atMin.GetElement(j);
         }
     }
 
@@ -348,13 +649,24 @@ internal sealed class FaultDetector
         var low = Vector512.LoadUnsafe(ref MemoryMarshal.GetArrayDataReference(_lowLimit), (nuint)channel);
         var high = Vector512.LoadUnsafe(ref MemoryMarshal.GetArrayDataReference(_highLimit), (nuint)channel);
         ref var referenceAt = ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(_reference), cell);
+        ref var maxAt = ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(_max), cell);
+        ref var minAt = ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(_min), cell);
+        ref var lastAt = ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(_last), cell);
+        ref var minStepAt = ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(_minStep), cell);
         var reference = Vector512.LoadUnsafe(ref referenceAt);
+        var max = Vector512.LoadUnsafe(ref maxAt);
+        var min = Vector512.LoadUnsafe(ref minAt);
+        var last = Vector512.LoadUnsafe(ref lastAt);
+        var minStep = Vector512.LoadUnsafe(ref minStepAt);
+        var atMax = Avx512F.ConvertToVector512Double(Vector256.LoadUnsafe(ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(_atMax), cell)));
+        var atMin = Avx512F.ConvertToVector512Double(Vector256.LoadUnsafe(ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(_atMin), cell)));
         var one = Vector512<double>.One;
-        var sum = Vector512<double>.Zero;
-        var squares = Vector512<double>.Zero;
-        var finite = Vector512<double>.Zero;
-        var clipped = Vector512<double>.Zero;
-        var nonFinite = Vector512<double>.Zero;
+        var zero = Vector512<double>.Zero;
+        var sum = zero;
+        var squares = zero;
+        var finite = zero;
+        var clipped = zero;
+        var nonFinite = zero;
         var pending = !Vector512.EqualsAll(reference, reference);
         fixed (float* start = channelMajor)
         {
@@ -362,7 +674,7 @@ internal sealed class FaultDetector
             for (var i = 0; i < count; i++)
             {
                 var v = Avx512F.ConvertToVector512Double(Avx2.GatherVector256(at + i, lanes, 4));
-                var isFinite = Vector512.Equals(v - v, Vector512<double>.Zero);
+                var isFinite = Vector512.Equals(v - v, zero);
                 nonFinite += Vector512.AndNot(one, isFinite);
                 if (pending)
                 {
@@ -376,10 +688,26 @@ internal sealed class FaultDetector
                 squares += (d * d) & isFinite;
                 finite += one & isFinite;
                 clipped += one & isFinite & (Vector512.LessThanOrEqual(v, low) | Vector512.GreaterThanOrEqual(v, high));
+
+                var above = Vector512.GreaterThan(v, max) & isFinite;
+                atMax = Vector512.ConditionalSelect(above, one, atMax + (one & isFinite & Vector512.Equals(v, max)));
+                max = Vector512.ConditionalSelect(above, v, max);
+                var below = Vector512.LessThan(v, min) & isFinite;
+                atMin = Vector512.ConditionalSelect(below, one, atMin + (one & isFinite & Vector512.Equals(v, min)));
+                min = Vector512.ConditionalSelect(below, v, min);
+
+                var step = Vector512.Abs(v - last);
+                var smaller = isFinite & Vector512.GreaterThan(step, zero) & Vector512.LessThan(step, minStep);
+                minStep = Vector512.ConditionalSelect(smaller, step, minStep);
+                last = Vector512.ConditionalSelect(isFinite, v, last);
             }
         }
 
         reference.StoreUnsafe(ref referenceAt);
+        max.StoreUnsafe(ref maxAt);
+        min.StoreUnsafe(ref minAt);
+        last.StoreUnsafe(ref lastAt);
+        minStep.StoreUnsafe(ref minStepAt);
         ref var sumAt = ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(_sum), cell);
         (Vector512.LoadUnsafe(ref sumAt) + sum).StoreUnsafe(ref sumAt);
         ref var squaresAt = ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(_sumSquares), cell);
@@ -389,6 +717,8 @@ internal sealed class FaultDetector
             _finite[cell + j] += (int)finite.GetElement(j);
             _clipped[cell + j] += (int)clipped.GetElement(j);
             _nonFinite[cell + j] += (int)nonFinite.GetElement(j);
+            _atMax[cell + j] = (int)atMax.GetElement(j);
+            _atMin[cell + j] = (int)atMin.GetElement(j);
         }
     }
 
@@ -401,4 +731,19 @@ internal sealed class FaultDetector
 
         return a;
     }
+
+    /// <summary>One ring cell's raw statistics (for tests).</summary>
+    internal readonly record struct BlockStatistics(
+        double Reference,
+        double Sum,
+        double SumSquares,
+        int Finite,
+        int Clipped,
+        int NonFinite,
+        double Max,
+        double Min,
+        int AtMax,
+        int AtMin,
+        double Last,
+        double MinStep);
 }

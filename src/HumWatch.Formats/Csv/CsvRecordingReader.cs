@@ -6,7 +6,9 @@ namespace HumWatch.Formats.Csv;
 
 /// <summary>
 /// Reads a delimited text recording: a header row whose first column is time (seconds, or milliseconds when named
-/// "time_ms" or suffixed "[ms]"), then one column per channel in µV. A channel header may carry a unit suffix,
+/// "time_ms" or suffixed "[ms]"), then one column per channel in µV. A first column with another header ("Zeit (s)",
+/// "tiempo", "Время", empty) is still the time column when its first rows rise in equal steps; otherwise the error
+/// lists the headers seen. A channel header may carry a unit suffix,
 /// "Fp1 [uV]" or "Cz (mV)", and is converted to µV (uV/µV/mV/V/nV); columns with a non-voltage unit are skipped.
 /// Separator: comma, or semicolon or tab when the header uses that one alone. "NaN" is accepted as a sample (the
 /// analysis flags non-finite samples); anything else that is not a number is an error naming line and column.
@@ -64,6 +66,7 @@ internal sealed class CsvRecordingReader : IRecordingReader
                 throw new RecordingFormatException(path, "empty file: no header row");
             }
 
+            var headerLineNumber = lineNumber;
             var separator = DetectSeparator(path, headerLine, lineNumber);
             var names = headerLine.Split(separator);
             if (names.Length < 2)
@@ -71,11 +74,59 @@ internal sealed class CsvRecordingReader : IRecordingReader
                 throw new RecordingFormatException(path, $"line {lineNumber}: header has {names.Length} column; need a time column and at least one channel");
             }
 
-            var (timeName, timeUnit) = SplitUnit(Unquote(names[0]));
+            // One pass at open: the first rows give the time column and its sample interval, the row count the duration.
+            var probe = new TimeProbe(Math.Min(RateProbeRows, 64));
+            long rows = 0;
+            string? line;
+            while ((line = reader.ReadLine()) is not null)
+            {
+                lineNumber++;
+                if (line.Length == 0 || line.AsSpan().Trim().Length == 0)
+                {
+                    continue;
+                }
+
+                if (rows < RateProbeRows)
+                {
+                    var end = line.IndexOf(separator, StringComparison.Ordinal);
+                    probe.Add(end < 0 ? line.AsSpan() : line.AsSpan(0, end), lineNumber, separator);
+                }
+
+                rows++;
+            }
+
+            if (rows == 0)
+            {
+                throw new RecordingFormatException(path, "header only: no data rows");
+            }
+
+            if (rows == 1)
+            {
+                throw new RecordingFormatException(path, "only one data row: at least two are needed to derive the sample rate");
+            }
+
+            var timeHeader = Unquote(names[0]);
+            var (timeName, timeUnit) = SplitUnit(timeHeader);
             var timeFactor = TimeFactor(timeName, timeUnit);
+            var byContent = false;
             if (timeFactor is null)
             {
-                throw new RecordingFormatException(path, $"line {lineNumber}, column 1: '{Unquote(names[0])}' is not a time column (expected 'time', 't', 'time_s' in seconds, or 'time_ms')");
+                // Exports name the time column in many languages, or not at all: a first column of steadily increasing
+                // numbers is the time, in seconds unless its unit says otherwise.
+                var unitFactor = timeUnit is null ? 1.0 : TimeUnitFactor(timeUnit);
+                var why = unitFactor is null ? $"its unit '{timeUnit}' is not a time unit" : probe.WhyNotSteady();
+                if (why is not null || unitFactor is null)
+                {
+                    var seen = string.Join(", ", names.Select(n => $"'{Unquote(n)}'"));
+                    throw new RecordingFormatException(path, $"line {headerLineNumber}, column 1: '{timeHeader}' is not a time column: the first column must hold steadily increasing times in seconds, but {why}; headers seen: {seen}");
+                }
+
+                timeFactor = unitFactor;
+                byContent = true;
+            }
+            else
+            {
+                probe.ThrowIfUnparsed(path, timeHeader);
             }
 
             var channels = new List<ChannelInfo>();
@@ -87,7 +138,7 @@ internal sealed class CsvRecordingReader : IRecordingReader
                 var (label, unit) = SplitUnit(Unquote(names[i]));
                 if (label.Length == 0)
                 {
-                    throw new RecordingFormatException(path, $"line {lineNumber}, column {i + 1}: empty channel name");
+                    throw new RecordingFormatException(path, $"line {headerLineNumber}, column {i + 1}: empty channel name");
                 }
 
                 var factor = 1.0;
@@ -104,51 +155,10 @@ internal sealed class CsvRecordingReader : IRecordingReader
 
             if (channels.Count == 0)
             {
-                throw new RecordingFormatException(path, $"line {lineNumber}: no channel column in a voltage unit");
+                throw new RecordingFormatException(path, $"line {headerLineNumber}: no channel column in a voltage unit");
             }
 
-            // One pass at open: the first rows give the sample interval, the row count gives the duration.
-            var firstTime = double.NaN;
-            var probeTime = double.NaN;
-            var probeRows = 0;
-            long rows = 0;
-            string? line;
-            while ((line = reader.ReadLine()) is not null)
-            {
-                lineNumber++;
-                if (line.Length == 0 || line.AsSpan().Trim().Length == 0)
-                {
-                    continue;
-                }
-
-                if (rows < RateProbeRows)
-                {
-                    var end = line.IndexOf(separator, StringComparison.Ordinal);
-                    var field = end < 0 ? line.AsSpan() : line.AsSpan(0, end);
-                    var t = ParseNumber(path, field, lineNumber, 1, Unquote(names[0]), separator) * timeFactor.Value;
-                    if (rows == 0)
-                    {
-                        firstTime = t;
-                    }
-
-                    probeTime = t;
-                    probeRows++;
-                }
-
-                rows++;
-            }
-
-            if (rows == 0)
-            {
-                throw new RecordingFormatException(path, "header only: no data rows");
-            }
-
-            if (rows == 1)
-            {
-                throw new RecordingFormatException(path, "only one data row: at least two are needed to derive the sample rate");
-            }
-
-            var interval = (probeTime - firstTime) / (probeRows - 1);
+            var interval = probe.MeanStep * timeFactor.Value;
             if (!(interval > 0) || !double.IsFinite(interval))
             {
                 throw new RecordingFormatException(path, "time column does not increase over the first rows; cannot derive a sample rate");
@@ -164,7 +174,8 @@ internal sealed class CsvRecordingReader : IRecordingReader
 
             if (rateHz < options.MinAnalysisRateHz)
             {
-                throw new RecordingFormatException(path, string.Create(CultureInfo.InvariantCulture, $"sample rate {rateHz:0.###} Hz (from the time column) is below the analysis minimum of {options.MinAnalysisRateHz:0.###} Hz"));
+                var from = byContent ? $"taking column 1 '{timeHeader}' as time in seconds" : "from the time column";
+                throw new RecordingFormatException(path, string.Create(CultureInfo.InvariantCulture, $"sample rate {rateHz:0.###} Hz ({from}) is below the analysis minimum of {options.MinAnalysisRateHz:0.###} Hz"));
             }
 
             var layout = new StreamLayout(rateHz, channels);
@@ -357,15 +368,25 @@ internal sealed class CsvRecordingReader : IRecordingReader
 
     private static double ParseNumber(string path, ReadOnlySpan<char> field, int lineNumber, int column, string columnName, char separator)
     {
+        if (TryParseNumber(field, separator, out var value))
+        {
+            return value;
+        }
+
+        throw new RecordingFormatException(path, $"line {lineNumber}, column {column} ('{columnName}'): '{Shown(field)}' is not a number");
+    }
+
+    private static bool TryParseNumber(ReadOnlySpan<char> field, char separator, out double value)
+    {
         var text = field.Trim();
         if (text.Length >= 2 && text[0] == '"' && text[^1] == '"')
         {
             text = text[1..^1].Trim();
         }
 
-        if (double.TryParse(text, NumberStyles.Float, CultureInfo.InvariantCulture, out var value) && !double.IsInfinity(value))
+        if (double.TryParse(text, NumberStyles.Float, CultureInfo.InvariantCulture, out value) && !double.IsInfinity(value))
         {
-            return value;
+            return true;
         }
 
         // Semicolon-separated files often come with decimal commas.
@@ -378,13 +399,19 @@ internal sealed class CsvRecordingReader : IRecordingReader
                 copy.Replace(',', '.');
                 if (double.TryParse(copy, NumberStyles.Float, CultureInfo.InvariantCulture, out value) && !double.IsInfinity(value))
                 {
-                    return value;
+                    return true;
                 }
             }
         }
 
-        var shown = text.Length > 40 ? string.Concat(text[..40], "…") : text.ToString();
-        throw new RecordingFormatException(path, $"line {lineNumber}, column {column} ('{columnName}'): '{shown}' is not a number");
+        value = double.NaN;
+        return false;
+    }
+
+    private static string Shown(ReadOnlySpan<char> field)
+    {
+        var text = field.Trim();
+        return text.Length > 40 ? string.Concat(text[..40], "…") : text.ToString();
     }
 
     private static string Unquote(string name)
@@ -408,6 +435,14 @@ internal sealed class CsvRecordingReader : IRecordingReader
 
         return (t, null);
     }
+
+    /// <summary>Seconds per unit for a time unit written after any column name ("Zeit (s)", "Время [мс]"), else null.</summary>
+    private static double? TimeUnitFactor(string unit) => unit.ToUpperInvariant() switch
+    {
+        "S" or "SEC" or "SECS" or "SECONDS" or "С" or "СЕК" => 1.0,
+        "MS" or "MSEC" or "МС" => 1e-3,
+        _ => null,
+    };
 
     /// <summary>Seconds per unit of the time column, or null when the column is not a time column.</summary>
     private static double? TimeFactor(string name, string? unit)
@@ -434,5 +469,78 @@ internal sealed class CsvRecordingReader : IRecordingReader
             "TIME_MS" or "MS" => 1e-3,
             _ => null,
         };
+    }
+
+    /// <summary>The first column of the first rows, as read at open: its values, how they are written, where.</summary>
+    private sealed class TimeProbe(int capacity)
+    {
+        private readonly List<double> _values = new(capacity);
+        private readonly List<int> _decimals = new(capacity);
+        private readonly List<int> _lines = new(capacity);
+        private int _unparsedLine;
+        private string _unparsedText = "";
+
+        /// <summary>Mean step over the parsed rows, in the column's unit (NaN with fewer than two).</summary>
+        public double MeanStep => _values.Count >= 2 ? (_values[^1] - _values[0]) / (_values.Count - 1) : double.NaN;
+
+        public void Add(ReadOnlySpan<char> field, int lineNumber, char separator)
+        {
+            if (_unparsedLine > 0)
+            {
+                return;
+            }
+
+            if (!TryParseNumber(field, separator, out var value))
+            {
+                _unparsedLine = lineNumber;
+                _unparsedText = Shown(field);
+                return;
+            }
+
+            _values.Add(value);
+            _decimals.Add(Decimals(field));
+            _lines.Add(lineNumber);
+        }
+
+        /// <summary>For a column the header names as time: a value that is not a number is an error, as in any column.</summary>
+        public void ThrowIfUnparsed(string path, string header)
+        {
+            if (_unparsedLine > 0)
+            {
+                throw new RecordingFormatException(path, $"line {_unparsedLine}, column 1 ('{header}'): '{_unparsedText}' is not a number");
+            }
+        }
+
+        /// <summary>Null when the values rise in equal steps (within 0.1 % or one unit of their last printed decimal), else why not.</summary>
+        public string? WhyNotSteady()
+        {
+            if (_unparsedLine > 0)
+            {
+                return $"line {_unparsedLine} holds '{_unparsedText}', not a number";
+            }
+
+            if (_values.Count < 3)
+            {
+                return $"{_values.Count} rows are too few to show a steady step (3 needed)";
+            }
+
+            var mean = MeanStep;
+            for (var i = 1; i < _values.Count; i++)
+            {
+                var step = _values[i] - _values[i - 1];
+                if (!(step > 0))
+                {
+                    return string.Create(CultureInfo.InvariantCulture, $"line {_lines[i]} has {_values[i]:G10} after {_values[i - 1]:G10}");
+                }
+
+                var quantum = Math.Pow(10, -Math.Max(_decimals[i], _decimals[i - 1]));
+                if (Math.Abs(step - mean) > Math.Max(StepTolerance * mean, quantum * 1.000001))
+                {
+                    return string.Create(CultureInfo.InvariantCulture, $"line {_lines[i]} steps by {step:G10} where the first rows step by {mean:G10} on average");
+                }
+            }
+
+            return null;
+        }
     }
 }

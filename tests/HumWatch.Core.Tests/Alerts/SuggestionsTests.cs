@@ -85,6 +85,22 @@ public sealed class SuggestionsTests
     }
 
     [Fact]
+    public void Saturation_and_flat_point_to_different_causes()
+    {
+        // Saturation: an electrode offset too large or drifting for the amplifier, reset by preparing the electrode again;
+        // flat: nothing reaches the input, or it follows a neighbour through a gel bridge. Common practice, no source.
+        var clipped = Suggestions.ForFault(ChannelFaultKind.Clipped, "Pz");
+        var flat = Suggestions.ForFault(ChannelFaultKind.Flat, "Pz");
+
+        Assert.Contains("offset", clipped, StringComparison.Ordinal);
+        Assert.Contains("re-gel", clipped, StringComparison.Ordinal);
+        Assert.DoesNotContain("bridged", clipped, StringComparison.Ordinal);
+        Assert.Contains("disconnected", flat, StringComparison.Ordinal);
+        Assert.Contains("bridged", flat, StringComparison.Ordinal);
+        Assert.DoesNotContain("offset", flat, StringComparison.Ordinal);
+    }
+
+    [Fact]
     public void Channel_share_outside_zero_to_one_is_rejected_naming_the_parameter()
     {
         var ex = Assert.Throws<ArgumentOutOfRangeException>(() => Suggestions.For(FrameBuilder.Mains(), 1.5, []));

@@ -44,7 +44,7 @@ public sealed class FaultDetectorLaneTests
                 {
                     if (random.Next(8) == 0)
                     {
-                        kinds[c] = random.Next(6);
+                        kinds[c] = random.Next(8);
                     }
 
                     for (var i = 0; i < n; i++)
@@ -69,7 +69,12 @@ public sealed class FaultDetectorLaneTests
                         AssertSameBits(single.Reference, lanes.Reference, where + " reference");
                         AssertSameBits(single.Sum, lanes.Sum, where + " sum");
                         AssertSameBits(single.SumSquares, lanes.SumSquares, where + " sum of squares");
+                        AssertSameBits(single.Max, lanes.Max, where + " max");
+                        AssertSameBits(single.Min, lanes.Min, where + " min");
+                        AssertSameBits(single.Last, lanes.Last, where + " last");
+                        AssertSameBits(single.MinStep, lanes.MinStep, where + " smallest step");
                         Assert.True(single.Finite == lanes.Finite && single.Clipped == lanes.Clipped && single.NonFinite == lanes.NonFinite, where + " counts");
+                        Assert.True(single.AtMax == lanes.AtMax && single.AtMin == lanes.AtMin, where + " counts at the extremes");
                         compared++;
                     }
                 }
@@ -79,12 +84,22 @@ public sealed class FaultDetectorLaneTests
         Assert.True(compared > 20000, $"only {compared} cells compared");
     }
 
-    // Kinds: noise; noise on a large DC offset; constant; at or beyond the range limits; sparse NaN/±∞/−0; tiny and huge.
+    // Kinds: noise; noise on a large DC offset; constant; at or beyond the range limits; sparse NaN/±∞/−0; tiny and huge;
+    // quantised in 1 µV steps (repeated extremes and steps); pinned at a rail inside the range, ±0 mixed in.
     private static float Sample(Random random, int kind, ChannelInfo info)
     {
         var noise = (float)((random.NextDouble() - 0.5) * 40);
         switch (kind)
         {
+            case 6:
+                return MathF.Round(noise / 4);
+            case 7:
+                return random.Next(4) switch
+                {
+                    0 => 0.0f,
+                    1 => -0.0f,
+                    _ => Math.Min(noise, 15f),
+                };
             case 1:
                 return 30000.5f + noise;
             case 2:

@@ -63,6 +63,96 @@ public sealed class FaultDetectorTests
     }
 
     [Fact]
+    public void A_value_repeated_at_the_top_inside_a_generous_range_is_clipped_but_keeps_the_channel_analysed()
+    {
+        // The same clamp at ±50 µV as above, but the file declares ±1000 µV: only the repeated extreme shows it (the
+        // pseudo-noise reaches its own maximum once per span, the clamp holds dozens of samples at exactly ±50).
+        var layout = new StreamLayout(100, [new ChannelInfo("A", -1000, 1000), new ChannelInfo("B", -1000, 1000)]);
+
+        var (faults, excluded) = Judge(layout, new FaultOptions(), (c, n) => c == 0 ? Math.Clamp(Noise(c, n) * 10, -50f, 50f) : Noise(c, n));
+
+        var fault = Assert.Single(faults);
+        Assert.Equal(new ChannelFault(0, ChannelFaultKind.Clipped, fault.Fraction), fault);
+        Assert.Equal(Count(Span, n => Math.Abs(Noise(0, n) * 10) >= 50) / (double)Span, fault.Fraction, 9);
+        Assert.False(excluded[0]);
+    }
+
+    [Fact]
+    public void A_short_run_pinned_inside_a_hop_is_clipped_by_its_repeated_value()
+    {
+        // 30 samples at 3000 µV inside an otherwise moving hop: the hop still moves, but 30 samples share the maximum.
+        var (faults, excluded) = Judge(Layout(2), new FaultOptions(), (c, n) => c == 0 && n is >= 230 and < 260 ? 3000f : Noise(c, n));
+
+        Assert.Equal(new ChannelFault(0, ChannelFaultKind.Clipped, 30.0 / Span), Assert.Single(faults));
+        Assert.False(excluded[0]);
+    }
+
+    [Fact]
+    public void A_still_hop_far_from_the_channels_own_level_is_pinned_not_flat()
+    {
+        // One hop still at 400 µV on a channel that otherwise moves ±10 µV around 0 (SD 5 µV): 80 SD and 400 µV away,
+        // past SaturationDistanceSd and SaturationMinDistanceUv. The same hop at 12.5 µV is flat (first test above).
+        var (faults, excluded) = Judge(Layout(2), new FaultOptions(), (c, n) => c == 1 && n is >= 200 and < 300 ? 400f : Noise(c, n));
+
+        Assert.Equal(new ChannelFault(1, ChannelFaultKind.Clipped, 0.25), Assert.Single(faults));
+        Assert.True(excluded[1]);
+    }
+
+    [Fact]
+    public void A_still_hop_at_the_value_the_moving_part_piles_up_at_is_the_same_saturation()
+    {
+        // A drift onto a rail: the hop before rides the rail at 30 µV (clamped), then the channel stays on it. 30 µV is
+        // within a few SD of the channel's level, so only "it holds the value the moving part keeps returning to" ties
+        // the still hop to the clipping.
+        var (faults, excluded) = Judge(Layout(1), new FaultOptions(), (c, n) => n >= 300 ? 30f : Math.Min(Noise(c, n) * 6, 30f));
+
+        var fault = Assert.Single(faults);
+        Assert.Equal(ChannelFaultKind.Clipped, fault.Kind);
+        Assert.Equal((100 + Count(300, n => Noise(0, n) * 6 >= 30)) / (double)Span, fault.Fraction, 9);
+        Assert.True(excluded[0]);
+    }
+
+    [Theory]
+    [InlineData(3000f, ChannelFaultKind.Clipped)]
+    [InlineData(-3000f, ChannelFaultKind.Clipped)]
+    [InlineData(0f, ChannelFaultKind.Flat)]
+    [InlineData(40f, ChannelFaultKind.Flat)]
+    public void A_channel_still_for_the_whole_span_is_judged_against_the_moving_channels(float level, ChannelFaultKind expected)
+    {
+        // The other channels move ±10 µV around 0 (SD 5 µV), so they cover 0 ± 100 µV (SaturationMinDistanceUv beats
+        // 8 SD): ±3000 µV lies where no working electrode goes — a rail; 0 and 40 µV lie among them — flat.
+        var (faults, excluded) = Judge(Layout(3), new FaultOptions(), (c, n) => c == 2 ? level : Noise(c, n));
+
+        Assert.Equal(new ChannelFault(2, expected, 1), Assert.Single(faults));
+        Assert.True(excluded[2]);
+    }
+
+    [Fact]
+    public void Without_any_moving_channel_a_still_channel_is_flat_wherever_it_sits()
+    {
+        // Nothing in the span says where this amplifier's rails are.
+        var (faults, _) = Judge(Layout(1), new FaultOptions(), (_, _) => 3000f);
+
+        Assert.Equal(new ChannelFault(0, ChannelFaultKind.Flat, 1), Assert.Single(faults));
+    }
+
+    [Fact]
+    public void New_thresholds_are_validated_naming_the_key()
+    {
+        var options = new FaultOptions { SaturationDistanceSd = 0, SaturationMinDistanceUv = -1, RepeatedExtremeFraction = 1.5, RepeatedExtremeMinSamples = 1, CoarseStepSd = double.NaN };
+
+        var errors = options.Validate("Analysis:Faults");
+
+        Assert.Equal(5, errors.Count);
+        foreach (var key in new[] { "SaturationDistanceSd", "SaturationMinDistanceUv", "RepeatedExtremeFraction", "RepeatedExtremeMinSamples", "CoarseStepSd" })
+        {
+            Assert.Contains(errors, e => e.StartsWith($"Analysis:Faults:{key} ", StringComparison.Ordinal));
+        }
+
+        Assert.Empty(new FaultOptions().Validate());
+    }
+
+    [Fact]
     public void NaN_samples_make_the_channel_non_finite_and_excluded()
     {
         var (faults, excluded) = Judge(Layout(2), new FaultOptions(), (c, n) => c == 0 && n is >= 10 and < 30 ? float.NaN : c == 0 && n == 77 ? float.PositiveInfinity : Noise(c, n));
@@ -93,6 +183,9 @@ public sealed class FaultDetectorTests
 
         Assert.Throws<ArgumentOutOfRangeException>(() => detector.Evaluate(0, 400, faults, excluded));
     }
+
+    // Samples 0..samples−1 for which predicate holds.
+    private static int Count(int samples, Func<int, bool> predicate) => Enumerable.Range(0, samples).Count(predicate);
 
     private static (ChannelFault[] Faults, bool[] Excluded) Judge(StreamLayout layout, FaultOptions options, Func<int, int, float> sample)
     {

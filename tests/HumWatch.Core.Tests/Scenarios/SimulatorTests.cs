@@ -112,6 +112,31 @@ public sealed class SimulatorTests
     }
 
     [Fact]
+    public void Saturation_uses_the_amplifier_rail_inside_the_range_and_a_drift_ends_pinned_on_it()
+    {
+        var room = new SimulatedRoom
+        {
+            SampleRateHz = 100,
+            Channels = [new() { Label = "A", RangeMinUv = -3200, RangeMaxUv = 3200 }, new() { Label = "B", RangeMinUv = -3200, RangeMaxUv = 3200 }, new() { Label = "C" }],
+            Faults =
+            [
+                new SimulatedFault { Kind = SimulatedFaultKind.Clipped, Channel = "A", Gain = 20, LevelUv = 150 },
+                new SimulatedFault { Kind = SimulatedFaultKind.OffsetDrift, Channel = "B", OnsetSeconds = 1, DriftUvPerSecond = 1000, LevelUv = 2000 },
+                new SimulatedFault { Kind = SimulatedFaultKind.Flat, Channel = "C", LevelUv = 5, NoiseUvRms = 0.05 },
+            ],
+        };
+        var chunk = new RoomSimulator(room, 6).Next(400);
+
+        Assert.All(chunk.Channel(0).ToArray(), v => Assert.InRange(v, -150f, 150f));
+        Assert.Contains(chunk.Channel(0).ToArray(), v => v == 150f);
+        Assert.All(chunk.Channel(1)[350..].ToArray(), v => Assert.Equal(2000f, v)); // 1000 µV/s from 1 s: 2500 µV of offset by 3.5 s, past the rail by more than any EEG excursion
+        Assert.InRange(chunk.Channel(1)[150], 300f, 700f); // ≈ 500 µV of offset 0.5 s in, plus the EEG
+        var flat = chunk.Channel(2).ToArray();
+        Assert.All(flat, v => Assert.InRange(v, 4.7f, 5.3f));
+        Assert.True(flat.Distinct().Count() > 300, "the flat level's noise should make its samples differ");
+    }
+
+    [Fact]
     public void Scenario_round_trips_through_camel_case_json()
     {
         var scenario = new SimulationScenario

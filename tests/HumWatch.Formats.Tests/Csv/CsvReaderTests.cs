@@ -112,7 +112,80 @@ public sealed class CsvReaderTests : IDisposable
         Fails("jitter.csv", "time,Cz\n0,1\n0.01,1\n0.02,1\n0.03,1\n0.045,1\n0.055,1\n", "line 6, column 1: time step 0.015 s differs from the sample interval", "by more than 0.1 %");
 
     [Fact]
-    public void First_column_must_be_time() => Fails("notime.csv", "Fp1,Cz\n0,1\n1,2\n", "line 1, column 1: 'Fp1' is not a time column");
+    public void First_column_must_be_time() =>
+        Fails("notime.csv", "Fp1,Cz\n0,1\n1,2\n", "line 1, column 1: 'Fp1' is not a time column", "2 rows are too few", "headers seen: 'Fp1', 'Cz'");
+
+    [Theory]
+    [InlineData("Zeit (s);Fp1;Cz\n0;1,5;-2\n0,004;2,5;-3\n0,008;3,5;-4\n0,012;4,5;-5\n", "Fp1")]
+    [InlineData("tiempo,Fp1,Cz\n0.000,1.5,-2\n0.004,2.5,-3\n0.008,3.5,-4\n0.012,4.5,-5\n", "Fp1")]
+    [InlineData("Время\tFp1\tCz\n0.000\t1.5\t-2\n0.004\t2.5\t-3\n0.008\t3.5\t-4\n0.012\t4.5\t-5\n", "Fp1")]
+    [InlineData(";Fp1;Cz\n0;1,5;-2\n0,004;2,5;-3\n0,008;3,5;-4\n0,012;4,5;-5\n", "Fp1")]
+    [InlineData("\"\",\"O1\",\"Cz\"\n0,1.5,-2\n0.004,2.5,-3\n0.008,3.5,-4\n0.012,4.5,-5\n", "O1")]
+    [InlineData("Fp2,O1,Cz\n10.000,1.5,-2\n10.004,2.5,-3\n10.008,3.5,-4\n10.012,4.5,-5\n", "O1")]
+    public void A_first_column_of_steadily_increasing_seconds_is_time_whatever_its_header(string text, string firstChannel)
+    {
+        // 4 ms steps: 250 Hz, whether the header names the column in German, Spanish, Russian, not at all, or as a channel.
+        var path = _folder.WriteText("any-header.csv", text);
+        using var reader = RecordingReader.Open(path);
+        var layout = reader.Info.Groups[0].Layout;
+        Assert.Equal(250.0, layout.SampleRateHz);
+        Assert.Equal([firstChannel, "Cz"], layout.Channels.Select(c => c.Label));
+        var chunk = reader.ReadChunks().Single().Chunk;
+        Assert.Equal([1.5f, 2.5f, 3.5f, 4.5f], chunk.Channel(0).ToArray());
+        Assert.Equal([-2f, -3f, -4f, -5f], chunk.Channel(1).ToArray());
+    }
+
+    [Fact]
+    public void Steps_printed_with_few_decimals_and_a_millisecond_unit_on_any_name_are_read()
+    {
+        // 256 Hz printed to whole ms: steps of 3 and 4 ms around 3.90625 ms, each within one unit of the last decimal;
+        // 257 rows end on exactly 1000 ms.
+        var rows = string.Concat(Enumerable.Range(0, 257).Select(i => $"{Math.Round(i * 1000 / 256.0)};{i}\n"));
+        var path = _folder.WriteText("ms-any.csv", "Время [мс];Cz [mV]\n" + rows);
+        using var reader = RecordingReader.Open(path);
+        Assert.Equal(256.0, reader.Info.Groups[0].Layout.SampleRateHz);
+        var cz = reader.ReadChunks().Single().Chunk.Channel(0).ToArray();
+        Assert.Equal(257, cz.Length);
+        Assert.Equal([0f, 1000f, 2000f], cz[..3]);
+    }
+
+    [Fact]
+    public void A_unit_in_a_channel_header_still_converts_when_time_is_found_by_content()
+    {
+        var path = _folder.WriteText("units.csv", "Zeit (s);Cz [mV];Temp [degC]\n0;0,001;36,6\n0,002;0,002;36,6\n0,004;0,003;36,6\n");
+        using var reader = RecordingReader.Open(path);
+        Assert.Equal(500.0, reader.Info.Groups[0].Layout.SampleRateHz);
+        Assert.Equal("Temp", Assert.Single(reader.Info.Skipped).Label);
+        Assert.Equal([1f, 2f, 3f], reader.ReadChunks().Single().Chunk.Channel(0).ToArray());
+    }
+
+    [Fact]
+    public void A_first_column_that_jumps_about_is_not_time_and_the_error_lists_the_headers() =>
+        Fails("eeg-first.csv", "Fp1,Fp2,Cz\n3.5,1,2\n1.25,2,3\n7,3,4\n", "line 1, column 1: 'Fp1' is not a time column", "but line 3 has 1.25 after 3.5", "headers seen: 'Fp1', 'Fp2', 'Cz'");
+
+    [Fact]
+    public void Uneven_steps_in_the_first_rows_are_not_time() =>
+        Fails("uneven.csv", "tiempo;Cz\n0;1\n0,004;1\n0,008;1\n0,02;1\n", "'tiempo' is not a time column", "but line 3 steps by 0.004 where the first rows step by 0.006666666667 on average", "headers seen: 'tiempo', 'Cz'");
+
+    [Fact]
+    public void Clock_times_in_the_first_column_are_not_seconds() =>
+        Fails("clock.csv", "Uhrzeit;Cz\n12:00:00.000;1\n12:00:00.004;1\n12:00:00.008;1\n", "'Uhrzeit' is not a time column", "line 2 holds '12:00:00.000', not a number", "headers seen: 'Uhrzeit', 'Cz'");
+
+    [Fact]
+    public void A_voltage_unit_on_the_first_column_says_it_is_a_channel() =>
+        Fails("volts.csv", "Fp1 [uV],Cz\n0,1\n1,2\n2,3\n", "its unit 'uV' is not a time unit", "headers seen: 'Fp1 [uV]', 'Cz'");
+
+    [Fact]
+    public void A_sample_counter_in_the_first_column_reads_as_1_Hz_and_says_so() =>
+        Fails("counter.csv", "Sample,Cz\n0,1\n1,2\n2,3\n", "sample rate 1 Hz (taking column 1 'Sample' as time in seconds) is below the analysis minimum");
+
+    [Fact]
+    public void A_time_column_found_by_content_is_still_checked_row_by_row()
+    {
+        // The header is not read as time and only the first 1000 rows decide; a slip after them is caught on its line.
+        var rows = string.Concat(Enumerable.Range(0, 1100).Select(i => string.Create(System.Globalization.CultureInfo.InvariantCulture, $"{(i * 0.004) + (i >= 1050 ? 0.002 : 0):0.000},1\n")));
+        Fails("later-jitter.csv", "tiempo,Cz\n" + rows, "line 1052, column 1: time step 0.006 s differs");
+    }
 
     [Fact]
     public void Mixed_separators_in_the_header_are_rejected() => Fails("mixed.csv", "time,Fp1;Cz\n0,1;2\n", "header mixes separators");

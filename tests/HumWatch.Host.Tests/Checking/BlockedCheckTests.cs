@@ -47,6 +47,41 @@ public sealed class BlockedCheckTests : IDisposable
     }
 
     [Fact]
+    public void Saturation_judged_against_the_span_and_the_other_channels_splits_like_one_pass()
+    {
+        // The saturation tests compare a still stretch with the rest of its own span and with the other channels of the
+        // same span, never with earlier spans, so block boundaries must not matter. Blocks start every 64 s (300 s on 2
+        // threads): F3 drifts onto a 2500 µV rail (inside EDF16's ±3276.7 µV) from 50 s — riding it near 62 s, pinned
+        // from about 63 s, across the 64 s boundary; C3 is hard-clipped at ±150 µV over 120–180 s (across 128 s);
+        // Cz comes off at 185 s, flat at 20 µV (across 192 s).
+        var room = new SimulatedRoom
+        {
+            Name = "rail-room",
+            SampleRateHz = 250,
+            Channels = SimulatedRoom.Montage(10),
+            Faults =
+            [
+                new SimulatedFault { Kind = SimulatedFaultKind.OffsetDrift, Channel = "F3", OnsetSeconds = 50, DriftUvPerSecond = 200, LevelUv = 2500 },
+                new SimulatedFault { Kind = SimulatedFaultKind.Clipped, Channel = "C3", OnsetSeconds = 120, OffsetSeconds = 180, Gain = 6, LevelUv = 150 },
+                new SimulatedFault { Kind = SimulatedFaultKind.Flat, Channel = "Cz", OnsetSeconds = 185, LevelUv = 20, NoiseUvRms = 0.03 },
+            ],
+        };
+        var path = WriteSingleRate("rail.edf", room, seconds: 300);
+        var plan = AssertSplits(path, threads: 2, minimumBlocks: 3);
+        Assert.Equal(64, plan.BlockRecords);
+
+        var oneFile = Report(path, threads: 1);
+        Assert.Equal(oneFile, Report(path, threads: 2));
+
+        using var json = JsonDocument.Parse(oneFile);
+        var kinds = json.RootElement.GetProperty("channelFaults").EnumerateArray()
+            .Select(f => $"{f.GetProperty("channel").GetString()} {f.GetProperty("kind").GetString()}")
+            .Order(StringComparer.Ordinal)
+            .ToArray();
+        Assert.Equal(["C3 clipped", "Cz flat", "F3 clipped"], kinds);
+    }
+
+    [Fact]
     public void Two_rate_groups_with_three_second_records_split_on_a_common_grid_and_match_one_pass()
     {
         // 3 s records against a 2 s hop: blocks may only start every 2 records (6 s), where both grids meet.
