@@ -1,3 +1,5 @@
+using HumWatch.Core.Findings;
+
 namespace HumWatch.Core.Ledger;
 
 /// <summary>
@@ -9,8 +11,8 @@ public sealed class LinePersistence
 {
     private const int PruneAbove = 512;
 
-    private readonly Dictionary<string, (long LastFrame, int Run)> _runs = new(StringComparer.Ordinal);
-    private readonly List<string> _stale = [];
+    private readonly Dictionary<FindingKey, (long LastFrame, int Run)> _runs = [];
+    private readonly List<FindingKey> _stale = [];
 
     /// <param name="minFrames">Frames in a row a key needs before it counts; 1 counts everything.</param>
     public LinePersistence(int minFrames)
@@ -22,9 +24,8 @@ public sealed class LinePersistence
     public int MinFrames { get; }
 
     /// <summary>Records that <paramref name="key"/> is present in frame <paramref name="frameNumber"/> (call once per key and frame).</summary>
-    public void Seen(string key, long frameNumber)
+    public void Seen(FindingKey key, long frameNumber)
     {
-        ArgumentNullException.ThrowIfNull(key);
         var run = _runs.TryGetValue(key, out var previous) && previous.LastFrame == frameNumber - 1 ? previous.Run + 1 : 1;
         if (previous.LastFrame == frameNumber && previous.Run > 0)
         {
@@ -39,7 +40,7 @@ public sealed class LinePersistence
     }
 
     /// <summary>True when <paramref name="key"/> was seen in frame <paramref name="frameNumber"/> and the MinFrames before it, in a row.</summary>
-    public bool IsPersistent(string key, long frameNumber) =>
+    public bool IsPersistent(FindingKey key, long frameNumber) =>
         MinFrames == 1 || (_runs.TryGetValue(key, out var state) && state.LastFrame == frameNumber && state.Run >= MinFrames);
 
     private void Prune(long frameNumber)
