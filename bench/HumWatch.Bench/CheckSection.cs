@@ -99,7 +99,7 @@ internal sealed class CheckSection : IBenchmarkSection
             return 1;
         }
 
-        Console.WriteLine(F($"result {wall:R} {cpu:R} {PeakKb()} {report.Verdict} {report.Lines.Count}"));
+        Console.WriteLine(F($"result {wall:R} {cpu:R} {PeakKb()} {report.Verdict.ToText()} {report.Lines.Count}"));
         return 0;
     }
 

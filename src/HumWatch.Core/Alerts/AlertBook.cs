@@ -1,6 +1,7 @@
 using HumWatch.Core.Analysis;
 using HumWatch.Core.Attribution;
 using HumWatch.Core.Faults;
+using HumWatch.Core.Findings;
 using HumWatch.Core.Lines;
 using HumWatch.Core.Signals;
 
@@ -336,7 +337,7 @@ public sealed class AlertBook
 
         var worst = WorstLabels(track, frame.Layout);
         var changed = new AlertSeverityChanged(
-            StreamId, track.Key!, track.Category, track.Source, null, frame.EndSeconds, frameEndUtc,
+            StreamId, track.Key, track.Category, track.Source, null, frame.EndSeconds, frameEndUtc,
             track.FrequencyHz, track.FrameAmplitudeUvRms, track.FrameShare, worst, previous, track.Severity);
         ReplaceActive(track, track.Active! with { Severity = track.Severity, FrequencyHz = track.FrequencyHz, WorstChannels = worst });
         sink.OnAlertEvent(changed);
@@ -349,7 +350,7 @@ public sealed class AlertBook
         track.PeakSeverity = level;
         track.SeverityRun = 0;
         var worst = WorstLabels(track, frame.Layout);
-        string key;
+        FindingKey key;
         string suggestion;
         ChannelFaultKind? faultKind = null;
         double frequencyHz;
@@ -357,7 +358,7 @@ public sealed class AlertBook
         if (track.Category == AlertCategory.ChannelFault)
         {
             var label = frame.Layout.Channels[track.Channel].Label;
-            key = AlertKeys.ForFault(label, track.FaultKind);
+            key = FindingKey.ChannelFault(label, track.FaultKind);
             suggestion = Suggestions.ForFault(track.FaultKind, label);
             faultKind = track.FaultKind;
             frequencyHz = double.NaN;
@@ -365,7 +366,7 @@ public sealed class AlertBook
         }
         else
         {
-            key = AlertKeys.ForLine(track.Source, track.FrequencyHz);
+            key = FindingKey.ForLine(track.Source, track.FrequencyHz);
             suggestion = Suggestions.For(track.Source, Math.Clamp(track.FrameShare, 0, 1), worst);
             frequencyHz = track.FrequencyHz;
             amplitudeUvRms = track.FrameAmplitudeUvRms;
@@ -385,7 +386,7 @@ public sealed class AlertBook
         _active.Remove(track.Active!);
         var isFault = track.Category == AlertCategory.ChannelFault;
         sink.OnAlertEvent(new AlertCleared(
-            StreamId, track.Key!, track.Category, track.Source, isFault ? track.FaultKind : null, streamSeconds, utc,
+            StreamId, track.Key, track.Category, track.Source, isFault ? track.FaultKind : null, streamSeconds, utc,
             isFault ? double.NaN : track.FrequencyHz, reason, track.LastQualifyingEndSeconds - track.OnsetSeconds,
             isFault ? double.NaN : track.PeakAmplitudeUvRms, track.PeakSeverity, track.Severity));
         track.Raised = false;
@@ -434,7 +435,7 @@ public sealed class AlertBook
         public int AboveRun;
         public int BelowRun;
         public bool Raised;
-        public string? Key;
+        public FindingKey Key;
         public ActiveAlert? Active;
         public double OnsetSeconds;
         public DateTimeOffset OnsetUtc;
@@ -505,7 +506,7 @@ public sealed class AlertBook
             AboveRun = 0;
             BelowRun = 0;
             Raised = false;
-            Key = null;
+            Key = default;
             Active = null;
             PeakAmplitudeUvRms = double.NaN;
             Severity = AlertSeverity.None;

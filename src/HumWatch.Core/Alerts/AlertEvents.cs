@@ -1,5 +1,6 @@
 using HumWatch.Core.Attribution;
 using HumWatch.Core.Faults;
+using HumWatch.Core.Findings;
 
 namespace HumWatch.Core.Alerts;
 
@@ -28,13 +29,57 @@ public static class AlertClearReasonText
 {
     /// <summary>"subsided" or "stream ended".</summary>
     public static string ToText(this AlertClearReason reason) => reason == AlertClearReason.StreamEnded ? "stream ended" : "subsided";
+
+    /// <summary>Parses the text form; unknown text gives false.</summary>
+    public static bool TryParse(string? text, out AlertClearReason reason)
+    {
+        reason = text == "stream ended" ? AlertClearReason.StreamEnded : AlertClearReason.Subsided;
+        return text is "stream ended" or "subsided";
+    }
+}
+
+/// <summary>What happened to an alert.</summary>
+public enum AlertEventKind
+{
+    /// <summary>The alert started (<see cref="AlertRaised"/>).</summary>
+    Raised = 0,
+
+    /// <summary>An active alert's severity changed (<see cref="AlertSeverityChanged"/>).</summary>
+    SeverityChanged,
+
+    /// <summary>The alert ended (<see cref="AlertCleared"/>).</summary>
+    Cleared,
+}
+
+/// <summary>Text forms of <see cref="AlertEventKind"/>: the message and store "event".</summary>
+public static class AlertEventKindText
+{
+    /// <summary>"raised", "severity" or "cleared".</summary>
+    public static string ToText(this AlertEventKind kind) => kind switch
+    {
+        AlertEventKind.SeverityChanged => "severity",
+        AlertEventKind.Cleared => "cleared",
+        _ => "raised",
+    };
+
+    /// <summary>Parses the text form; unknown text gives false.</summary>
+    public static bool TryParse(string? text, out AlertEventKind kind)
+    {
+        kind = text switch
+        {
+            "severity" => AlertEventKind.SeverityChanged,
+            "cleared" => AlertEventKind.Cleared,
+            _ => AlertEventKind.Raised,
+        };
+        return text is "raised" or "severity" or "cleared";
+    }
 }
 
 /// <summary>
 /// Something that happened to one alert. Immutable; created only when the alert changes.
 /// </summary>
 /// <param name="StreamId">Stream the alert belongs to.</param>
-/// <param name="Key">Stable key within the stream, e.g. "mains/h1", "display 75 Hz/h2", "unidentified/37.25Hz", "fault/Fp1/flat".</param>
+/// <param name="Key">Stable key within the stream (text e.g. "mains/h1", "display 75 Hz/h2", "unidentified/37.25Hz", "fault/Fp1/flat").</param>
 /// <param name="Category">Line or channel fault.</param>
 /// <param name="Source">Most likely source of a line; <see cref="SourceMatch.None"/> for unidentified lines and faults.</param>
 /// <param name="FaultKind">The fault for channel-fault alerts, else null.</param>
@@ -42,15 +87,15 @@ public static class AlertClearReasonText
 /// <param name="Utc">UTC time of that frame end.</param>
 public abstract record AlertEvent(
     string StreamId,
-    string Key,
+    FindingKey Key,
     AlertCategory Category,
     SourceMatch Source,
     ChannelFaultKind? FaultKind,
     double StreamSeconds,
     DateTimeOffset Utc)
 {
-    /// <summary>"raised", "severity" or "cleared".</summary>
-    public abstract string EventName { get; }
+    /// <summary>Raised, severity changed or cleared.</summary>
+    public abstract AlertEventKind EventKind { get; }
 
     /// <summary>Severity the alert has after this event (for a clear: the severity it last had).</summary>
     public abstract AlertSeverity Severity { get; }
@@ -67,7 +112,7 @@ public abstract record AlertEvent(
 /// <param name="RaisedSeverity">Severity at raise.</param>
 public sealed record AlertRaised(
     string StreamId,
-    string Key,
+    FindingKey Key,
     AlertCategory Category,
     SourceMatch Source,
     ChannelFaultKind? FaultKind,
@@ -83,7 +128,7 @@ public sealed record AlertRaised(
     AlertSeverity RaisedSeverity)
     : AlertEvent(StreamId, Key, Category, Source, FaultKind, StreamSeconds, Utc)
 {
-    public override string EventName => "raised";
+    public override AlertEventKind EventKind => AlertEventKind.Raised;
 
     public override AlertSeverity Severity => RaisedSeverity;
 }
@@ -91,7 +136,7 @@ public sealed record AlertRaised(
 /// <summary>An active alert's severity changed (after <see cref="AlertOptions.SeverityHoldFrames"/> frames at the new level).</summary>
 public sealed record AlertSeverityChanged(
     string StreamId,
-    string Key,
+    FindingKey Key,
     AlertCategory Category,
     SourceMatch Source,
     ChannelFaultKind? FaultKind,
@@ -105,7 +150,7 @@ public sealed record AlertSeverityChanged(
     AlertSeverity NewSeverity)
     : AlertEvent(StreamId, Key, Category, Source, FaultKind, StreamSeconds, Utc)
 {
-    public override string EventName => "severity";
+    public override AlertEventKind EventKind => AlertEventKind.SeverityChanged;
 
     public override AlertSeverity Severity => NewSeverity;
 }
@@ -119,7 +164,7 @@ public sealed record AlertSeverityChanged(
 /// <param name="LastSeverity">Severity it had when it ended.</param>
 public sealed record AlertCleared(
     string StreamId,
-    string Key,
+    FindingKey Key,
     AlertCategory Category,
     SourceMatch Source,
     ChannelFaultKind? FaultKind,
@@ -133,7 +178,7 @@ public sealed record AlertCleared(
     AlertSeverity LastSeverity)
     : AlertEvent(StreamId, Key, Category, Source, FaultKind, StreamSeconds, Utc)
 {
-    public override string EventName => "cleared";
+    public override AlertEventKind EventKind => AlertEventKind.Cleared;
 
     public override AlertSeverity Severity => LastSeverity;
 }
@@ -149,7 +194,7 @@ public sealed record AlertCleared(
 /// <param name="WorstChannels">Worst channels at the last event.</param>
 /// <param name="Suggestion">Suggestion given at raise.</param>
 public sealed record ActiveAlert(
-    string Key,
+    FindingKey Key,
     AlertCategory Category,
     SourceMatch Source,
     ChannelFaultKind? FaultKind,

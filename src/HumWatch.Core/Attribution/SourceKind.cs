@@ -15,3 +15,29 @@ public enum SourceKind
     /// <summary>A tone the site declared (a pump, a stimulator, a ventilation drive …).</summary>
     SiteTone,
 }
+
+/// <summary>Text forms of <see cref="SourceKind"/>, the one spelling every output uses (JSON values, topics, logs, the store).</summary>
+public static class SourceKindText
+{
+    /// <summary>"mains", "display", "site-tone" or "unidentified".</summary>
+    public static string ToText(this SourceKind kind) => kind switch
+    {
+        SourceKind.Mains => "mains",
+        SourceKind.Display => "display",
+        SourceKind.SiteTone => "site-tone",
+        _ => "unidentified",
+    };
+
+    /// <summary>Parses the text form; unknown text gives false.</summary>
+    public static bool TryParse(string? text, out SourceKind kind)
+    {
+        kind = text switch
+        {
+            "mains" => SourceKind.Mains,
+            "display" => SourceKind.Display,
+            "site-tone" => SourceKind.SiteTone,
+            _ => SourceKind.Unidentified,
+        };
+        return kind != SourceKind.Unidentified || text == "unidentified";
+    }
+}

@@ -1,7 +1,5 @@
-using HumWatch.Core.Alerts;
 using HumWatch.Core.Analysis;
-using HumWatch.Core.Attribution;
-using HumWatch.Core.Faults;
+using HumWatch.Core.Findings;
 using HumWatch.Core.Lines;
 
 namespace HumWatch.Core.Ledger;
@@ -14,15 +12,11 @@ namespace HumWatch.Core.Ledger;
 /// </summary>
 public sealed class MinuteLedger
 {
-    /// <summary>Source key of the row that describes the stream as a whole (any line). "*".</summary>
-    public const string AllSourcesKey = "*";
-
-    private const int MaxCachedKeys = 4096;
+    /// <summary>Source key of the row that describes the stream as a whole (any line); text "*".</summary>
+    public static FindingKey AllSourcesKey => FindingKey.All;
 
     private readonly double _minAmplitudeUvRms;
-    private readonly Dictionary<(SourceKind Kind, string Name, int Harmonic, bool Aliased), string> _lineKeys = [];
-    private readonly Dictionary<(int Channel, ChannelFaultKind Kind), string> _faultKeys = [];
-    private readonly Dictionary<string, SourceTally> _tallies = new(StringComparer.Ordinal);
+    private readonly Dictionary<FindingKey, SourceTally> _tallies = [];
     private readonly List<SourceTally> _ordered = [];
     private readonly Stack<SourceTally> _free = new();
     private readonly List<double> _mainsHz = [];
@@ -131,7 +125,7 @@ public sealed class MinuteLedger
                 continue;
             }
 
-            var key = LineKey(line.Source, line.FrequencyHz, frame.BinWidthHz);
+            var key = FindingKey.ForLine(line.Source, line.FrequencyHz, frame.BinWidthHz);
 
             var tally = TallyFor(key);
             tally.AddLine(_frameNumber, seconds, line);
@@ -155,41 +149,11 @@ public sealed class MinuteLedger
                 continue;
             }
 
-            TallyFor(FaultKey(fault.Channel, fault.Kind)).AddFault(_frameNumber, seconds, fault.Channel);
+            TallyFor(FindingKey.ChannelFault(_labels[fault.Channel], fault.Kind)).AddFault(_frameNumber, seconds, fault.Channel);
         }
     }
 
-    private string LineKey(SourceMatch source, double frequencyHz, double binWidthHz)
-    {
-        // Unidentified lines are keyed by their nearest bin so a steady tone keeps one key.
-        var harmonic = source.IsIdentified ? source.Harmonic : (int)Math.Round(frequencyHz / binWidthHz);
-        var cacheKey = (source.Kind, source.Name, harmonic, source.Aliased);
-        if (!_lineKeys.TryGetValue(cacheKey, out var key))
-        {
-            if (_lineKeys.Count >= MaxCachedKeys)
-            {
-                _lineKeys.Clear();
-            }
-
-            key = AlertKeys.ForLine(source, source.IsIdentified ? frequencyHz : harmonic * binWidthHz);
-            _lineKeys.Add(cacheKey, key);
-        }
-
-        return key;
-    }
-
-    private string FaultKey(int channel, ChannelFaultKind kind)
-    {
-        if (!_faultKeys.TryGetValue((channel, kind), out var key))
-        {
-            key = AlertKeys.ForFault(_labels[channel], kind);
-            _faultKeys.Add((channel, kind), key);
-        }
-
-        return key;
-    }
-
-    private SourceTally TallyFor(string key)
+    private SourceTally TallyFor(FindingKey key)
     {
         if (!_tallies.TryGetValue(key, out var tally))
         {
@@ -215,10 +179,12 @@ public sealed class MinuteLedger
         _ordered.Clear();
         foreach (var tally in _tallies.Values)
         {
+            tally.KeyText = tally.Key.ToString();
             _ordered.Add(tally);
         }
 
-        _ordered.Sort(static (a, b) => string.CompareOrdinal(a.Key, b.Key));
+        // Rows go out in the order of their key text, as they always have, so a re-run numbers them the same way.
+        _ordered.Sort(static (a, b) => string.CompareOrdinal(a.KeyText, b.KeyText));
         for (var i = 0; i < _ordered.Count; i++)
         {
             sink.OnMinuteRow(_ordered[i].ToRow(this, minuteUtc, mainsHz));
@@ -246,7 +212,7 @@ public sealed class MinuteLedger
     }
 
     /// <summary>One source's figures within the open minute; pooled.</summary>
-    private sealed class SourceTally(string key)
+    private sealed class SourceTally(FindingKey key)
     {
         private readonly List<double> _amplitudesUvRms = [];
         private readonly List<(int Channel, double AmplitudeUvRms)> _channels = [];
@@ -254,11 +220,15 @@ public sealed class MinuteLedger
         private double _affectedSeconds;
         private double _maxUvRms = double.NaN;
 
-        public string Key { get; private set; } = key;
+        public FindingKey Key { get; private set; } = key;
 
-        public void Reset(string key)
+        /// <summary>The key's text, set when the minute's rows are ordered.</summary>
+        public string KeyText { get; set; } = "";
+
+        public void Reset(FindingKey key)
         {
             Key = key;
+            KeyText = "";
             _amplitudesUvRms.Clear();
             _channels.Clear();
             _lastFrame = 0;

@@ -1,3 +1,5 @@
+using HumWatch.Core.Findings;
+
 namespace HumWatch.Core.Ledger;
 
 /// <summary>
@@ -8,7 +10,7 @@ namespace HumWatch.Core.Ledger;
 /// <param name="SessionId">Session that produced it; with <paramref name="Sequence"/> it identifies the row so a re-delivery is applied once.</param>
 /// <param name="Sequence">Running number of the row within the session, from 1.</param>
 /// <param name="MinuteUtc">Start of the UTC minute.</param>
-/// <param name="SourceKey">Finding key (see <see cref="Alerts.AlertKeys"/>), or <see cref="MinuteLedger.AllSourcesKey"/> for the stream as a whole.</param>
+/// <param name="SourceKey">Finding key, or <see cref="MinuteLedger.AllSourcesKey"/> for the stream as a whole.</param>
 /// <param name="MonitoredSeconds">Analysed stream time that fell into this minute, s.</param>
 /// <param name="AffectedSeconds">Of that, time the source was present at or above the ledger's level, s.</param>
 /// <param name="MaxAmplitudeUvRms">Largest amplitude seen, µV RMS; NaN when none (faults, or no line in the minute).</param>
@@ -20,7 +22,7 @@ public sealed record MinuteRow(
     string SessionId,
     long Sequence,
     DateTimeOffset MinuteUtc,
-    string SourceKey,
+    FindingKey SourceKey,
     double MonitoredSeconds,
     double AffectedSeconds,
     double MaxAmplitudeUvRms,

@@ -3,14 +3,6 @@ using HumWatch.Core.Faults;
 
 namespace HumWatch.Core.Reporting;
 
-/// <summary>Outcome of a recording against <see cref="CheckLimits"/>.</summary>
-public enum Verdict
-{
-    Pass = 0,
-    Warn,
-    Fail,
-}
-
 /// <summary>One episode of one line over a recording (or one rate group of it).</summary>
 /// <param name="FrequencyHz">Median of the frames' frequencies.</param>
 /// <param name="Source">Most likely explanation (identical over the episode).</param>

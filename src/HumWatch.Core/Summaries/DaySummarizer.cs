@@ -1,5 +1,6 @@
 using System.Globalization;
-using HumWatch.Core.Ledger;
+using HumWatch.Core.Alerts;
+using HumWatch.Core.Findings;
 
 namespace HumWatch.Core.Summaries;
 
@@ -12,6 +13,10 @@ public static class DaySummarizer
 {
     /// <summary>Schema version of <see cref="DaySummary"/>.</summary>
     public const int Version = 1;
+
+    /// <summary>Kinds of source in the order they are listed and judged.</summary>
+    private static readonly FindingCategory[] CategoryOrder =
+        [FindingCategory.Mains, FindingCategory.Display, FindingCategory.SiteTone, FindingCategory.Unidentified, FindingCategory.ChannelFault];
 
     /// <summary>Summarises one stream's local day.</summary>
     /// <param name="streamId">Stream id.</param>
@@ -43,8 +48,9 @@ public static class DaySummarizer
 
         var (fromUtc, toUtc) = LocalDay.RangeUtc(day, zone);
         var dayMinutes = (int)((toUtc - fromUtc).Ticks / TimeSpan.TicksPerMinute);
-        var all = new SourceTally(SourceKeyInfo.Parse(MinuteLedger.AllSourcesKey), dayMinutes);
-        var tallies = new Dictionary<string, SourceTally>(StringComparer.Ordinal);
+        var all = new SourceTally(FindingKey.All, dayMinutes);
+        // Keyed by the typed key, so the spellings a store holds for one finding (e.g. "site:" and "site-tone:") add up.
+        var tallies = new Dictionary<FindingKey, SourceTally>();
         var mainsHz = new double?[dayMinutes];
         var monitoredSeconds = 0.0;
 
@@ -57,7 +63,7 @@ public static class DaySummarizer
             }
 
             SourceTally tally;
-            if (row.SourceKey == MinuteLedger.AllSourcesKey)
+            if (row.SourceKey == FindingKey.All)
             {
                 tally = all;
                 monitoredSeconds += row.MonitoredSeconds;
@@ -68,7 +74,7 @@ public static class DaySummarizer
             }
             else if (!tallies.TryGetValue(row.SourceKey, out tally!))
             {
-                tally = new SourceTally(SourceKeyInfo.Parse(row.SourceKey), dayMinutes);
+                tally = new SourceTally(row.SourceKey, dayMinutes);
                 tallies.Add(row.SourceKey, tally);
             }
 
@@ -79,7 +85,7 @@ public static class DaySummarizer
         var sources = new List<(SourceTally Tally, SourceSummary Summary)>(tallies.Count);
         foreach (var tally in tallies.Values)
         {
-            frequencies.TryGetValue(tally.Info.Key, out var hz);
+            frequencies.TryGetValue(tally.Key, out var hz);
             sources.Add((tally, tally.ToSummary(options, fromUtc, zone, hz)));
         }
 
@@ -87,7 +93,7 @@ public static class DaySummarizer
         sources.Sort(static (a, b) =>
         {
             var byMinutes = b.Summary.AffectedMinutes.CompareTo(a.Summary.AffectedMinutes);
-            return byMinutes != 0 ? byMinutes : string.CompareOrdinal(a.Summary.Key, b.Summary.Key);
+            return byMinutes != 0 ? byMinutes : FindingKey.TextOrder.Compare(a.Summary.Key, b.Summary.Key);
         });
 
         var categories = Categories(tallies, options, dayMinutes);
@@ -134,9 +140,9 @@ public static class DaySummarizer
 
     private static double? Round(double? value, int digits) => value is { } v ? Round(v, digits) : null;
 
-    private static Dictionary<string, double> LineFrequencies(IReadOnlyList<AlertRecord> alerts, DaySpectrum? spectrum, DateTimeOffset fromUtc, DateTimeOffset toUtc)
+    private static Dictionary<FindingKey, double> LineFrequencies(IReadOnlyList<AlertRecord> alerts, DaySpectrum? spectrum, DateTimeOffset fromUtc, DateTimeOffset toUtc)
     {
-        var result = new Dictionary<string, double>(StringComparer.Ordinal);
+        var result = new Dictionary<FindingKey, double>();
         if (spectrum is not null)
         {
             foreach (var (key, hz) in spectrum.LineFrequenciesHz)
@@ -146,7 +152,7 @@ public static class DaySummarizer
         }
 
         // Alerts fill in lines the spectrum store does not know (older data); the mean of the events' frequencies.
-        var sums = new Dictionary<string, (double Sum, int Count)>(StringComparer.Ordinal);
+        var sums = new Dictionary<FindingKey, (double Sum, int Count)>();
         foreach (var alert in alerts)
         {
             if (alert.Utc < fromUtc || alert.Utc >= toUtc || alert.FrequencyHz is not { } hz || !double.IsFinite(hz) || result.ContainsKey(alert.Key))
@@ -166,17 +172,16 @@ public static class DaySummarizer
         return result;
     }
 
-    private static List<CategorySummary> Categories(Dictionary<string, SourceTally> tallies, SummaryOptions options, int dayMinutes)
+    private static List<CategorySummary> Categories(Dictionary<FindingKey, SourceTally> tallies, SummaryOptions options, int dayMinutes)
     {
-        SourceCategory[] order = [SourceCategory.Mains, SourceCategory.Display, SourceCategory.SiteTone, SourceCategory.Unidentified, SourceCategory.ChannelFault];
-        var result = new List<CategorySummary>(order.Length);
+        var result = new List<CategorySummary>(CategoryOrder.Length);
         var perMinute = new double[dayMinutes];
-        foreach (var category in order)
+        foreach (var category in CategoryOrder)
         {
             Array.Clear(perMinute);
             foreach (var tally in tallies.Values)
             {
-                if (tally.Info.Category == category)
+                if (tally.Key.Category == category)
                 {
                     tally.MaxInto(perMinute);
                 }
@@ -190,44 +195,42 @@ public static class DaySummarizer
 
             var minutes = Round(seconds / 60, 2);
             var limit = options.LimitFor(category)!;
-            result.Add(new CategorySummary(SourceKeyInfo.CategoryText(category), minutes, limit.WarnMinutes, limit.FailMinutes, VerdictOf(minutes, limit)));
+            result.Add(new CategorySummary(category, minutes, limit.WarnMinutes, limit.FailMinutes, VerdictOf(minutes, limit)));
         }
 
         return result;
     }
 
-    private static string VerdictOf(double minutes, DailyLimit limit) =>
-        limit.FailMinutes is { } fail && minutes >= fail ? "fail"
-        : limit.WarnMinutes is { } warn && minutes >= warn ? "warn"
-        : "pass";
+    private static DayVerdict VerdictOf(double minutes, DailyLimit limit) =>
+        limit.FailMinutes is { } fail && minutes >= fail ? DayVerdict.Fail
+        : limit.WarnMinutes is { } warn && minutes >= warn ? DayVerdict.Warn
+        : DayVerdict.Pass;
 
-    private static (string Verdict, List<string> Reasons) Judge(List<CategorySummary> categories, SummaryOptions options, bool hasData)
+    private static (DayVerdict Verdict, List<string> Reasons) Judge(List<CategorySummary> categories, SummaryOptions options, bool hasData)
     {
         var reasons = new List<string>();
         if (!hasData)
         {
-            return ("no data", reasons);
+            return (DayVerdict.NoData, reasons);
         }
 
-        var verdict = "pass";
-        SourceCategory[] order = [SourceCategory.Mains, SourceCategory.Display, SourceCategory.SiteTone, SourceCategory.Unidentified, SourceCategory.ChannelFault];
-        for (var i = 0; i < categories.Count; i++)
+        var verdict = DayVerdict.Pass;
+        foreach (var c in categories)
         {
-            var c = categories[i];
-            var key = $"Summaries:Day:{SummaryOptions.LimitKey(order[i])}";
-            if (c.Verdict == "fail")
+            var key = $"Summaries:Day:{SummaryOptions.LimitKey(c.Category)}";
+            if (c.Verdict == DayVerdict.Fail)
             {
-                verdict = "fail";
-                reasons.Add(string.Create(CultureInfo.InvariantCulture, $"{c.Category}: {c.AffectedMinutes:0.##} affected minutes reach the fail limit of {c.FailMinutes:0.##} ({key}:FailMinutes)."));
+                verdict = DayVerdict.Fail;
+                reasons.Add(string.Create(CultureInfo.InvariantCulture, $"{c.Category.ToText()}: {c.AffectedMinutes:0.##} affected minutes reach the fail limit of {c.FailMinutes:0.##} ({key}:FailMinutes)."));
             }
-            else if (c.Verdict == "warn")
+            else if (c.Verdict == DayVerdict.Warn)
             {
-                if (verdict == "pass")
+                if (verdict == DayVerdict.Pass)
                 {
-                    verdict = "warn";
+                    verdict = DayVerdict.Warn;
                 }
 
-                reasons.Add(string.Create(CultureInfo.InvariantCulture, $"{c.Category}: {c.AffectedMinutes:0.##} affected minutes reach the warn limit of {c.WarnMinutes:0.##} ({key}:WarnMinutes)."));
+                reasons.Add(string.Create(CultureInfo.InvariantCulture, $"{c.Category.ToText()}: {c.AffectedMinutes:0.##} affected minutes reach the warn limit of {c.WarnMinutes:0.##} ({key}:WarnMinutes)."));
             }
         }
 
@@ -237,7 +240,8 @@ public static class DaySummarizer
     private static AlertTally TallyAlerts(IReadOnlyList<AlertRecord> alerts, DateTimeOffset fromUtc, DateTimeOffset toUtc, TimeZoneInfo zone)
     {
         int raised = 0, cleared = 0, changes = 0, minor = 0, marked = 0, severe = 0;
-        var byKey = new SortedDictionary<string, (int Raised, int Cleared, int Peak, DateTimeOffset? First)>(StringComparer.Ordinal);
+        // Ordered as the key texts, as the list has always been.
+        var byKey = new SortedDictionary<FindingKey, (int Raised, int Cleared, AlertSeverity Peak, DateTimeOffset? First)>(FindingKey.TextOrder);
         foreach (var alert in alerts)
         {
             if (alert.Utc < fromUtc || alert.Utc >= toUtc)
@@ -246,29 +250,34 @@ public static class DaySummarizer
             }
 
             byKey.TryGetValue(alert.Key, out var k);
-            var rank = SeverityRank(alert.Severity);
-            k.Peak = Math.Max(k.Peak, rank);
+            if (alert.Severity > k.Peak)
+            {
+                k.Peak = alert.Severity;
+            }
+
             switch (alert.Event)
             {
-                case "raised":
+                case AlertEventKind.Raised:
                     raised++;
                     k.Raised++;
                     k.First ??= alert.Utc;
-                    if (rank == 1)
+                    switch (alert.Severity)
                     {
-                        minor++;
-                    }
-                    else if (rank == 2)
-                    {
-                        marked++;
-                    }
-                    else if (rank == 3)
-                    {
-                        severe++;
+                        case AlertSeverity.Minor:
+                            minor++;
+                            break;
+                        case AlertSeverity.Marked:
+                            marked++;
+                            break;
+                        case AlertSeverity.Severe:
+                            severe++;
+                            break;
+                        default:
+                            break;
                     }
 
                     break;
-                case "cleared":
+                case AlertEventKind.Cleared:
                     cleared++;
                     k.Cleared++;
                     break;
@@ -283,27 +292,11 @@ public static class DaySummarizer
         var list = new List<AlertKeyTally>(byKey.Count);
         foreach (var (key, k) in byKey)
         {
-            list.Add(new AlertKeyTally(key, k.Raised, k.Cleared, SeverityText(k.Peak), k.First is { } first ? LocalDay.LocalText(first, zone) : null));
+            list.Add(new AlertKeyTally(key, k.Raised, k.Cleared, k.Peak, k.First is { } first ? LocalDay.LocalText(first, zone) : null));
         }
 
         return new AlertTally(raised, cleared, changes, minor, marked, severe, list);
     }
-
-    private static int SeverityRank(string severity) => severity switch
-    {
-        "minor" => 1,
-        "marked" => 2,
-        "severe" => 3,
-        _ => 0,
-    };
-
-    private static string SeverityText(int rank) => rank switch
-    {
-        1 => "minor",
-        2 => "marked",
-        3 => "severe",
-        _ => "none",
-    };
 
     private static MainsTrack Track(double?[] hz)
     {
@@ -344,14 +337,14 @@ public static class DaySummarizer
     }
 
     /// <summary>One source key's minutes over the day.</summary>
-    private sealed class SourceTally(SourceKeyInfo info, int dayMinutes)
+    private sealed class SourceTally(FindingKey key, int dayMinutes)
     {
         private readonly double[] _affectedSeconds = new double[dayMinutes];
         private readonly List<double> _medians = [];
         private readonly Dictionary<string, int> _channelMinutes = new(StringComparer.Ordinal);
         private double _max = double.NaN;
 
-        public SourceKeyInfo Info { get; } = info;
+        public FindingKey Key { get; } = key;
 
         public void Add(int index, LedgerMinute row)
         {
@@ -434,13 +427,13 @@ public static class DaySummarizer
                 worst.Add(new ChannelMinutes(channels[i].Key, channels[i].Value));
             }
 
-            double? hz = frequencyHz > 0 ? Round(frequencyHz, 3) : Info.FrequencyHz;
+            double? hz = frequencyHz > 0 ? Round(frequencyHz, 3) : Key.FrequencyHz;
             return new SourceSummary(
-                Info.Key,
-                SourceKeyInfo.CategoryText(Info.Category),
-                Info.Label,
-                Info.Harmonic,
-                Info.Category == SourceCategory.ChannelFault ? null : hz,
+                Key,
+                Key.Category,
+                Key.Label,
+                Key.Harmonic,
+                Key.Category == FindingCategory.ChannelFault ? null : hz,
                 Round(total / 60, 2),
                 episodeCount,
                 episodes,
@@ -491,7 +484,7 @@ public static class DaySummarizer
 
             var startUtc = fromUtc.AddMinutes(start);
             var endUtc = fromUtc.AddMinutes(end);
-            return new Episode(Info.Key, startUtc, endUtc, LocalDay.LocalText(startUtc, zone), LocalDay.LocalText(endUtc, zone), end - start, Round(seconds / 60, 2));
+            return new Episode(Key, startUtc, endUtc, LocalDay.LocalText(startUtc, zone), LocalDay.LocalText(endUtc, zone), end - start, Round(seconds / 60, 2));
         }
     }
 }

@@ -1,3 +1,6 @@
+using HumWatch.Core.Alerts;
+using HumWatch.Core.Findings;
+
 namespace HumWatch.Core.Summaries;
 
 /// <summary>One stream's local day: what was monitored, what affected it, and the verdict. Serialised as summaries/&lt;date&gt;/&lt;stream&gt;.json.</summary>
@@ -9,7 +12,7 @@ namespace HumWatch.Core.Summaries;
 /// <param name="DayEndUtc">Next local midnight in UTC.</param>
 /// <param name="HoursInDay">23, 24 or 25 (daylight-saving changes).</param>
 /// <param name="HoursMonitored">Analysed stream time, h.</param>
-/// <param name="Verdict">"pass", "warn", "fail", or "no data".</param>
+/// <param name="Verdict">Pass, warn, fail, or no data (text "pass", "warn", "fail", "no data").</param>
 /// <param name="VerdictReasons">One line per limit reached, naming its configuration key.</param>
 /// <param name="AffectedMinutes">Time with any line at or above the ledger level, min.</param>
 /// <param name="MaxAmplitudeUvRms">Largest line amplitude of the day, µV RMS; null when none.</param>
@@ -30,7 +33,7 @@ public sealed record DaySummary(
     DateTimeOffset DayEndUtc,
     int HoursInDay,
     double HoursMonitored,
-    string Verdict,
+    DayVerdict Verdict,
     IReadOnlyList<string> VerdictReasons,
     double AffectedMinutes,
     double? MaxAmplitudeUvRms,
@@ -44,7 +47,7 @@ public sealed record DaySummary(
     HourTimeline Timeline);
 
 /// <summary>A run of affected minutes.</summary>
-/// <param name="Source">Source key ("*" for any line).</param>
+/// <param name="Source">Source key (<see cref="FindingKey.All"/>, text "*", for any line).</param>
 /// <param name="StartUtc">Start of the first affected minute.</param>
 /// <param name="EndUtc">End of the last affected minute.</param>
 /// <param name="StartLocal">Start in site time, ISO 8601 with offset.</param>
@@ -52,7 +55,7 @@ public sealed record DaySummary(
 /// <param name="SpanMinutes">From start to end, min.</param>
 /// <param name="AffectedMinutes">Time the source was present within the span, min.</param>
 public sealed record Episode(
-    string Source,
+    FindingKey Source,
     DateTimeOffset StartUtc,
     DateTimeOffset EndUtc,
     string StartLocal,
@@ -64,12 +67,12 @@ public sealed record Episode(
 public sealed record ChannelMinutes(string Channel, int Minutes);
 
 /// <summary>One kind of source against its daily limit.</summary>
-/// <param name="Category">"mains", "display", "site", "unidentified" or "fault".</param>
+/// <param name="Category">Kind of source (text "mains", "display", "site-tone", "unidentified" or "fault").</param>
 /// <param name="AffectedMinutes">Time any source of the kind was present (per minute the largest of its sources), min.</param>
 /// <param name="WarnMinutes">Configured warn level, min; null for none.</param>
 /// <param name="FailMinutes">Configured fail level, min; null for none.</param>
-/// <param name="Verdict">"pass", "warn" or "fail".</param>
-public sealed record CategorySummary(string Category, double AffectedMinutes, double? WarnMinutes, double? FailMinutes, string Verdict);
+/// <param name="Verdict">Pass, warn or fail (never no data).</param>
+public sealed record CategorySummary(FindingCategory Category, double AffectedMinutes, double? WarnMinutes, double? FailMinutes, DayVerdict Verdict);
 
 /// <summary>One source key's day.</summary>
 /// <param name="Key">Source key as in the ledger and alerts.</param>
@@ -84,8 +87,8 @@ public sealed record CategorySummary(string Category, double AffectedMinutes, do
 /// <param name="MedianAmplitudeUvRms">Median of per-minute medians, µV RMS; null for faults.</param>
 /// <param name="WorstChannels">Channels most often among the worst for this source.</param>
 public sealed record SourceSummary(
-    string Key,
-    string Category,
+    FindingKey Key,
+    FindingCategory Category,
     string Label,
     int? Harmonic,
     double? FrequencyHz,
@@ -100,9 +103,9 @@ public sealed record SourceSummary(
 /// <param name="Raised">Alerts raised.</param>
 /// <param name="Cleared">Alerts cleared.</param>
 /// <param name="SeverityChanges">Severity changes of active alerts.</param>
-/// <param name="RaisedMinor">Raised at "minor".</param>
-/// <param name="RaisedMarked">Raised at "marked".</param>
-/// <param name="RaisedSevere">Raised at "severe".</param>
+/// <param name="RaisedMinor">Raised at minor.</param>
+/// <param name="RaisedMarked">Raised at marked.</param>
+/// <param name="RaisedSevere">Raised at severe.</param>
 /// <param name="ByKey">Per alert key, ordered by key.</param>
 public sealed record AlertTally(int Raised, int Cleared, int SeverityChanges, int RaisedMinor, int RaisedMarked, int RaisedSevere, IReadOnlyList<AlertKeyTally> ByKey);
 
@@ -112,7 +115,7 @@ public sealed record AlertTally(int Raised, int Cleared, int SeverityChanges, in
 /// <param name="Cleared">Times cleared.</param>
 /// <param name="PeakSeverity">Highest severity seen.</param>
 /// <param name="FirstRaisedLocal">First raise in site time, ISO 8601 with offset; null when only clears fell into the day.</param>
-public sealed record AlertKeyTally(string Key, int Raised, int Cleared, string PeakSeverity, string? FirstRaisedLocal);
+public sealed record AlertKeyTally(FindingKey Key, int Raised, int Cleared, AlertSeverity PeakSeverity, string? FirstRaisedLocal);
 
 /// <summary>The estimated mains frequency over the day.</summary>
 /// <param name="MeanHz">Mean over minutes with an estimate, Hz; null when none.</param>
@@ -129,4 +132,4 @@ public sealed record MainsTrack(double? MeanHz, double? MinHz, double? MaxHz, in
 public sealed record HourTimeline(IReadOnlyList<string> HourStartsLocal, IReadOnlyList<TimelineRow> Rows);
 
 /// <summary>One source's affected minutes per hour.</summary>
-public sealed record TimelineRow(string Key, string Label, IReadOnlyList<double> Minutes);
+public sealed record TimelineRow(FindingKey Key, string Label, IReadOnlyList<double> Minutes);

@@ -1,6 +1,5 @@
-using HumWatch.Core.Alerts;
 using HumWatch.Core.Analysis;
-using HumWatch.Core.Attribution;
+using HumWatch.Core.Findings;
 
 namespace HumWatch.Core.Summaries;
 
@@ -27,7 +26,7 @@ public sealed record SpectrumPart(
     double BinWidthHz,
     double Seconds,
     float[] MeanPsdUv2PerHz,
-    IReadOnlyDictionary<string, LineFrequencyTally> Lines);
+    IReadOnlyDictionary<FindingKey, LineFrequencyTally> Lines);
 
 /// <summary>Receives completed spectrum parts.</summary>
 public interface ISpectrumPartSink
@@ -45,8 +44,7 @@ public sealed class HourlySpectrumAccumulator
 {
     private readonly double _minAmplitudeUvRms;
     private readonly double _flushEverySeconds;
-    private readonly Dictionary<(SourceKind Kind, string Name, int Harmonic), string> _keys = [];
-    private readonly Dictionary<string, LineFrequencyTally> _lines = new(StringComparer.Ordinal);
+    private readonly Dictionary<FindingKey, LineFrequencyTally> _lines = [];
     private double[] _sum = [];
     private double _binWidthHz;
     private double _seconds;
@@ -134,7 +132,7 @@ public sealed class HourlySpectrumAccumulator
                 continue;
             }
 
-            var key = KeyOf(line.Source, line.FrequencyHz, frame.BinWidthHz);
+            var key = FindingKey.ForLine(line.Source, line.FrequencyHz, frame.BinWidthHz);
 
             var tally = _lines.GetValueOrDefault(key);
             _lines[key] = new LineFrequencyTally(tally.SumHz + line.FrequencyHz, tally.Frames + 1);
@@ -146,24 +144,6 @@ public sealed class HourlySpectrumAccumulator
     {
         ArgumentNullException.ThrowIfNull(sink);
         Emit(sink);
-    }
-
-    private string KeyOf(SourceMatch source, double frequencyHz, double binWidthHz)
-    {
-        // Same keys as the minute ledger: unidentified lines by their nearest bin.
-        var harmonic = source.IsIdentified ? source.Harmonic : (int)Math.Round(frequencyHz / binWidthHz);
-        if (!_keys.TryGetValue((source.Kind, source.Name, harmonic), out var key))
-        {
-            if (_keys.Count >= 4096)
-            {
-                _keys.Clear();
-            }
-
-            key = AlertKeys.ForLine(source, source.IsIdentified ? frequencyHz : harmonic * binWidthHz);
-            _keys.Add((source.Kind, source.Name, harmonic), key);
-        }
-
-        return key;
     }
 
     private void Emit(ISpectrumPartSink sink)
@@ -179,7 +159,7 @@ public sealed class HourlySpectrumAccumulator
             mean[k] = (float)(_sum[k] / _seconds);
         }
 
-        var lines = new Dictionary<string, LineFrequencyTally>(_lines, StringComparer.Ordinal);
+        var lines = new Dictionary<FindingKey, LineFrequencyTally>(_lines);
         sink.OnSpectrumPart(new SpectrumPart(StreamId, SessionId, ++_sequence, new DateTimeOffset(_openHourTicks, TimeSpan.Zero), _binWidthHz, _seconds, mean, lines));
         Array.Clear(_sum);
         _lines.Clear();

@@ -1,4 +1,5 @@
 using System.Globalization;
+using HumWatch.Core.Findings;
 
 namespace HumWatch.Core.Summaries;
 
@@ -98,25 +99,25 @@ public sealed class SummaryOptions
         return errors;
     }
 
-    /// <summary>The limit that applies to a category; null for <see cref="SourceCategory.All"/>.</summary>
-    public DailyLimit? LimitFor(SourceCategory category) => category switch
+    /// <summary>The limit that applies to a category; null for <see cref="FindingCategory.All"/>.</summary>
+    public DailyLimit? LimitFor(FindingCategory category) => category switch
     {
-        SourceCategory.Mains => Mains,
-        SourceCategory.Display => Display,
-        SourceCategory.SiteTone => SiteTone,
-        SourceCategory.Unidentified => Unidentified,
-        SourceCategory.ChannelFault => ChannelFault,
+        FindingCategory.Mains => Mains,
+        FindingCategory.Display => Display,
+        FindingCategory.SiteTone => SiteTone,
+        FindingCategory.Unidentified => Unidentified,
+        FindingCategory.ChannelFault => ChannelFault,
         _ => null,
     };
 
     /// <summary>Configuration key of a category's limit, e.g. "SiteTone".</summary>
-    public static string LimitKey(SourceCategory category) => category switch
+    public static string LimitKey(FindingCategory category) => category switch
     {
-        SourceCategory.Mains => nameof(Mains),
-        SourceCategory.Display => nameof(Display),
-        SourceCategory.SiteTone => nameof(SiteTone),
-        SourceCategory.Unidentified => nameof(Unidentified),
-        SourceCategory.ChannelFault => nameof(ChannelFault),
+        FindingCategory.Mains => nameof(Mains),
+        FindingCategory.Display => nameof(Display),
+        FindingCategory.SiteTone => nameof(SiteTone),
+        FindingCategory.Unidentified => nameof(Unidentified),
+        FindingCategory.ChannelFault => nameof(ChannelFault),
         _ => "All",
     };
 

@@ -1,4 +1,6 @@
 using System.Text.Json.Serialization;
+using HumWatch.Core.Reporting;
+using HumWatch.Host.Serialization;
 
 namespace HumWatch.Host.Checking;
 
@@ -7,8 +9,8 @@ public sealed class CheckReport
 {
     public required string File { get; init; }
 
-    /// <summary>"pass", "warn", "fail", or "error" when the file could not be read.</summary>
-    public required string Verdict { get; init; }
+    /// <summary>Pass, warn, fail, or error when the file could not be read; written as "pass", "warn", "fail", "error".</summary>
+    public required Verdict Verdict { get; init; }
 
     public string? Error { get; init; }
 
@@ -42,11 +44,12 @@ public sealed class CheckReport
     /// <summary>The electrical-safety caution that goes with any suggestion.</summary>
     public string? Caution { get; init; }
 
+    /// <summary>0 pass or warn, 1 fail, 2 error (unreadable input).</summary>
     [JsonIgnore]
     public int ExitCode => Verdict switch
     {
-        "pass" or "warn" => 0,
-        "fail" => 1,
+        Verdict.Pass or Verdict.Warn => 0,
+        Verdict.Fail => 1,
         _ => 2,
     };
 }
@@ -182,7 +185,8 @@ public sealed class CheckSkippedSignal
 [JsonSourceGenerationOptions(
     PropertyNamingPolicy = JsonKnownNamingPolicy.CamelCase,
     WriteIndented = true,
-    DefaultIgnoreCondition = JsonIgnoreCondition.WhenWritingNull)]
+    DefaultIgnoreCondition = JsonIgnoreCondition.WhenWritingNull,
+    Converters = [typeof(VerdictJsonConverter)])]
 [JsonSerializable(typeof(CheckReport))]
 [JsonSerializable(typeof(List<CheckReport>))]
 public sealed partial class CheckReportJsonContext : JsonSerializerContext;

@@ -77,7 +77,7 @@ public sealed class RecordingChecker
     }
 
     private static CheckReport ErrorReport(string path, string message) =>
-        new() { File = path, Verdict = "error", Error = message };
+        new() { File = path, Verdict = Verdict.Error, Error = message };
 
     private CheckReport CheckReadable(
         string path,
@@ -93,7 +93,7 @@ public sealed class RecordingChecker
             return new CheckReport
             {
                 File = path,
-                Verdict = "error",
+                Verdict = Verdict.Error,
                 Error = $"{path}: no EEG signal to analyse (every signal was skipped).",
                 Format = info.Format,
                 DurationSeconds = Math.Round(info.DurationSeconds, 3),
@@ -193,7 +193,7 @@ public sealed class RecordingChecker
         return new CheckReport
         {
             File = path,
-            Verdict = VerdictName(verdict),
+            Verdict = verdict,
             Format = info.Format,
             SampleRateHz = primary.SampleRateHz,
             ChannelCount = groups.Sum(g => g.Layout.ChannelCount),
@@ -295,13 +295,6 @@ public sealed class RecordingChecker
         ChannelFaultKind.Flat => "flat",
         ChannelFaultKind.Clipped => "clipped",
         _ => "non-finite",
-    };
-
-    public static string VerdictName(Verdict verdict) => verdict switch
-    {
-        Verdict.Pass => "pass",
-        Verdict.Warn => "warn",
-        _ => "fail",
     };
 
     private static Verdict Max(Verdict a, Verdict b) => (Verdict)Math.Max((int)a, (int)b);

@@ -246,7 +246,7 @@ internal sealed class InboxService : BackgroundService
         // Journal first, then move: a stop in between leaves an archived entry whose file is simply moved next time.
         _store.Complete(sha256, file.Length, FileJournalState.Archived, reportPath: reportPath);
         MoveFile(file.FullName, archived);
-        _logger.Archived(file.FullName, streamId, report.Verdict, report.Lines.Count, report.ChannelFaults.Count, archived);
+        _logger.Archived(file.FullName, streamId, report.Verdict.ToText(), report.Lines.Count, report.ChannelFaults.Count, archived);
     }
 
     private DateTimeOffset RecordingStartUtc(FileInfo file)

@@ -92,13 +92,13 @@ internal sealed class AlertDispatcher : IAlertEventSink
                 catch (Exception ex)
                 {
                     Keep(alertEvent);
-                    _logger.StoreFailed(ex, alertEvent.EventName, alertEvent.Key, alertEvent.StreamId, _unstored.Count);
+                    _logger.StoreFailed(ex, alertEvent.EventKind.ToText(), alertEvent.Key.ToString(), alertEvent.StreamId, _unstored.Count);
                     return false;
                 }
             }
 
             Keep(alertEvent);
-            _logger.StoreFailed(retryFailure!, alertEvent.EventName, alertEvent.Key, alertEvent.StreamId, _unstored.Count);
+            _logger.StoreFailed(retryFailure!, alertEvent.EventKind.ToText(), alertEvent.Key.ToString(), alertEvent.StreamId, _unstored.Count);
             return false;
         }
     }
@@ -108,7 +108,7 @@ internal sealed class AlertDispatcher : IAlertEventSink
         if (_unstored.Count >= MaxPendingStore)
         {
             var oldest = _unstored.Dequeue();
-            _logger.StoreRetryOverflow(oldest.EventName, oldest.Key, oldest.StreamId, _unstored.Count);
+            _logger.StoreRetryOverflow(oldest.EventKind.ToText(), oldest.Key.ToString(), oldest.StreamId, _unstored.Count);
         }
 
         _unstored.Enqueue(alertEvent);
@@ -121,19 +121,19 @@ internal sealed class AlertDispatcher : IAlertEventSink
             switch (alertEvent)
             {
                 case AlertRaised { Category: AlertCategory.ChannelFault } f:
-                    _logger.FaultRaised(f.StreamId, f.Key, f.Severity.ToText(), f.Suggestion);
+                    _logger.FaultRaised(f.StreamId, f.Key.ToString(), f.Severity.ToText(), f.Suggestion);
                     break;
                 case AlertRaised r:
-                    _logger.AlertRaised(r.StreamId, r.Key, r.FrequencyHz, r.AmplitudeUvRms, r.Severity.ToText(), string.Join(", ", r.WorstChannels), r.Suggestion);
+                    _logger.AlertRaised(r.StreamId, r.Key.ToString(), r.FrequencyHz, r.AmplitudeUvRms, r.Severity.ToText(), string.Join(", ", r.WorstChannels), r.Suggestion);
                     break;
                 case AlertSeverityChanged s:
-                    _logger.AlertSeverityChanged(s.StreamId, s.Key, s.PreviousSeverity.ToText(), s.NewSeverity.ToText(), s.AmplitudeUvRms);
+                    _logger.AlertSeverityChanged(s.StreamId, s.Key.ToString(), s.PreviousSeverity.ToText(), s.NewSeverity.ToText(), s.AmplitudeUvRms);
                     break;
                 case AlertCleared { Category: AlertCategory.ChannelFault } f:
-                    _logger.FaultCleared(f.StreamId, f.Key, f.Reason.ToText(), f.DurationSeconds);
+                    _logger.FaultCleared(f.StreamId, f.Key.ToString(), f.Reason.ToText(), f.DurationSeconds);
                     break;
                 case AlertCleared c:
-                    _logger.AlertCleared(c.StreamId, c.Key, c.Reason.ToText(), c.DurationSeconds, c.PeakAmplitudeUvRms, c.PeakSeverity.ToText());
+                    _logger.AlertCleared(c.StreamId, c.Key.ToString(), c.Reason.ToText(), c.DurationSeconds, c.PeakAmplitudeUvRms, c.PeakSeverity.ToText());
                     break;
                 default:
                     break;
@@ -150,7 +150,7 @@ internal sealed class AlertDispatcher : IAlertEventSink
     {
         try
         {
-            _logger.LogFailed(ex, alertEvent.EventName, alertEvent.Key, alertEvent.StreamId);
+            _logger.LogFailed(ex, alertEvent.EventKind.ToText(), alertEvent.Key.ToString(), alertEvent.StreamId);
         }
         catch (Exception)
         {
@@ -169,7 +169,7 @@ internal sealed class AlertDispatcher : IAlertEventSink
         {
             try
             {
-                _logger.PublishFailed(ex, alertEvent.EventName, alertEvent.Key, alertEvent.StreamId);
+                _logger.PublishFailed(ex, alertEvent.EventKind.ToText(), alertEvent.Key.ToString(), alertEvent.StreamId);
             }
             catch (Exception)
             {

@@ -1,6 +1,8 @@
 using System.Text.Json;
 using System.Text.Json.Serialization;
 using HumWatch.Core.Alerts;
+using HumWatch.Core.Faults;
+using HumWatch.Core.Findings;
 
 namespace HumWatch.Host.Publishing;
 
@@ -93,30 +95,31 @@ internal static class Messages
     {
         ArgumentNullException.ThrowIfNull(alertEvent);
         var identified = alertEvent.Source.IsIdentified;
-        var kind = alertEvent.Category == AlertCategory.ChannelFault ? "fault" : AlertKeys.KindText(alertEvent.Source.Kind);
+        var key = alertEvent.Key.ToString();
+        var kind = alertEvent.Key.Category.ToText();
         var source = identified ? alertEvent.Source.Name : null;
         int? harmonic = identified ? alertEvent.Source.Harmonic : null;
-        var fault = alertEvent.FaultKind is { } f ? AlertKeys.FaultText(f) : null;
+        var fault = alertEvent.FaultKind?.ToText();
         switch (alertEvent)
         {
             case AlertCleared c:
                 return (ClearKind, JsonSerializer.SerializeToUtf8Bytes(
                     new ClearMessage(
-                        Version, c.StreamId, c.Key, kind, source, harmonic, c.Source.Aliased, fault, Finite(c.FrequencyHz),
+                        Version, c.StreamId, key, kind, source, harmonic, c.Source.Aliased, fault, Finite(c.FrequencyHz),
                         c.Reason.ToText(), c.DurationSeconds, Finite(c.PeakAmplitudeUvRms), c.PeakSeverity.ToText(),
                         c.LastSeverity.ToText(), c.StreamSeconds, c.Utc),
                     MessageJsonContext.Default.ClearMessage));
             case AlertRaised r:
                 return (AlertKind, JsonSerializer.SerializeToUtf8Bytes(
                     new AlertMessage(
-                        Version, r.StreamId, r.Key, r.EventName, kind, source, harmonic, r.Source.Aliased, fault,
+                        Version, r.StreamId, key, r.EventKind.ToText(), kind, source, harmonic, r.Source.Aliased, fault,
                         Finite(r.FrequencyHz), Finite(r.AmplitudeUvRms), Finite(r.ChannelShare), r.WorstChannels,
                         r.Severity.ToText(), null, r.Suggestion, r.StreamSeconds, r.Utc, r.OnsetUtc),
                     MessageJsonContext.Default.AlertMessage));
             case AlertSeverityChanged s:
                 return (AlertKind, JsonSerializer.SerializeToUtf8Bytes(
                     new AlertMessage(
-                        Version, s.StreamId, s.Key, s.EventName, kind, source, harmonic, s.Source.Aliased, fault,
+                        Version, s.StreamId, key, s.EventKind.ToText(), kind, source, harmonic, s.Source.Aliased, fault,
                         Finite(s.FrequencyHz), Finite(s.AmplitudeUvRms), Finite(s.ChannelShare), s.WorstChannels,
                         s.Severity.ToText(), s.PreviousSeverity.ToText(), null, s.StreamSeconds, s.Utc, null),
                     MessageJsonContext.Default.AlertMessage));

@@ -1,6 +1,7 @@
 using System.Globalization;
 using System.Text.Json;
 using HumWatch.Core.Alerts;
+using HumWatch.Core.Findings;
 using HumWatch.Core.Ledger;
 using Microsoft.Data.Sqlite;
 
@@ -134,9 +135,9 @@ internal sealed class HumWatchStore : IAlertEventStore, ILedgerStore, IDisposabl
                 SELECT last_insert_rowid();
                 """;
             Add(command, "$stream", alertEvent.StreamId);
-            Add(command, "$key", alertEvent.Key);
-            Add(command, "$kind", KindText(alertEvent));
-            Add(command, "$event", alertEvent.EventName);
+            Add(command, "$key", alertEvent.Key.ToString());
+            Add(command, "$kind", alertEvent.Key.Category.ToText());
+            Add(command, "$event", alertEvent.EventKind.ToText());
             Add(command, "$severity", alertEvent.Severity.ToText());
             Add(command, "$sourceName", identified ? alertEvent.Source.Name : null);
             Add(command, "$harmonic", identified ? alertEvent.Source.Harmonic : null);
@@ -203,12 +204,13 @@ internal sealed class HumWatchStore : IAlertEventStore, ILedgerStore, IDisposabl
             {
                 var row = rows[i];
                 var minute = row.MinuteUtc.ToUnixTimeSeconds();
+                var key = row.SourceKey.ToString();
                 part.Parameters.Clear();
                 Add(part, "$stream", row.StreamId);
                 Add(part, "$session", row.SessionId);
                 Add(part, "$seq", row.Sequence);
                 Add(part, "$minute", minute);
-                Add(part, "$key", row.SourceKey);
+                Add(part, "$key", key);
                 if (part.ExecuteNonQuery() == 0)
                 {
                     continue;
@@ -217,7 +219,7 @@ internal sealed class HumWatchStore : IAlertEventStore, ILedgerStore, IDisposabl
                 upsert.Parameters.Clear();
                 Add(upsert, "$stream", row.StreamId);
                 Add(upsert, "$minute", minute);
-                Add(upsert, "$key", row.SourceKey);
+                Add(upsert, "$key", key);
                 Add(upsert, "$monitored", row.MonitoredSeconds);
                 Add(upsert, "$affected", row.AffectedSeconds);
                 Add(upsert, "$max", Finite(row.MaxAmplitudeUvRms));
@@ -255,14 +257,17 @@ internal sealed class HumWatchStore : IAlertEventStore, ILedgerStore, IDisposabl
             var result = new List<StoredAlert>();
             while (reader.Read())
             {
+                var key = FindingKey.Parse(reader.GetString(2));
                 result.Add(new StoredAlert(
-                    reader.GetInt64(0), reader.GetString(1), reader.GetString(2), reader.GetString(3), reader.GetString(4),
-                    reader.GetString(5), NullableString(reader, 6), reader.IsDBNull(7) ? null : reader.GetInt32(7),
+                    reader.GetInt64(0), reader.GetString(1), key, KindOf(reader.GetString(3), key), EventOf(reader.GetString(4)),
+                    SeverityOf(reader.GetString(5)), NullableString(reader, 6), reader.IsDBNull(7) ? null : reader.GetInt32(7),
                     reader.GetInt64(8) != 0, NullableDouble(reader, 9), NullableDouble(reader, 10), NullableDouble(reader, 11),
                     Labels(reader.GetString(12)), NullableString(reader, 13), reader.GetDouble(14),
                     DateTimeOffset.FromUnixTimeMilliseconds(reader.GetInt64(15)),
                     reader.IsDBNull(16) ? null : DateTimeOffset.FromUnixTimeMilliseconds(reader.GetInt64(16)),
-                    NullableDouble(reader, 17), NullableDouble(reader, 18), NullableString(reader, 19), NullableString(reader, 20)));
+                    NullableDouble(reader, 17), NullableDouble(reader, 18),
+                    reader.IsDBNull(19) ? null : SeverityOf(reader.GetString(19)),
+                    reader.IsDBNull(20) ? null : ReasonOf(reader.GetString(20))));
             }
 
             return result;
@@ -298,7 +303,7 @@ internal sealed class HumWatchStore : IAlertEventStore, ILedgerStore, IDisposabl
             while (reader.Read())
             {
                 result.Add(new StoredMinute(
-                    reader.GetString(0), DateTimeOffset.FromUnixTimeSeconds(reader.GetInt64(1)), reader.GetString(2),
+                    reader.GetString(0), DateTimeOffset.FromUnixTimeSeconds(reader.GetInt64(1)), FindingKey.Parse(reader.GetString(2)),
                     reader.GetDouble(3), reader.GetDouble(4), NullableDouble(reader, 5), NullableDouble(reader, 6),
                     Labels(reader.GetString(7)), NullableDouble(reader, 8), reader.GetInt32(9)));
             }
@@ -566,8 +571,19 @@ internal sealed class HumWatchStore : IAlertEventStore, ILedgerStore, IDisposabl
 
     private static string[] Labels(string json) => JsonSerializer.Deserialize(json, StoreJsonContext.Default.StringArray) ?? [];
 
-    private static string KindText(AlertEvent alertEvent) =>
-        alertEvent.Category == AlertCategory.ChannelFault ? "fault" : AlertKeys.KindText(alertEvent.Source.Kind);
+    // Text columns are read leniently: a value this build does not know must not make a whole day unreadable.
+
+    /// <summary>The kind column; "site" (older stores) reads as a site tone; unknown text falls back to the key's category.</summary>
+    private static FindingCategory KindOf(string text, FindingKey key) => FindingCategoryText.TryParse(text, out var kind) ? kind : key.Category;
+
+    /// <summary>The event column; unknown text counts as a severity change, neither a raise nor a clear.</summary>
+    private static AlertEventKind EventOf(string text) => AlertEventKindText.TryParse(text, out var kind) ? kind : AlertEventKind.SeverityChanged;
+
+    /// <summary>A severity column; unknown text reads as none.</summary>
+    private static AlertSeverity SeverityOf(string text) => AlertSeverityText.TryParse(text, out var severity) ? severity : AlertSeverity.None;
+
+    /// <summary>The reason column; unknown text reads as no reason.</summary>
+    private static AlertClearReason? ReasonOf(string text) => AlertClearReasonText.TryParse(text, out var reason) ? reason : null;
 
     private static string StateText(FileJournalState state) => state switch
     {

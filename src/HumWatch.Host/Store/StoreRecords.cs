@@ -1,15 +1,17 @@
 using System.Text.Json.Serialization;
+using HumWatch.Core.Alerts;
+using HumWatch.Core.Findings;
 
 namespace HumWatch.Host.Store;
 
-/// <summary>One alert event row as stored.</summary>
+/// <summary>One alert event row as stored, its text columns read back into their types.</summary>
 internal sealed record StoredAlert(
     long Id,
     string Stream,
-    string Key,
-    string Kind,
-    string Event,
-    string Severity,
+    FindingKey Key,
+    FindingCategory Kind,
+    AlertEventKind Event,
+    AlertSeverity Severity,
     string? SourceName,
     int? Harmonic,
     bool Aliased,
@@ -23,14 +25,14 @@ internal sealed record StoredAlert(
     DateTimeOffset? OnsetUtc,
     double? DurationSeconds,
     double? PeakUvRms,
-    string? PeakSeverity,
-    string? Reason);
+    AlertSeverity? PeakSeverity,
+    AlertClearReason? Reason);
 
 /// <summary>One stream/minute/source row of the ledger, merged over every part delivered for it.</summary>
 internal sealed record StoredMinute(
     string Stream,
     DateTimeOffset MinuteUtc,
-    string SourceKey,
+    FindingKey SourceKey,
     double MonitoredSeconds,
     double AffectedSeconds,
     double? MaxUvRms,

@@ -81,7 +81,7 @@ internal sealed class DailySummaryService : BackgroundService
 
                     written.Add(rendered);
                     var s = rendered.Summary;
-                    _logger.SummaryWritten(dayText, s.Stream, s.Verdict, s.HoursMonitored, s.AffectedMinutes, s.Alerts.Raised, DailySummaryRenderer.DayFolder(_options.Folder, day));
+                    _logger.SummaryWritten(dayText, s.Stream, s.Verdict.ToText(), s.HoursMonitored, s.AffectedMinutes, s.Alerts.Raised, DailySummaryRenderer.DayFolder(_options.Folder, day));
                     if (!_publisher.TryPublish(Messages.SummaryKind, s.Stream, rendered.Json))
                     {
                         _logger.SummaryNotPublished(dayText, s.Stream);

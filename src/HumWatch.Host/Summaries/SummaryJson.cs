@@ -1,5 +1,7 @@
 using System.Text.Json.Serialization;
+using HumWatch.Core.Findings;
 using HumWatch.Core.Summaries;
+using HumWatch.Host.Serialization;
 
 namespace HumWatch.Host.Summaries;
 
@@ -18,7 +20,7 @@ internal sealed record PlotData(int V, string Stream, string Day, int WidthPx, i
 internal sealed record SpectrumPlot(string File, double BinWidthHz, double Seconds, IReadOnlyList<double> PsdUv2PerHz, IReadOnlyList<LineMark> Marks);
 
 /// <summary>A flagged line marked on the spectrum.</summary>
-internal sealed record LineMark(string Key, string Label, double FrequencyHz);
+internal sealed record LineMark(FindingKey Key, string Label, double FrequencyHz);
 
 /// <summary>Timeline plot: one row per source, one column per local hour, cell = affected minutes.</summary>
 internal sealed record TimelinePlot(string File, IReadOnlyList<string> HourStartsLocal, IReadOnlyList<TimelineRow> Rows);
@@ -26,8 +28,11 @@ internal sealed record TimelinePlot(string File, IReadOnlyList<string> HourStart
 /// <summary>Mains plot: one value per minute from local midnight.</summary>
 internal sealed record MainsPlot(string File, DateTimeOffset StartUtc, int StepSeconds, double? MeanHz, double? MinHz, double? MaxHz, IReadOnlyList<double?> Hz);
 
-/// <summary>Message body of "summary/&lt;stream&gt;": the stream's summary as written to its JSON file.</summary>
-[JsonSourceGenerationOptions(PropertyNamingPolicy = JsonKnownNamingPolicy.CamelCase, WriteIndented = true)]
+/// <summary>Message body of "summary/&lt;stream&gt;": the stream's summary as written to its JSON file. Keys, kinds, severities and verdicts are written as their text forms.</summary>
+[JsonSourceGenerationOptions(
+    PropertyNamingPolicy = JsonKnownNamingPolicy.CamelCase,
+    WriteIndented = true,
+    Converters = [typeof(FindingKeyJsonConverter), typeof(FindingCategoryJsonConverter), typeof(AlertSeverityJsonConverter), typeof(DayVerdictJsonConverter)])]
 [JsonSerializable(typeof(DaySummary))]
 [JsonSerializable(typeof(PlotData))]
 [JsonSerializable(typeof(Dictionary<string, double[]>))]

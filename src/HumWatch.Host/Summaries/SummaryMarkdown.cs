@@ -1,5 +1,6 @@
 using System.Globalization;
 using System.Text;
+using HumWatch.Core.Findings;
 using HumWatch.Core.Summaries;
 
 namespace HumWatch.Host.Summaries;
@@ -19,9 +20,9 @@ internal static class SummaryMarkdown
         var sb = new StringBuilder();
         sb.Append(c, $"# {siteName}: line-noise day sheet for {day:yyyy-MM-dd}").AppendLine().AppendLine();
         sb.Append(c, $"Site time zone {zone.Id}; this day has {(to - from).TotalHours:0} hours ({LocalDay.LocalText(from, zone)} to {LocalDay.LocalText(to, zone)}). ");
-        var fails = summaries.Count(s => s.Verdict == "fail");
-        var warns = summaries.Count(s => s.Verdict == "warn");
-        sb.Append(c, $"{summaries.Count} room(s): {fails} fail, {warns} warn, {summaries.Count(s => s.Verdict == "pass")} pass, {summaries.Count(s => s.Verdict == "no data")} without data.").AppendLine().AppendLine();
+        var fails = summaries.Count(s => s.Verdict == DayVerdict.Fail);
+        var warns = summaries.Count(s => s.Verdict == DayVerdict.Warn);
+        sb.Append(c, $"{summaries.Count} room(s): {fails} fail, {warns} warn, {summaries.Count(s => s.Verdict == DayVerdict.Pass)} pass, {summaries.Count(s => s.Verdict == DayVerdict.NoData)} without data.").AppendLine().AppendLine();
 
         sb.AppendLine("| Room | Verdict | Monitored h | Affected min | Longest run | Max µV RMS | Mains Hz (min–max) | Alerts raised / cleared |");
         sb.AppendLine("|---|---|---:|---:|---|---:|---|---:|");
@@ -29,12 +30,12 @@ internal static class SummaryMarkdown
         {
             var longest = s.LongestEpisode is { } e ? $"{ClockRange(e.StartLocal, e.EndLocal)} ({e.SpanMinutes:0} min)" : "–";
             var mains = s.Mains.MeanHz is { } mean ? string.Create(c, $"{mean:0.000} ({s.Mains.MinHz:0.000}–{s.Mains.MaxHz:0.000})") : "–";
-            sb.Append(c, $"| {Cell(s.Stream)} | **{s.Verdict}** | {s.HoursMonitored:0.0} | {s.AffectedMinutes:0.#} | {longest} | {Num(s.MaxAmplitudeUvRms)} | {mains} | {s.Alerts.Raised} / {s.Alerts.Cleared} |").AppendLine();
+            sb.Append(c, $"| {Cell(s.Stream)} | **{s.Verdict.ToText()}** | {s.HoursMonitored:0.0} | {s.AffectedMinutes:0.#} | {longest} | {Num(s.MaxAmplitudeUvRms)} | {mains} | {s.Alerts.Raised} / {s.Alerts.Cleared} |").AppendLine();
         }
 
         foreach (var s in summaries)
         {
-            sb.AppendLine().Append(c, $"## {Cell(s.Stream)}: {s.Verdict}").AppendLine().AppendLine();
+            sb.AppendLine().Append(c, $"## {Cell(s.Stream)}: {s.Verdict.ToText()}").AppendLine().AppendLine();
             foreach (var reason in s.VerdictReasons)
             {
                 sb.Append("- ").AppendLine(reason);
@@ -56,7 +57,7 @@ internal static class SummaryMarkdown
             sb.AppendLine("|---|---:|---:|---:|---|");
             foreach (var cat in s.Categories)
             {
-                sb.Append(c, $"| {cat.Category} | {cat.AffectedMinutes:0.#} | {Num(cat.WarnMinutes)} | {Num(cat.FailMinutes)} | {cat.Verdict} |").AppendLine();
+                sb.Append(c, $"| {cat.Category.ToText()} | {cat.AffectedMinutes:0.#} | {Num(cat.WarnMinutes)} | {Num(cat.FailMinutes)} | {cat.Verdict.ToText()} |").AppendLine();
             }
 
             if (s.Sources.Count > 0)

@@ -1,6 +1,7 @@
 using System.Buffers.Binary;
 using System.Globalization;
 using System.Text.Json;
+using HumWatch.Core.Findings;
 using HumWatch.Core.Summaries;
 using HumWatch.Host.Store;
 using Microsoft.Data.Sqlite;
@@ -81,7 +82,7 @@ internal sealed class SummaryStore : ISpectrumPartSink, IDisposable
                 var lines = new Dictionary<string, double[]>(StringComparer.Ordinal);
                 foreach (var (key, tally) in part.Lines)
                 {
-                    lines[key] = [tally.SumHz, tally.Frames];
+                    lines[key.ToString()] = [tally.SumHz, tally.Frames];
                 }
 
                 command.Parameters.Clear();
@@ -145,7 +146,8 @@ internal sealed class SummaryStore : ISpectrumPartSink, IDisposable
         var bins = best.Item2 / sizeof(float);
         var sum = new double[bins];
         var seconds = 0.0;
-        var lineSums = new SortedDictionary<string, (double SumHz, double Frames)>(StringComparer.Ordinal);
+        // By typed key, so the spellings stored for one line over time (e.g. "site:" and "site-tone:") add up.
+        var lineSums = new Dictionary<FindingKey, (double SumHz, double Frames)>();
         foreach (var p in parts)
         {
             if (p.BinWidthHz != best.Item1 || p.Psd.Length != best.Item2)
@@ -160,10 +162,11 @@ internal sealed class SummaryStore : ISpectrumPartSink, IDisposable
 
             seconds += p.Seconds;
             var lines = JsonSerializer.Deserialize(p.Lines, SummaryJsonContext.Default.DictionaryStringDoubleArray) ?? [];
-            foreach (var (key, pair) in lines)
+            foreach (var (text, pair) in lines)
             {
                 if (pair.Length == 2)
                 {
+                    var key = FindingKey.Parse(text);
                     var s = lineSums.GetValueOrDefault(key);
                     lineSums[key] = (s.SumHz + pair[0], s.Frames + pair[1]);
                 }
@@ -176,7 +179,7 @@ internal sealed class SummaryStore : ISpectrumPartSink, IDisposable
             mean[k] = seconds > 0 ? sum[k] / seconds : 0;
         }
 
-        var frequencies = new Dictionary<string, double>(StringComparer.Ordinal);
+        var frequencies = new Dictionary<FindingKey, double>();
         foreach (var (key, s) in lineSums)
         {
             if (s.Frames > 0)
@@ -264,7 +267,7 @@ internal sealed class SummaryStore : ISpectrumPartSink, IDisposable
     }
 
     /// <summary>Records that the summary of (day, zone, stream) was written (after its files are in place).</summary>
-    public void MarkRendered(DateOnly day, string zone, string stream, string? verdict)
+    public void MarkRendered(DateOnly day, string zone, string stream, DayVerdict? verdict)
     {
         lock (_gate)
         {
@@ -278,7 +281,7 @@ internal sealed class SummaryStore : ISpectrumPartSink, IDisposable
             command.Parameters.AddWithValue("$zone", zone);
             command.Parameters.AddWithValue("$stream", stream);
             command.Parameters.AddWithValue("$utc", _timeProvider.GetUtcNow().ToUnixTimeMilliseconds());
-            command.Parameters.AddWithValue("$verdict", (object?)verdict ?? DBNull.Value);
+            command.Parameters.AddWithValue("$verdict", (object?)verdict?.ToText() ?? DBNull.Value);
             command.ExecuteNonQuery();
         }
     }

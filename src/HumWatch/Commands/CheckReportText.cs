@@ -122,11 +122,11 @@ internal static class CheckReportText
         return $"{line.SourceName}{harmonic}{aliased}";
     }
 
-    private static string VerdictText(string verdict) => verdict switch
+    private static string VerdictText(Verdict verdict) => verdict switch
     {
-        "pass" => "PASS — no contamination above the limits",
-        "warn" => "WARN — contamination or channel faults below the failure limits",
-        "fail" => "FAIL — contamination above the limits",
+        Verdict.Pass => "PASS — no contamination above the limits",
+        Verdict.Warn => "WARN — contamination or channel faults below the failure limits",
+        Verdict.Fail => "FAIL — contamination above the limits",
         _ => "ERROR — the file could not be analysed",
     };
 }

@@ -115,7 +115,7 @@ internal static class SummaryCommand
 
         foreach (var s in rendered)
         {
-            stdout.WriteLine(string.Create(CultureInfo.InvariantCulture, $"{s.Stream}: {s.Verdict}, monitored {s.HoursMonitored:0.0} h, affected {s.AffectedMinutes:0.#} min, alerts raised {s.Alerts.Raised}"));
+            stdout.WriteLine(string.Create(CultureInfo.InvariantCulture, $"{s.Stream}: {Core.Summaries.DayVerdictText.ToText(s.Verdict)}, monitored {s.HoursMonitored:0.0} h, affected {s.AffectedMinutes:0.#} min, alerts raised {s.Alerts.Raised}"));
         }
 
         stdout.WriteLine($"Written to {Path.GetFullPath(SummaryOnDemand.DayFolder(output ?? options.Folder, day))}");

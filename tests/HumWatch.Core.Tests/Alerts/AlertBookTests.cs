@@ -38,7 +38,7 @@ public sealed class AlertBookTests
         Feed(book, clock, 1, Mains(2));
 
         var raised = Assert.IsType<AlertRaised>(Assert.Single(_sink.Events));
-        Assert.Equal("mains/h1", raised.Key);
+        Assert.Equal("mains/h1", raised.Key.ToString());
         Assert.Equal("room-a", raised.StreamId);
         Assert.Equal(AlertSeverity.Minor, raised.Severity); // REFERENCES.md §6 anchors (judgement): 1 µV ≤ 2 µV < 5 µV
         Assert.Equal(12, raised.StreamSeconds, 9); // third frame of 8 s span, 2 s hop ends at 12 s
@@ -176,7 +176,7 @@ public sealed class AlertBookTests
         Feed(book, clock, 1, new LineSpec(SourceMatch.None, 37.5, 6, 1.0, 0));
 
         var raised = Assert.IsType<AlertRaised>(Assert.Single(_sink.Events));
-        Assert.Equal("unidentified/37.50Hz", raised.Key);
+        Assert.Equal("unidentified/37.50Hz", raised.Key.ToString());
         Assert.Equal(AlertSeverity.Marked, raised.Severity);
         Assert.Contains("switched on", raised.Suggestion, StringComparison.Ordinal);
 
@@ -212,7 +212,7 @@ public sealed class AlertBookTests
 
         var raised = _sink.Events.OfType<AlertRaised>().ToList();
         Assert.Equal(2, raised.Count);
-        var h4 = Assert.Single(raised, r => r.Key == "mains/h4");
+        var h4 = Assert.Single(raised, r => r.Key.ToString() == "mains/h4");
         Assert.True(h4.Source.Aliased);
         Assert.Equal(4, h4.Source.Harmonic);
     }
@@ -228,7 +228,7 @@ public sealed class AlertBookTests
         }
 
         var raised = Assert.IsType<AlertRaised>(Assert.Single(_sink.Events));
-        Assert.Equal("fault/Cz/flat", raised.Key);
+        Assert.Equal("fault/Cz/flat", raised.Key.ToString());
         Assert.Equal(AlertCategory.ChannelFault, raised.Category);
         Assert.Equal(ChannelFaultKind.Flat, raised.FaultKind);
         Assert.Equal(AlertSeverity.Marked, raised.Severity);
@@ -237,7 +237,7 @@ public sealed class AlertBookTests
 
         Feed(book, clock, 5);
         var cleared = Assert.IsType<AlertCleared>(_sink.Events[^1]);
-        Assert.Equal("fault/Cz/flat", cleared.Key);
+        Assert.Equal("fault/Cz/flat", cleared.Key.ToString());
         Assert.True(double.IsNaN(cleared.PeakAmplitudeUvRms));
     }
 
@@ -266,7 +266,7 @@ public sealed class AlertBookTests
 
         Assert.Equal(2, _sink.Events.Count);
         var cleared = Assert.IsType<AlertCleared>(_sink.Events[^1]);
-        Assert.Equal("mains/h1", cleared.Key);
+        Assert.Equal("mains/h1", cleared.Key.ToString());
         Assert.Equal(AlertClearReason.StreamEnded, cleared.Reason);
         Assert.Equal("stream ended", cleared.Reason.ToText());
         Assert.Equal(endUtc, cleared.Utc);
@@ -367,7 +367,7 @@ public sealed class AlertBookTests
             Feed(book, clock, 1, present ? [Mains(2)] : []);
             for (var i = count; i < _sink.Events.Count; i++)
             {
-                actual.Add($"{_sink.Events[i].EventName}@{frame}");
+                actual.Add($"{_sink.Events[i].EventKind.ToText()}@{frame}");
             }
         }
 

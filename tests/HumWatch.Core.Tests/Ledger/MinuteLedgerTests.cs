@@ -1,4 +1,5 @@
 using HumWatch.Core.Faults;
+using HumWatch.Core.Findings;
 using HumWatch.Core.Ledger;
 using HumWatch.Core.Tests.Alerts.Support;
 using Xunit;
@@ -20,6 +21,9 @@ public sealed class MinuteLedgerTests
         public void OnMinuteRow(MinuteRow row) => Rows.Add(row);
 
         public MinuteRow Single(int minute, string key) =>
+            Rows.Single(r => r.MinuteUtc.Minute == minute && r.SourceKey.ToString() == key);
+
+        public MinuteRow Single(int minute, FindingKey key) =>
             Rows.Single(r => r.MinuteUtc.Minute == minute && r.SourceKey == key);
     }
 
@@ -175,7 +179,7 @@ public sealed class MinuteLedgerTests
         ledger.Flush(_rows);
         var all = _rows.Rows.Where(r => r.SourceKey == MinuteLedger.AllSourcesKey).ToList();
         Assert.Equal(expectedSeconds, all.Sum(r => r.MonitoredSeconds), 6);
-        Assert.Equal(expectedSeconds, _rows.Rows.Where(r => r.SourceKey == "mains/h1").Sum(r => r.AffectedSeconds), 6);
+        Assert.Equal(expectedSeconds, _rows.Rows.Where(r => r.SourceKey.ToString() == "mains/h1").Sum(r => r.AffectedSeconds), 6);
         Assert.All(all, r => Assert.InRange(r.MonitoredSeconds, 1e-9, 60 + 1e-9));
         Assert.Equal(all.Count, all.Select(r => r.MinuteUtc).Distinct().Count());
         Assert.Contains(all, r => r.MinuteUtc.Day == 3); // crosses UTC midnight

@@ -1,3 +1,6 @@
+using HumWatch.Core.Alerts;
+using HumWatch.Core.Faults;
+using HumWatch.Core.Findings;
 using HumWatch.Core.Ledger;
 using HumWatch.Core.Summaries;
 using Xunit;
@@ -28,7 +31,7 @@ public sealed class DaySummarizerTests
         Assert.Equal(hours, summary.HoursInDay);
         Assert.Equal(hours, summary.Timeline.HourStartsLocal.Count);
         Assert.Equal(hours * 60, summary.Mains.Hz.Count);
-        Assert.Equal("no data", summary.Verdict);
+        Assert.Equal(DayVerdict.NoData, summary.Verdict);
     }
 
     [Fact]
@@ -55,7 +58,7 @@ public sealed class DaySummarizerTests
             rows.Add(new LedgerMinute(minute, MinuteLedger.AllSourcesKey, 60, inEpisode ? 60 : 0, inEpisode ? 4 : null, inEpisode ? 3 : null, inEpisode ? ["O1", "O2"] : [], 50.0 + ((m % 10) - 5) * 0.002));
             if (inEpisode)
             {
-                rows.Add(new LedgerMinute(minute, "display 75 Hz/h1", 60, 60, 4, 3, ["O1", "O2"], null));
+                rows.Add(new LedgerMinute(minute, FindingKey.Display("display 75 Hz", 1), 60, 60, 4, 3, ["O1", "O2"], null));
             }
         }
 
@@ -63,7 +66,7 @@ public sealed class DaySummarizerTests
 
         Assert.Equal(25, summary.HoursMonitored, 6);
         var display = Assert.Single(summary.Sources);
-        Assert.Equal("display", display.Category);
+        Assert.Equal(FindingCategory.Display, display.Category);
         Assert.Equal(89, display.AffectedMinutes, 6);
         Assert.Equal(1, display.EpisodeCount); // one quiet minute is bridged (EpisodeBridgeMinutes = 2)
         Assert.Equal("2026-10-25T14:10+01:00", display.Episodes[0].StartLocal);
@@ -80,7 +83,7 @@ public sealed class DaySummarizerTests
         Assert.Equal(display.AffectedMinutes, row.Minutes.Sum(), 6);
 
         // 89 min of display lines: over the warn level (30) and under the fail level (120).
-        Assert.Equal("warn", summary.Verdict);
+        Assert.Equal(DayVerdict.Warn, summary.Verdict);
         Assert.Contains("Summaries:Day:Display:WarnMinutes", Assert.Single(summary.VerdictReasons), StringComparison.Ordinal);
 
         // Mains track: minute values cycle 49.990 … 50.008; mean of 150 full cycles is 49.999.
@@ -100,7 +103,7 @@ public sealed class DaySummarizerTests
         foreach (var m in on)
         {
             rows.Add(new LedgerMinute(from.AddMinutes(m), MinuteLedger.AllSourcesKey, 60, 60, 2, 2, ["Cz"], 60.0));
-            rows.Add(new LedgerMinute(from.AddMinutes(m), "mains/h3", 60, 60, 2, 2, ["Cz"], 60.0));
+            rows.Add(new LedgerMinute(from.AddMinutes(m), FindingKey.Mains(3), 60, 60, 2, 2, ["Cz"], 60.0));
         }
 
         var summary = DaySummarizer.Summarize("room-b", day, NewYork, rows, [], null, new SummaryOptions { EpisodeBridgeMinutes = 1 });
@@ -110,7 +113,7 @@ public sealed class DaySummarizerTests
         Assert.Equal(5, mains.Episodes[0].AffectedMinutes);
         Assert.Equal(2, mains.Episodes[1].SpanMinutes);
         Assert.Equal(3, mains.Harmonic);
-        Assert.Equal("pass", summary.Verdict);
+        Assert.Equal(DayVerdict.Pass, summary.Verdict);
     }
 
     [Fact]
@@ -122,20 +125,20 @@ public sealed class DaySummarizerTests
         for (var m = 0; m < 300; m++)
         {
             rows.Add(new LedgerMinute(from.AddMinutes(m), MinuteLedger.AllSourcesKey, 60, 60, 30, 25, ["T3"], 50.0));
-            rows.Add(new LedgerMinute(from.AddMinutes(m), "mains/h1", 60, 60, 30, 25, ["T3"], 50.0));
-            rows.Add(new LedgerMinute(from.AddMinutes(m), "mains/h3", 60, 30, 5, 4, ["T4"], 50.0));
-            rows.Add(new LedgerMinute(from.AddMinutes(m), "fault/Fp1/flat", 60, m < 15 ? 60 : 0, null, null, ["Fp1"], 50.0));
+            rows.Add(new LedgerMinute(from.AddMinutes(m), FindingKey.Mains(1), 60, 60, 30, 25, ["T3"], 50.0));
+            rows.Add(new LedgerMinute(from.AddMinutes(m), FindingKey.Mains(3), 60, 30, 5, 4, ["T4"], 50.0));
+            rows.Add(new LedgerMinute(from.AddMinutes(m), FindingKey.ChannelFault("Fp1", ChannelFaultKind.Flat), 60, m < 15 ? 60 : 0, null, null, ["Fp1"], 50.0));
         }
 
         var summary = DaySummarizer.Summarize("room-c", day, Berlin, rows, [], null, new SummaryOptions());
-        var mains = summary.Categories.Single(c => c.Category == "mains");
+        var mains = summary.Categories.Single(c => c.Category == FindingCategory.Mains);
         Assert.Equal(300, mains.AffectedMinutes, 6); // not 450
-        Assert.Equal("fail", mains.Verdict); // ≥ 240 min
-        Assert.Equal("warn", summary.Categories.Single(c => c.Category == "fault").Verdict); // 15 min ≥ 10
-        Assert.Equal("fail", summary.Verdict);
+        Assert.Equal(DayVerdict.Fail, mains.Verdict); // ≥ 240 min
+        Assert.Equal(DayVerdict.Warn, summary.Categories.Single(c => c.Category == FindingCategory.ChannelFault).Verdict); // 15 min ≥ 10
+        Assert.Equal(DayVerdict.Fail, summary.Verdict);
         Assert.Equal(2, summary.VerdictReasons.Count);
         Assert.Equal(30, summary.MaxAmplitudeUvRms);
-        Assert.Equal("Fp1 flat", summary.Sources.Single(s => s.Key == "fault/Fp1/flat").Label);
+        Assert.Equal("Fp1 flat", summary.Sources.Single(s => s.Key == FindingKey.ChannelFault("Fp1", ChannelFaultKind.Flat)).Label);
     }
 
     [Fact]
@@ -145,12 +148,12 @@ public sealed class DaySummarizerTests
         var (from, to) = LocalDay.RangeUtc(day, NewYork);
         AlertRecord[] alerts =
         [
-            new(from.AddMinutes(-1), "mains/h1", "raised", "minor", 60), // day before: ignored
-            new(from.AddHours(1), "mains/h1", "raised", "minor", 60.01),
-            new(from.AddHours(2), "mains/h1", "severity", "marked", 60.01),
-            new(from.AddHours(3), "mains/h1", "cleared", "marked", 60.02),
-            new(from.AddHours(4), "unidentified/37.25Hz", "raised", "severe", 37.25),
-            new(to, "mains/h1", "raised", "severe", 60), // next day: ignored
+            new(from.AddMinutes(-1), FindingKey.Mains(1), AlertEventKind.Raised, AlertSeverity.Minor, 60), // day before: ignored
+            new(from.AddHours(1), FindingKey.Mains(1), AlertEventKind.Raised, AlertSeverity.Minor, 60.01),
+            new(from.AddHours(2), FindingKey.Mains(1), AlertEventKind.SeverityChanged, AlertSeverity.Marked, 60.01),
+            new(from.AddHours(3), FindingKey.Mains(1), AlertEventKind.Cleared, AlertSeverity.Marked, 60.02),
+            new(from.AddHours(4), FindingKey.Unidentified(37.25), AlertEventKind.Raised, AlertSeverity.Severe, 37.25),
+            new(to, FindingKey.Mains(1), AlertEventKind.Raised, AlertSeverity.Severe, 60), // next day: ignored
         ];
         var summary = DaySummarizer.Summarize("room-a", day, NewYork, [], alerts, null, new SummaryOptions());
         Assert.Equal(2, summary.Alerts.Raised);
@@ -158,8 +161,8 @@ public sealed class DaySummarizerTests
         Assert.Equal(1, summary.Alerts.SeverityChanges);
         Assert.Equal(1, summary.Alerts.RaisedMinor);
         Assert.Equal(1, summary.Alerts.RaisedSevere);
-        var mains = summary.Alerts.ByKey.Single(k => k.Key == "mains/h1");
-        Assert.Equal("marked", mains.PeakSeverity);
+        var mains = summary.Alerts.ByKey.Single(k => k.Key == FindingKey.Mains(1));
+        Assert.Equal(AlertSeverity.Marked, mains.PeakSeverity);
         Assert.Equal("2026-03-08T01:00-05:00", mains.FirstRaisedLocal); // IANA: EST (-05:00) until 02:00 local
     }
 
@@ -181,15 +184,48 @@ public sealed class DaySummarizerTests
     }
 
     [Theory]
-    [InlineData("mains/h2", SourceCategory.Mains, 2)]
-    [InlineData("display 75 Hz/h2", SourceCategory.Display, 2)]
-    [InlineData("site:pump room drive/h1", SourceCategory.SiteTone, 1)]
-    [InlineData("unidentified/37.25Hz", SourceCategory.Unidentified, null)]
-    [InlineData("fault/Fp1/clipped", SourceCategory.ChannelFault, null)]
-    public void Ledger_keys_are_read_back_into_their_source(string key, SourceCategory category, int? harmonic)
+    [InlineData("mains/h2", FindingCategory.Mains, 2)]
+    [InlineData("display 75 Hz/h2", FindingCategory.Display, 2)]
+    [InlineData("site:pump room drive/h1", FindingCategory.SiteTone, 1)]
+    [InlineData("site-tone:pump room drive/h1", FindingCategory.SiteTone, 1)]
+    [InlineData("unidentified/37.25Hz", FindingCategory.Unidentified, null)]
+    [InlineData("fault/Fp1/clipped", FindingCategory.ChannelFault, null)]
+    public void Ledger_keys_are_read_back_into_their_source(string key, FindingCategory category, int? harmonic)
     {
-        var info = SourceKeyInfo.Parse(key);
-        Assert.Equal(category, info.Category);
-        Assert.Equal(harmonic, info.Harmonic);
+        var parsed = FindingKey.Parse(key);
+        Assert.Equal(category, parsed.Category);
+        Assert.Equal(harmonic, parsed.Harmonic);
+    }
+
+    [Fact]
+    public void Rows_stored_as_text_in_the_older_spelling_summarise_with_the_new_one()
+    {
+        // Keys as stores have held them: a site tone first as "site:", later as "site-tone:"; both are one source.
+        var day = new DateOnly(2026, 6, 15);
+        var (from, _) = LocalDay.RangeUtc(day, Berlin);
+        string[] stored = ["*", "mains/h1", "site:pump room drive/h1", "unidentified/37.25Hz", "fault/Fp1/flat"];
+        var rows = new List<LedgerMinute>();
+        for (var m = 0; m < 40; m++)
+        {
+            foreach (var text in stored)
+            {
+                var key = m >= 20 && text.StartsWith("site:", StringComparison.Ordinal) ? "site-tone:" + text["site:".Length..] : text;
+                rows.Add(new LedgerMinute(from.AddMinutes(m), FindingKey.Parse(key), 60, 60, 3, 2, ["Cz"], 50.0));
+            }
+        }
+
+        var summary = DaySummarizer.Summarize("room-d", day, Berlin, rows, [], null, new SummaryOptions());
+
+        Assert.Equal(4, summary.Sources.Count);
+        var tone = Assert.Single(summary.Sources, s => s.Category == FindingCategory.SiteTone);
+        Assert.Equal(40, tone.AffectedMinutes, 6); // 20 minutes under each spelling
+        Assert.Equal("site-tone:pump room drive/h1", tone.Key.ToString());
+        Assert.Equal("site-tone pump room drive h1", tone.Label);
+        Assert.Equal(40, summary.Categories.Single(c => c.Category == FindingCategory.SiteTone).AffectedMinutes, 6);
+        Assert.Equal(DayVerdict.Warn, summary.Categories.Single(c => c.Category == FindingCategory.SiteTone).Verdict); // 40 ≥ 30 (default warn)
+        Assert.Contains(summary.VerdictReasons, r => r.StartsWith("site-tone: 40 affected minutes", StringComparison.Ordinal));
+        Assert.Equal(37.25, summary.Sources.Single(s => s.Category == FindingCategory.Unidentified).FrequencyHz);
+        Assert.Equal(FindingKey.ChannelFault("Fp1", ChannelFaultKind.Flat), summary.Sources.Single(s => s.Category == FindingCategory.ChannelFault).Key);
+        Assert.Equal(40.0 / 60, summary.HoursMonitored, 4);
     }
 }

@@ -1,3 +1,4 @@
+using HumWatch.Core.Findings;
 using HumWatch.Core.Summaries;
 using HumWatch.Core.Tests.Alerts.Support;
 using Xunit;
@@ -42,7 +43,7 @@ public sealed class HourlySpectrumAccumulatorTests
         // Weighted mean of levels 1 (8 s) and 2 … 26 (2 s each): (8 + 2 × (2 + … + 26)) / 58.
         var expected = (8.0 + (2.0 * Enumerable.Range(2, 25).Sum())) / 58;
         Assert.Equal(expected, first.MeanPsdUv2PerHz[100], 4);
-        var mains = first.Lines["mains/h1"]; // same key as the minute ledger and alerts
+        var mains = first.Lines[FindingKey.Mains(1)]; // same key as the minute ledger and alerts
         Assert.Equal(26, mains.Frames);
         Assert.Equal(50.0, mains.SumHz / mains.Frames, 3);
         Assert.Equal([1L, 2L], parts.Parts.Select(p => p.Sequence));

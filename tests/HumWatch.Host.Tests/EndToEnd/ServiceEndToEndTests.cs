@@ -1,5 +1,7 @@
 using System.Text;
 using System.Text.Json;
+using HumWatch.Core.Alerts;
+using HumWatch.Core.Findings;
 using HumWatch.Formats;
 using HumWatch.Formats.Wire;
 using HumWatch.Host.Ingest;
@@ -41,8 +43,8 @@ public sealed class ServiceEndToEndTests
 
         // Committed to the store before it was published.
         var stored = service.Store.AlertsBetween(Rooms.Start, Rooms.Start.AddHours(1), "room-e2e");
-        Assert.Contains(stored, a => a.Event == "raised" && a.Key == Text(raised.Body, "key"));
-        Assert.Contains(stored, a => a.Event == "cleared" && a.Key == Text(raised.Body, "key"));
+        Assert.Contains(stored, a => a.Event == AlertEventKind.Raised && a.Key.ToString() == Text(raised.Body, "key"));
+        Assert.Contains(stored, a => a.Event == AlertEventKind.Cleared && a.Key.ToString() == Text(raised.Body, "key"));
     }
 
     [Fact]
@@ -107,8 +109,8 @@ public sealed class ServiceEndToEndTests
         var line = report.RootElement.GetProperty("lines").EnumerateArray().First(l => Text(l, "source") == "mains" && l.GetProperty("harmonic").GetInt32() == 1);
         Assert.Equal(50.0, line.GetProperty("frequencyHz").GetDouble(), 0.1);
         var alerts = service.Store.AlertsBetween(Rooms.Start.AddYears(-30), Rooms.Start.AddYears(30), "lab-3");
-        Assert.Contains(alerts, a => a.Event == "raised" && a.Kind == "mains");
-        Assert.Contains(alerts, a => a.Event == "cleared" && a.Reason == "stream ended");
+        Assert.Contains(alerts, a => a.Event == AlertEventKind.Raised && a.Kind == FindingCategory.Mains);
+        Assert.Contains(alerts, a => a.Event == AlertEventKind.Cleared && a.Reason == AlertClearReason.StreamEnded);
     }
 
     [Fact]
@@ -157,8 +159,8 @@ public sealed class ServiceEndToEndTests
         var before = second.Store.AlertsBetween(Rooms.Start.AddYears(-30), Rooms.Start.AddYears(30));
 
         // Nothing raised before the restart is lost.
-        Assert.Contains(before, a => a.Stream == "room-r" && a.Event == "raised" && a.Key == firstKey);
-        var fileRaises = before.Count(a => a.Stream == "ward-7" && a.Event == "raised");
+        Assert.Contains(before, a => a.Stream == "room-r" && a.Event == AlertEventKind.Raised && a.Key.ToString() == firstKey);
+        var fileRaises = before.Count(a => a.Stream == "ward-7" && a.Event == AlertEventKind.Raised);
         Assert.True(fileRaises > 0);
 
         // The same content dropped again is moved aside, not checked again.
@@ -177,7 +179,7 @@ public sealed class ServiceEndToEndTests
         }
 
         var after = second.Store.AlertsBetween(Rooms.Start.AddYears(-30), Rooms.Start.AddYears(30));
-        Assert.Equal(fileRaises, after.Count(a => a.Stream == "ward-7" && a.Event == "raised"));
+        Assert.Equal(fileRaises, after.Count(a => a.Stream == "ward-7" && a.Event == AlertEventKind.Raised));
     }
 
     internal static async Task PushFirstAndWaitForStatus(RoomPusher pusher, MessageCollector messages, string streamId, RoomSimulator room)

@@ -1,3 +1,4 @@
+using HumWatch.Core.Findings;
 using HumWatch.Core.Signals;
 using HumWatch.Formats.Wire;
 using HumWatch.Host.Composition;
@@ -48,7 +49,7 @@ public sealed class PooledChunkOwnershipTests
 
         Assert.InRange(raised.Body.GetProperty("amplitudeUvRms").GetDouble(), 8 * 0.85, 8 * 1.15); // simulated 8 µV RMS on every channel
         var alerts = service.Store.AlertsBetween(Rooms.Start.AddYears(-30), Rooms.Start.AddYears(30));
-        Assert.DoesNotContain(alerts, a => a.Key.StartsWith("fault/", StringComparison.Ordinal)); // NaN poison would show as non-finite samples
+        Assert.DoesNotContain(alerts, a => a.Key.Category == FindingCategory.ChannelFault); // NaN poison would show as non-finite samples
         Assert.True(pool.AllocatedCount < roundChunks, $"{pool.AllocatedCount} arrays allocated for {roundChunks} chunks: nothing was reused");
         Assert.Equal(0, counters.Snapshot().Sum(c => c.Dropped));
     }

@@ -1,4 +1,5 @@
 using HumWatch.Core.Alerts;
+using HumWatch.Core.Findings;
 using HumWatch.Host.Publishing;
 using HumWatch.Host.Store;
 using HumWatch.Host.Tests.Publishing.Support;
@@ -97,7 +98,7 @@ public sealed class AlertDispatcherTests : IDisposable
         Assert.Equal((true, true), dispatcher.Dispatch(Some.Cleared()));
 
         Assert.Equal(0, dispatcher.PendingStoreCount);
-        Assert.Equal(["raised", "severity", "cleared"], store.Stored.Select(e => e.EventName));
+        Assert.Equal(["raised", "severity", "cleared"], store.Stored.Select(e => e.EventKind.ToText()));
         Assert.Equal(3, publisher.Topics.Count);
     }
 
@@ -106,7 +107,7 @@ public sealed class AlertDispatcherTests : IDisposable
     {
         var logger = new RecordingLogger<AlertDispatcher>();
         var dispatcher = new AlertDispatcher(new RecordingStore(_steps), new RecordingPublisher(_steps), logger);
-        var fault = new AlertRaised("room-a", "fault/Cz/flat", AlertCategory.ChannelFault, Core.Attribution.SourceMatch.None,
+        var fault = new AlertRaised("room-a", FindingKey.ChannelFault("Cz", Core.Faults.ChannelFaultKind.Flat), AlertCategory.ChannelFault, Core.Attribution.SourceMatch.None,
             Core.Faults.ChannelFaultKind.Flat, 12, Some.Utc, 4, Some.Utc.AddSeconds(-8), double.NaN, double.NaN, 0.25, ["Cz"],
             "Cz is flat: check that the electrode is attached and its lead is plugged in.", AlertSeverity.Marked);
 

@@ -2,6 +2,7 @@ using System.Text.Json;
 using HumWatch.Core.Alerts;
 using HumWatch.Core.Attribution;
 using HumWatch.Core.Faults;
+using HumWatch.Core.Findings;
 using HumWatch.Host.Publishing;
 using HumWatch.Host.Tests.Publishing.Support;
 using Xunit;
@@ -47,7 +48,7 @@ public sealed class MessagesTests
     [Fact]
     public void Cleared_fault_becomes_a_clear_body_with_nulls_for_missing_numbers()
     {
-        var cleared = new AlertCleared("room-b", "fault/O1/clipped", AlertCategory.ChannelFault, SourceMatch.None, ChannelFaultKind.Clipped,
+        var cleared = new AlertCleared("room-b", FindingKey.ChannelFault("O1", ChannelFaultKind.Clipped), AlertCategory.ChannelFault, SourceMatch.None, ChannelFaultKind.Clipped,
             50, Some.Utc, double.NaN, AlertClearReason.StreamEnded, 20, double.NaN, AlertSeverity.Marked, AlertSeverity.Marked);
         var (kind, body) = Messages.For(cleared);
         Assert.Equal("clear", kind);
@@ -74,6 +75,22 @@ public sealed class MessagesTests
 
         var noLag = Parse(Messages.For(new StatusMessage(1, "room-a", Some.Utc, 0, 0, 0, 0, 0, 0, double.NaN)));
         Assert.Equal(JsonValueKind.Null, noLag.GetProperty("lagSeconds").ValueKind);
+    }
+
+    [Fact]
+    public void A_site_tone_alert_uses_the_one_spelling_in_kind_and_key()
+    {
+        // docs/messages.md: kind "site-tone", key "site-tone:<tone name>/h<n>".
+        var tone = new SourceMatch(SourceKind.SiteTone, "pump room drive", 16.7, 2, false, 33.4, 0);
+        var raised = Some.Raised() with { Key = FindingKey.ForLine(tone, 33.4), Source = tone };
+
+        var json = Parse(Messages.For(raised).Body);
+
+        Assert.Equal("site-tone", json.GetProperty("kind").GetString());
+        Assert.Equal("site-tone:pump room drive/h2", json.GetProperty("key").GetString());
+        Assert.Equal("pump room drive", json.GetProperty("source").GetString());
+        Assert.Equal(2, json.GetProperty("harmonic").GetInt32());
+        Assert.Equal("raised", json.GetProperty("event").GetString());
     }
 
     [Fact]

@@ -1,4 +1,5 @@
 using HumWatch.Core.Alerts;
+using HumWatch.Core.Findings;
 using HumWatch.Core.Ledger;
 using HumWatch.Host.Store;
 using HumWatch.Host.Tests.Publishing.Support;
@@ -88,13 +89,13 @@ public sealed class HumWatchStoreTests : IDisposable
         // A fixed +01:00 zone: 2026-03-02 local is [2026-03-01T23:00Z, 2026-03-02T23:00Z).
         var zone = TimeZoneInfo.CreateCustomTimeZone("Test+1", TimeSpan.FromHours(1), "Test+1", "Test+1");
         var day = store.AlertsForDay(new DateOnly(2026, 3, 2), zone);
-        Assert.Equal(["raised", "severity", "cleared"], day.Select(a => a.Event));
+        Assert.Equal([AlertEventKind.Raised, AlertEventKind.SeverityChanged, AlertEventKind.Cleared], day.Select(a => a.Event));
 
         var raised = day[0];
         Assert.Equal("room-a", raised.Stream);
-        Assert.Equal("mains/h1", raised.Key);
-        Assert.Equal("mains", raised.Kind);
-        Assert.Equal("marked", raised.Severity);
+        Assert.Equal("mains/h1", raised.Key.ToString());
+        Assert.Equal(FindingCategory.Mains, raised.Kind);
+        Assert.Equal(AlertSeverity.Marked, raised.Severity);
         Assert.Equal(1, raised.Harmonic);
         Assert.Equal(["Cz", "Fp1"], raised.WorstChannels);
         Assert.Equal(Some.Utc, raised.Utc);
@@ -102,27 +103,73 @@ public sealed class HumWatchStoreTests : IDisposable
         Assert.Equal(6.5, raised.AmplitudeUvRms);
 
         var cleared = day[2];
-        Assert.Equal("subsided", cleared.Reason);
+        Assert.Equal(AlertClearReason.Subsided, cleared.Reason);
         Assert.Equal(30, cleared.DurationSeconds);
         Assert.Equal(22, cleared.PeakUvRms);
-        Assert.Equal("severe", cleared.PeakSeverity);
+        Assert.Equal(AlertSeverity.Severe, cleared.PeakSeverity);
 
         Assert.Equal([new DateOnly(2026, 3, 2), new DateOnly(2026, 3, 3)], store.ListDays(zone));
         Assert.Equal(["room-a"], store.ListStreams());
     }
 
     [Fact]
+    public void Text_columns_hold_the_documented_spellings()
+    {
+        using (var store = Open())
+        {
+            var tone = new Core.Attribution.SourceMatch(Core.Attribution.SourceKind.SiteTone, "pump room drive", 16.7, 1, false, 16.7, 0);
+            store.AppendAlert(Some.Raised() with { Key = FindingKey.ForLine(tone, 16.7), Source = tone });
+            store.AddMinuteRows([Some.Row("s", 1, 60, 60, 3, 2, key: FindingKey.SiteTone("pump room drive", 1))]);
+        }
+
+        // docs/store.md: kind is mains/display/site-tone/unidentified/fault; keys as in docs/messages.md.
+        Assert.Equal("site-tone", RawScalar("SELECT kind FROM alerts"));
+        Assert.Equal("site-tone:pump room drive/h1", RawScalar("SELECT key FROM alerts"));
+        Assert.Equal("raised", RawScalar("SELECT event FROM alerts"));
+        Assert.Equal("marked", RawScalar("SELECT severity FROM alerts"));
+        Assert.Equal("site-tone:pump room drive/h1", RawScalar("SELECT source_key FROM minute_ledger"));
+        Assert.Equal("site-tone:pump room drive/h1", RawScalar("SELECT source_key FROM minute_ledger_parts"));
+    }
+
+    [Fact]
+    public void Rows_a_store_holds_in_the_older_site_tone_spelling_read_back_as_site_tones()
+    {
+        Open().Dispose();
+        // Rows as earlier builds wrote them: kind "site", keys "site:<name>/h<n>".
+        RawScalar("""
+            INSERT INTO alerts (stream, key, kind, event, severity, source_name, harmonic, aliased, worst_channels, stream_seconds, utc_ms, peak_severity, reason)
+            VALUES ('room-a', 'site:pump room drive/h1', 'site', 'cleared', 'minor', 'pump room drive', 1, 0, '["Cz"]', 40, 1772442930000, 'marked', 'stream ended')
+            """);
+        RawScalar("""
+            INSERT INTO minute_ledger (stream, minute_utc, source_key, monitored_s, affected_s, max_uv, median_uv, worst_channels, mains_hz, parts)
+            VALUES ('room-a', 1772442900, 'site:pump room drive/h1', 60, 45, 3, 2, '["Cz"]', NULL, 1)
+            """);
+
+        using var store = Open();
+        var alert = Assert.Single(store.AlertsBetween(Some.Utc.AddMinutes(-1), Some.Utc.AddMinutes(1)));
+        Assert.Equal(FindingKey.SiteTone("pump room drive", 1), alert.Key);
+        Assert.Equal(FindingCategory.SiteTone, alert.Kind);
+        Assert.Equal(AlertEventKind.Cleared, alert.Event);
+        Assert.Equal(AlertSeverity.Minor, alert.Severity);
+        Assert.Equal(AlertSeverity.Marked, alert.PeakSeverity);
+        Assert.Equal(AlertClearReason.StreamEnded, alert.Reason);
+        var row = Assert.Single(store.LedgerRows("room-a", Some.Utc.AddMinutes(-1), Some.Utc.AddMinutes(1)));
+        Assert.Equal(FindingKey.SiteTone("pump room drive", 1), row.SourceKey);
+        Assert.Equal(45, row.AffectedSeconds);
+    }
+
+    [Fact]
     public void Non_finite_values_are_stored_as_null()
     {
         using var store = Open();
-        var fault = new AlertCleared("room-a", "fault/Cz/flat", AlertCategory.ChannelFault, Core.Attribution.SourceMatch.None,
+        var fault = new AlertCleared("room-a", FindingKey.ChannelFault("Cz", Core.Faults.ChannelFaultKind.Flat), AlertCategory.ChannelFault, Core.Attribution.SourceMatch.None,
             Core.Faults.ChannelFaultKind.Flat, 20, Some.Utc, double.NaN, AlertClearReason.StreamEnded, 12, double.NaN, AlertSeverity.Marked, AlertSeverity.Marked);
         store.AppendAlert(fault);
         var stored = Assert.Single(store.AlertsBetween(Some.Utc, Some.Utc.AddSeconds(1)));
-        Assert.Equal("fault", stored.Kind);
+        Assert.Equal(FindingCategory.ChannelFault, stored.Kind);
         Assert.Null(stored.FrequencyHz);
         Assert.Null(stored.PeakUvRms);
-        Assert.Equal("stream ended", stored.Reason);
+        Assert.Equal(AlertClearReason.StreamEnded, stored.Reason);
     }
 
     [Fact]
@@ -157,7 +204,7 @@ public sealed class HumWatchStoreTests : IDisposable
             Assert.Equal(0, store.AddMinuteRows([Some.Row("file-ab12", 1, 60, 60, 3, 2)]));
             var rows = store.LedgerRows("room-a", Some.Utc.AddMinutes(-5), Some.Utc.AddMinutes(5));
             Assert.Equal(2, rows.Count);
-            Assert.Equal(60, rows.Single(r => r.SourceKey == "mains/h1").MonitoredSeconds, 9);
+            Assert.Equal(60, rows.Single(r => r.SourceKey.ToString() == "mains/h1").MonitoredSeconds, 9);
             Assert.Null(rows.Single(r => r.SourceKey == MinuteLedger.AllSourcesKey).MaxUvRms);
         }
     }

@@ -1,3 +1,4 @@
+using HumWatch.Core.Findings;
 using HumWatch.Core.Ledger;
 using HumWatch.Core.Summaries;
 using HumWatch.Host.Configuration;
@@ -81,12 +82,12 @@ internal sealed class SummaryHarness : IDisposable
                 strongest > 0 ? strongest : double.NaN, strongest > 0 ? strongest * 0.9 : double.NaN, strongest > 0 ? ["Fp1", "F7"] : [], mainsHz));
             if (mainsOn > 0)
             {
-                rows.Add(new MinuteRow(stream, session, ++seq, minute, "mains/h1", 60, mainsOn, mainsUv, mainsUv * 0.9, ["Fp1"], mainsHz));
+                rows.Add(new MinuteRow(stream, session, ++seq, minute, FindingKey.Mains(1), 60, mainsOn, mainsUv, mainsUv * 0.9, ["Fp1"], mainsHz));
             }
 
             if (displayOn > 0)
             {
-                rows.Add(new MinuteRow(stream, session, ++seq, minute, "display 75 Hz/h1", 60, displayOn, 6, 5.5, ["O1", "O2"], mainsHz));
+                rows.Add(new MinuteRow(stream, session, ++seq, minute, FindingKey.Display("display 75 Hz", 1), 60, displayOn, 6, 5.5, ["O1", "O2"], mainsHz));
             }
         }
 

@@ -1,5 +1,6 @@
 using System.Buffers.Binary;
 using System.Text.Json;
+using HumWatch.Core.Findings;
 using HumWatch.Core.Summaries;
 using HumWatch.Host.Summaries;
 using Xunit;
@@ -48,6 +49,75 @@ public sealed class SummaryOutputTests
     }
 
     [Fact]
+    public void A_store_with_keys_in_the_text_written_so_far_summarises_with_one_spelling()
+    {
+        var zone = TimeZoneInfo.FindSystemTimeZoneById("Europe/Berlin");
+        var (from, to) = LocalDay.RangeUtc(Day, zone);
+        using var h = new SummaryHarness("Europe/Berlin", to.AddHours(1));
+        using (var connection = new Microsoft.Data.Sqlite.SqliteConnection($"Data Source={h.DbPath};Pooling=False"))
+        {
+            connection.Open();
+            // Rows as stores hold them today: a site tone first as "site:" (kind "site"), later as "site-tone:".
+            for (var m = 0; m < 40; m++)
+            {
+                var minute = from.AddHours(9).AddMinutes(m).ToUnixTimeSeconds();
+                var toneKey = m < 20 ? "site:pump room drive/h1" : "site-tone:pump room drive/h1";
+                foreach (var key in new[] { "*", "mains/h1", toneKey, "unidentified/37.25Hz", "fault/Fp1/flat" })
+                {
+                    using var insert = connection.CreateCommand();
+                    insert.CommandText = """
+                        INSERT INTO minute_ledger (stream, minute_utc, source_key, monitored_s, affected_s, max_uv, median_uv, worst_channels, mains_hz, parts)
+                        VALUES ('room-a', $minute, $key, 60, 60, 3, 2, '["Cz"]', 50.0, 1)
+                        """;
+                    insert.Parameters.AddWithValue("$minute", minute);
+                    insert.Parameters.AddWithValue("$key", key);
+                    insert.ExecuteNonQuery();
+                }
+            }
+
+            using var alert = connection.CreateCommand();
+            alert.CommandText = """
+                INSERT INTO alerts (stream, key, kind, event, severity, source_name, harmonic, aliased, frequency_hz, worst_channels, stream_seconds, utc_ms)
+                VALUES ('room-a', 'site:pump room drive/h1', 'site', 'raised', 'marked', 'pump room drive', 1, 0, 16.7, '["Cz"]', 10, $utc)
+                """;
+            alert.Parameters.AddWithValue("$utc", from.AddHours(9).ToUnixTimeMilliseconds());
+            alert.ExecuteNonQuery();
+        }
+
+        var rendered = h.Renderer().RenderDay(Day).Single();
+        using var json = JsonDocument.Parse(rendered.Json);
+        var root = json.RootElement;
+
+        var sources = root.GetProperty("sources").EnumerateArray().ToList();
+        Assert.Equal(4, sources.Count);
+        var tone = Assert.Single(sources, e => e.GetProperty("category").GetString() == "site-tone");
+        Assert.Equal("site-tone:pump room drive/h1", tone.GetProperty("key").GetString());
+        Assert.Equal("site-tone pump room drive h1", tone.GetProperty("label").GetString());
+        Assert.Equal(40, tone.GetProperty("affectedMinutes").GetDouble()); // 20 minutes under each spelling
+        Assert.Equal(16.7, tone.GetProperty("frequencyHz").GetDouble(), 9); // from the alert
+        // Equal minutes: ordered by key text.
+        Assert.Equal(["fault/Fp1/flat", "mains/h1", "site-tone:pump room drive/h1", "unidentified/37.25Hz"], sources.Select(e => e.GetProperty("key").GetString()));
+        Assert.Equal(37.25, Assert.Single(sources, e => e.GetProperty("key").GetString() == "unidentified/37.25Hz").GetProperty("frequencyHz").GetDouble());
+        Assert.Equal("Fp1 flat", Assert.Single(sources, e => e.GetProperty("key").GetString() == "fault/Fp1/flat").GetProperty("label").GetString());
+
+        var categories = root.GetProperty("categories").EnumerateArray().ToDictionary(c => c.GetProperty("category").GetString()!);
+        Assert.Equal(["mains", "display", "site-tone", "unidentified", "fault"], categories.Keys);
+        Assert.Equal(40, categories["site-tone"].GetProperty("affectedMinutes").GetDouble());
+        Assert.Equal("warn", categories["site-tone"].GetProperty("verdict").GetString()); // 40 ≥ the default 30
+        Assert.Equal("warn", root.GetProperty("verdict").GetString()); // no kind reaches its default fail level
+        Assert.Contains(root.GetProperty("verdictReasons").EnumerateArray(), r => r.GetString()!.StartsWith("site-tone: 40 affected minutes", StringComparison.Ordinal));
+        var byKey = Assert.Single(root.GetProperty("alerts").GetProperty("byKey").EnumerateArray());
+        Assert.Equal("site-tone:pump room drive/h1", byKey.GetProperty("key").GetString());
+        Assert.Equal("marked", byKey.GetProperty("peakSeverity").GetString());
+        Assert.Equal(1, root.GetProperty("alerts").GetProperty("raisedMarked").GetInt32());
+
+        var page = File.ReadAllText(Path.Combine(h.Options.Folder, "2026-10-25", SummaryMarkdown.FileName));
+        Assert.Contains("| site-tone | 40 |", page, StringComparison.Ordinal);
+        Assert.Contains("| site-tone pump room drive h1 |", page, StringComparison.Ordinal);
+        Assert.DoesNotContain("site:pump", page, StringComparison.Ordinal);
+    }
+
+    [Fact]
     public void Plots_are_pngs_of_the_configured_size_and_their_json_matches_the_summary()
     {
         var zone = TimeZoneInfo.FindSystemTimeZoneById("Europe/Berlin");
@@ -67,8 +137,8 @@ public sealed class SummaryOutputTests
 
         h.Summaries.AddSpectrumParts(
         [
-            new SpectrumPart("room-a", "s1", 1, from.AddHours(12), 0.25, 100, a, new Dictionary<string, LineFrequencyTally> { ["display 75 Hz/h1"] = new(750.1, 10) }),
-            new SpectrumPart("room-a", "s1", 2, from.AddHours(12), 0.25, 300, b, new Dictionary<string, LineFrequencyTally> { ["display 75 Hz/h1"] = new(225.0, 3), ["mains/h1"] = new(150.03, 3) }),
+            new SpectrumPart("room-a", "s1", 1, from.AddHours(12), 0.25, 100, a, new Dictionary<FindingKey, LineFrequencyTally> { [FindingKey.Display("display 75 Hz", 1)] = new(750.1, 10) }),
+            new SpectrumPart("room-a", "s1", 2, from.AddHours(12), 0.25, 300, b, new Dictionary<FindingKey, LineFrequencyTally> { [FindingKey.Display("display 75 Hz", 1)] = new(225.0, 3), [FindingKey.Mains(1)] = new(150.03, 3) }),
         ]);
 
         var rendered = h.Renderer().RenderDay(Day).Single();
