@@ -128,10 +128,16 @@ public sealed class CheckEvidence
     /// <summary>The same in one phrase a technician reads.</summary>
     public string? Summary { get; init; }
 
-    internal static CheckEvidence From(Core.Reporting.LineFinding line)
-    {
-        var e = line.Evidence;
-        return new CheckEvidence
+    internal static CheckEvidence From(Core.Reporting.LineFinding line) =>
+        From(line.Evidence, line.Source, line.FrequencyHz, line.AlsoPossible);
+
+    /// <summary>The evidence of an alert's raise, in the reported form.</summary>
+    internal static CheckEvidence From(Core.Alerts.AlertRaised raised) =>
+        From(raised.Evidence, raised.Source, raised.FrequencyHz, [.. raised.AlsoPossible.Select(Core.Reporting.LineFinding.Describe)]);
+
+    /// <summary>The reported form of a line's evidence (check reports, alert bodies and the store share it).</summary>
+    internal static CheckEvidence From(Core.Tracking.LineEvidence e, Core.Attribution.SourceMatch source, double frequencyHz, IReadOnlyList<string> alternatives) =>
+        new()
         {
             Basis = e.Basis switch
             {
@@ -153,9 +159,8 @@ public sealed class CheckEvidence
             FrequencySpreadHz = Rounded(e.FrequencySpreadHz, 4),
             GridSpreadHz = Rounded(e.GridSpreadHz, 4),
             SharedFrames = e.SharedFrames,
-            Summary = Core.Reporting.EvidencePhrase.For(e, line.Source, line.FrequencyHz, line.AlsoPossible),
+            Summary = Core.Reporting.EvidencePhrase.For(e, source, frequencyHz, alternatives),
         };
-    }
 
     private static double? Rounded(double value, int digits) =>
         double.IsFinite(value) ? Math.Round(value, digits, MidpointRounding.AwayFromZero) : null;
@@ -189,4 +194,5 @@ public sealed class CheckSkippedSignal
     Converters = [typeof(VerdictJsonConverter)])]
 [JsonSerializable(typeof(CheckReport))]
 [JsonSerializable(typeof(List<CheckReport>))]
+[JsonSerializable(typeof(CheckEvidence))]
 public sealed partial class CheckReportJsonContext : JsonSerializerContext;
