@@ -69,6 +69,11 @@ internal sealed class StreamSession : IAnalysisFrameSink
 
     public int ActiveAlertCount => _alerts.Active.Count;
 
+    /// <summary>The grid the lines are attributed against: configured, measured from the data, or NaN while unknown.</summary>
+    public double GridNominalHz => _tracker.GridNominalHz;
+
+    public GridOrigin GridFrom => _tracker.GridFrom;
+
     /// <summary>UTC time of the last analysed sample, when the stream supplies times; else null.</summary>
     public DateTimeOffset? LastFrameEndUtcFromStream { get; private set; }
 

@@ -75,7 +75,14 @@ internal sealed record StatusMessage(
     long ChunksAccepted,
     long ChunksDropped,
     long ChunksRejected,
-    double? LagSeconds);
+    double? LagSeconds)
+{
+    /// <summary>The grid the stream's lines are attributed against, Hz (50 or 60); null while neither configured nor seen.</summary>
+    public double? MainsHz { get; init; }
+
+    /// <summary>"configured", "measured" or "unknown".</summary>
+    public string? MainsFrom { get; init; }
+}
 
 [JsonSourceGenerationOptions(PropertyNamingPolicy = JsonKnownNamingPolicy.CamelCase)]
 [JsonSerializable(typeof(AlertMessage))]
