@@ -15,7 +15,7 @@ public sealed class CheckSettingsTests : IDisposable
 {
     // Layers 1..5: ./appsettings.json, first --config, second --config, HUMWATCH_ environment, --set.
     // Row = layer, column = limit; each limit keeps Warn <= Fail at every layer so all combinations validate.
-    private static readonly string[] Keys = ["Check:MinLineSeconds", "Check:MinLineFrames", "Check:FailFaultFraction", "Check:WarnLineUvRms", "Check:FailLineUvRms"];
+    private static readonly string[] Keys = ["Check:MinLineSeconds", "Analysis:Tracking:PersistFrames", "Check:FailFaultFraction", "Check:WarnLineUvRms", "Check:FailLineUvRms"];
     private static readonly double[][] Values =
     [
         [11, 4, 0.6, 1.5, 6],
@@ -38,11 +38,12 @@ public sealed class CheckSettingsTests : IDisposable
         var environment = Layer(3).ToDictionary(kv => "HUMWATCH_" + kv.Key.Replace(":", "__", StringComparison.Ordinal), kv => (string?)kv.Value);
         var settings = Layer(4).Select(kv => $"{kv.Key}={kv.Value}").ToArray();
 
-        var limits = Bind(["first.json", "second.json"], settings, mains: null, environment).Check;
+        var bound = Bind(["first.json", "second.json"], settings, mains: null, environment);
+        var limits = bound.Check;
 
         // Limit i comes from layer i (the diagonal); each beat the option class default, the lowest layer.
         double[] expected = [11, 5, 0.8, 3, 10];
-        double[] actual = [limits.MinLineSeconds, limits.MinLineFrames, limits.FailFaultFraction, limits.WarnLineUvRms, limits.FailLineUvRms];
+        double[] actual = [limits.MinLineSeconds, bound.Analysis.Tracking.PersistFrames, limits.FailFaultFraction, limits.WarnLineUvRms, limits.FailLineUvRms];
         Assert.Equal(expected, actual);
         Assert.NotEqual(new CheckLimits().MinLineSeconds, limits.MinLineSeconds);
     }
@@ -77,8 +78,24 @@ public sealed class CheckSettingsTests : IDisposable
     private static Dictionary<string, string> Layer(int row) =>
         Enumerable.Range(row, Keys.Length - row).ToDictionary(column => Keys[column], column => Values[row][column].ToString(CultureInfo.InvariantCulture));
 
-    private static string LayerJson(int row) =>
-        "{ \"Check\": { " + string.Join(", ", Layer(row).Select(kv => $"\"{kv.Key["Check:".Length..]}\": {kv.Value}")) + " } }";
+    // Keys of any depth ("Analysis:Tracking:PersistFrames") become nested objects.
+    private static string LayerJson(int row)
+    {
+        var root = new System.Text.Json.Nodes.JsonObject();
+        foreach (var (key, value) in Layer(row))
+        {
+            var parts = key.Split(':');
+            var node = root;
+            foreach (var part in parts[..^1])
+            {
+                node = (System.Text.Json.Nodes.JsonObject)(node[part] ??= new System.Text.Json.Nodes.JsonObject());
+            }
+
+            node[parts[^1]] = double.Parse(value, CultureInfo.InvariantCulture);
+        }
+
+        return root.ToJsonString();
+    }
 
     private void Write(string name, string json) => File.WriteAllText(Path.Combine(_folder.Path, name), json);
 }

@@ -257,7 +257,8 @@ public sealed class AlertBook
         var level = LevelOf(track, track.FrameAmplitudeUvRms);
         if (!track.Raised)
         {
-            if (track.AboveRun >= _options.RaiseAfterFrames)
+            // The tracker's persistence is the one definition of a line that counts; faults persist by their own run.
+            if (track.AboveRun >= _options.RaiseAfterFrames && (track.Category == AlertCategory.ChannelFault || track.FramePersistent))
             {
                 Raise(track, level, frame, frameEndUtc, sink);
             }
@@ -378,7 +379,11 @@ public sealed class AlertBook
         _active.Add(active);
         sink.OnAlertEvent(new AlertRaised(
             StreamId, key, track.Category, track.Source, faultKind, frame.EndSeconds, frameEndUtc,
-            track.OnsetSeconds, track.OnsetUtc, frequencyHz, amplitudeUvRms, track.FrameShare, worst, suggestion, level));
+            track.OnsetSeconds, track.OnsetUtc, frequencyHz, amplitudeUvRms, track.FrameShare, worst, suggestion, level)
+        {
+            Evidence = track.Category == AlertCategory.Line ? track.FrameLineEvidence : Tracking.LineEvidence.None,
+            AlsoPossible = track.Category == AlertCategory.Line ? [.. track.FrameAlternatives.AsSpan(0, track.FrameAlternativeCount)] : [],
+        });
     }
 
     private void Clear(Track track, double streamSeconds, DateTimeOffset utc, AlertClearReason reason, IAlertEventSink sink)
@@ -471,6 +476,7 @@ public sealed class AlertBook
             FrameEvidenceEnd = 0;
             FrameAmplitudeUvRms = double.NaN;
             FrameWorstCount = 0;
+            FramePersistent = false;
         }
 
         /// <summary>Takes the strongest qualifying line of the frame that maps here.</summary>
@@ -487,10 +493,24 @@ public sealed class AlertBook
             FrameShare = line.ChannelShare;
             FrameEvidenceStart = line.EvidenceStartSampleIndex;
             FrameEvidenceEnd = line.EvidenceEndSampleIndex;
+            FramePersistent = line.IsPersistent;
+            FrameLineEvidence = line.Evidence;
+            var alternatives = line.AlsoPossible;
+            FrameAlternativeCount = alternatives.Length;
+            alternatives.CopyTo(FrameAlternatives);
             var worst = line.WorstChannels;
             FrameWorstCount = worst.Length;
             worst.CopyTo(FrameWorst);
         }
+
+        /// <summary>The line tracker found the frame's line persistent (faults always are).</summary>
+        public bool FramePersistent;
+
+        public Tracking.LineEvidence FrameLineEvidence = Tracking.LineEvidence.None;
+
+        public readonly SourceMatch[] FrameAlternatives = new SourceMatch[FrameLine.MaxAlternatives];
+
+        public int FrameAlternativeCount;
 
         public void OfferFault(int channelCount)
         {

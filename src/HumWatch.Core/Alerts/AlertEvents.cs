@@ -131,6 +131,12 @@ public sealed record AlertRaised(
     public override AlertEventKind EventKind => AlertEventKind.Raised;
 
     public override AlertSeverity Severity => RaisedSeverity;
+
+    /// <summary>What decided the line's explanation (the tracker's evidence at the raise); none for faults.</summary>
+    public Tracking.LineEvidence Evidence { get; init; } = Tracking.LineEvidence.None;
+
+    /// <summary>Other explanations that fit about as well, at the raise.</summary>
+    public IReadOnlyList<SourceMatch> AlsoPossible { get; init; } = [];
 }
 
 /// <summary>An active alert's severity changed (after <see cref="AlertOptions.SeverityHoldFrames"/> frames at the new level).</summary>

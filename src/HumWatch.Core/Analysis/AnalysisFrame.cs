@@ -38,6 +38,21 @@ public sealed class AnalysisFrame
     /// <summary>Mains frequency estimated from the fundamental in this span, Hz; NaN when the fundamental is not seen.</summary>
     public double EstimatedMainsHz { get; internal set; } = double.NaN;
 
+    /// <summary>
+    /// The grid's nominal frequency (50 or 60 Hz) the lines were attributed against, NaN while the tracker has not
+    /// decided it; see <see cref="GridFrom"/>. Set by the <see cref="Tracking.LineTracker"/>.
+    /// </summary>
+    public double GridNominalHz { get; internal set; } = double.NaN;
+
+    /// <summary>Whether <see cref="GridNominalHz"/> was configured or measured from the data.</summary>
+    public Tracking.GridOrigin GridFrom { get; internal set; }
+
+    /// <summary>
+    /// The other grid's nominal frequency when the configured grid is contradicted by the data (its fundamental never
+    /// seen, the other one's clearly present on most channels); NaN otherwise.
+    /// </summary>
+    public double GridConflictHz { get; internal set; } = double.NaN;
+
     /// <summary>Bin spacing of <see cref="MeanPsdUv2PerHz"/>, Hz.</summary>
     public double BinWidthHz { get; }
 
@@ -88,6 +103,9 @@ public sealed class AnalysisFrame
         target.StartUtc = StartUtc;
         target.AnalysedChannelCount = AnalysedChannelCount;
         target.EstimatedMainsHz = EstimatedMainsHz;
+        target.GridNominalHz = GridNominalHz;
+        target.GridFrom = GridFrom;
+        target.GridConflictHz = GridConflictHz;
         MeanPsdBuffer.CopyTo(target.MeanPsdBuffer, 0);
         if (target.LineBuffer.Length < LineCount)
         {
@@ -95,7 +113,7 @@ public sealed class AnalysisFrame
             target.LineBuffer.CopyTo(grown, 0);
             for (var i = target.LineBuffer.Length; i < grown.Length; i++)
             {
-                grown[i] = new FrameLine();
+                grown[i] = new FrameLine(Layout.ChannelCount);
             }
 
             target.LineBuffer = grown;

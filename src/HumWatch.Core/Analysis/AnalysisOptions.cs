@@ -16,6 +16,8 @@ public sealed class AnalysisOptions
 
     public FaultOptions Faults { get; set; } = new();
 
+    public Tracking.TrackingOptions Tracking { get; set; } = new();
+
     /// <summary>One message per problem, each naming the configuration key; empty when valid.</summary>
     public IReadOnlyList<string> Validate(string prefix = "Analysis")
     {
@@ -24,6 +26,7 @@ public sealed class AnalysisOptions
         errors.AddRange(Lines.Validate($"{prefix}:Lines"));
         errors.AddRange(Sources.Validate($"{prefix}:Sources"));
         errors.AddRange(Faults.Validate($"{prefix}:Faults"));
+        errors.AddRange(Tracking.Validate($"{prefix}:Tracking"));
         return errors;
     }
 }

@@ -3,8 +3,17 @@ namespace HumWatch.Core.Attribution;
 /// <summary>The sources a site expects. Bound from config (see config/site-*.json).</summary>
 public sealed class SourceCatalogOptions
 {
-    /// <summary>Nominal mains frequency, 50 or 60 Hz. The default is 50 Hz.</summary>
-    public double MainsHz { get; set; } = 50;
+    /// <summary>
+    /// Nominal mains frequency, usually 50 or 60 Hz. The default, null, decides it from the data: the grid whose
+    /// fundamental (within the tolerance) shows on most channels with its harmonics (<see cref="Tracking.LineTracker"/>).
+    /// </summary>
+    public double? MainsHz { get; set; }
+
+    /// <summary>The grids a recording can be measured against when <see cref="MainsHz"/> is not set (common practice, no source).</summary>
+    public static IReadOnlyList<double> WorldGridsHz { get; } = [50, 60];
+
+    /// <summary>The nominal grids to consider: the configured one, or both of <see cref="WorldGridsHz"/>.</summary>
+    public IReadOnlyList<double> CandidateGridsHz => MainsHz is { } hz ? [hz] : WorldGridsHz;
 
     /// <summary>
     /// How far the grid may wander from nominal, percent. The default is 1 %: EN 50160's ±1 % band for
@@ -35,7 +44,7 @@ public sealed class SourceCatalogOptions
     public IReadOnlyList<string> Validate(string prefix = "Sources")
     {
         var errors = new List<string>();
-        if (!(MainsHz > 0 && MainsHz < 1000))
+        if (MainsHz is { } mains && !(mains > 0 && mains < 1000))
         {
             errors.Add($"{prefix}:MainsHz must be above 0 and below 1000 Hz, usually 50 or 60 (got {MainsHz}).");
         }

@@ -16,7 +16,6 @@ public sealed class MinuteLedger
     public static FindingKey AllSourcesKey => FindingKey.All;
 
     private readonly double _minAmplitudeUvRms;
-    private readonly LinePersistence _persistence;
     private readonly Dictionary<FindingKey, SourceTally> _tallies = [];
     private readonly List<SourceTally> _ordered = [];
     private readonly Stack<SourceTally> _free = new();
@@ -32,10 +31,9 @@ public sealed class MinuteLedger
     /// <param name="streamId">Stream the rows belong to.</param>
     /// <param name="sessionId">Identifies this session's rows; use a value that repeats when the same input is processed again (e.g. a file's hash) so a re-run is not counted twice.</param>
     /// <param name="minAmplitudeUvRms">Lines at or above this amplitude count as affecting the minute, µV RMS. The default is 1 µV (the alert level "minor").</param>
-    /// <param name="minLineFrames">Frames in a row a line needs before it counts as affecting the minute (as for alerts); 1 counts every frame's lines.</param>
-    public MinuteLedger(string streamId, string sessionId, double minAmplitudeUvRms = 1.0, int minLineFrames = 1)
+    /// <remarks>Only lines the <see cref="Tracking.LineTracker"/> found persistent count, as for alerts and `check`.</remarks>
+    public MinuteLedger(string streamId, string sessionId, double minAmplitudeUvRms = 1.0)
     {
-        _persistence = new LinePersistence(minLineFrames);
         ArgumentException.ThrowIfNullOrWhiteSpace(streamId);
         ArgumentException.ThrowIfNullOrWhiteSpace(sessionId);
         if (!(minAmplitudeUvRms >= 0) || !double.IsFinite(minAmplitudeUvRms))
@@ -85,15 +83,6 @@ public sealed class MinuteLedger
 
         _lastEndSeconds = frame.EndSeconds;
         _frameNumber++;
-        var frameLines = frame.Lines;
-        for (var i = 0; i < frameLines.Length; i++)
-        {
-            if (frameLines[i].AmplitudeUvRms >= _minAmplitudeUvRms)
-            {
-                _persistence.Seen(FindingKey.ForLine(frameLines[i].Source, frameLines[i].FrequencyHz, frame.BinWidthHz), _frameNumber);
-            }
-        }
-
         var endTicks = frameEndUtc.UtcTicks;
         var startTicks = endTicks - (long)Math.Round(newSeconds * TimeSpan.TicksPerSecond);
         while (startTicks < endTicks)
@@ -131,16 +120,12 @@ public sealed class MinuteLedger
         for (var i = 0; i < lines.Length; i++)
         {
             var line = lines[i];
-            if (!(line.AmplitudeUvRms >= _minAmplitudeUvRms))
+            if (!(line.AmplitudeUvRms >= _minAmplitudeUvRms) || !line.IsPersistent)
             {
                 continue;
             }
 
             var key = FindingKey.ForLine(line.Source, line.FrequencyHz, frame.BinWidthHz);
-            if (!_persistence.IsPersistent(key, _frameNumber))
-            {
-                continue;
-            }
 
             var tally = TallyFor(key);
             tally.AddLine(_frameNumber, seconds, line);

@@ -17,8 +17,21 @@ public sealed class FrameLine
     private readonly int[] _worstChannels = new int[MaxWorstChannels];
     private readonly double[] _worstAmplitudesUvRms = new double[MaxWorstChannels];
     private readonly SourceMatch[] _alternatives = new SourceMatch[MaxAlternatives];
+    private ulong[] _channelMask;
     private int _worstCount;
     private int _alternativeCount;
+
+    /// <summary>A line that records no channel set (tests, hand-built frames).</summary>
+    public FrameLine()
+        : this(0)
+    {
+    }
+
+    /// <summary>A pooled line of a stream with <paramref name="channelCount"/> channels.</summary>
+    internal FrameLine(int channelCount)
+    {
+        _channelMask = new ulong[(channelCount + 63) / 64];
+    }
 
     /// <summary>Frequency in Hz: amplitude-weighted mean of the affected channels' refined frequencies.</summary>
     public double FrequencyHz { get; internal set; }
@@ -47,6 +60,24 @@ public sealed class FrameLine
     /// <summary>One past the last sample of the latest segment of the span whose periodogram shows the line.</summary>
     public long EvidenceEndSampleIndex { get; internal set; }
 
+    /// <summary>
+    /// Identity of the line across frames, given by the <see cref="Tracking.LineTracker"/> (1, 2, …; 0 before tracking):
+    /// the same number in consecutive frames is the same line for alerts, the ledger, the spectra and `check` alike.
+    /// </summary>
+    public int TrackId { get; internal set; }
+
+    /// <summary>Frames in a row, this one included, in which the tracked line has been seen.</summary>
+    public int TrackRunFrames { get; internal set; }
+
+    /// <summary>
+    /// True once the line has been seen in the tracker's PersistFrames frames in a row (a rhythm can look tonal for one
+    /// span; mains or a display stays). Everything that counts lines counts only persistent ones.
+    /// </summary>
+    public bool IsPersistent { get; internal set; }
+
+    /// <summary>What decided <see cref="Source"/> beyond the catalogue (frequency track, channel pattern).</summary>
+    public Tracking.LineEvidence Evidence { get; internal set; } = Tracking.LineEvidence.None;
+
     /// <summary>Most likely explanation; <see cref="SourceMatch.None"/> when unidentified.</summary>
     public SourceMatch Source { get; internal set; } = SourceMatch.None;
 
@@ -62,7 +93,27 @@ public sealed class FrameLine
     internal void ClearChannelsAndSources()
     {
         _worstCount = 0;
+        Array.Clear(_channelMask);
+        TrackId = 0;
+        TrackRunFrames = 0;
+        IsPersistent = false;
+        Evidence = Tracking.LineEvidence.None;
         ClearSources();
+    }
+
+    /// <summary>True when channel <paramref name="channel"/> carries the line (false when no channel set is kept).</summary>
+    public bool CarriesChannel(int channel) =>
+        (uint)(channel >> 6) < (uint)_channelMask.Length && (_channelMask[channel >> 6] & (1UL << (channel & 63))) != 0;
+
+    /// <summary>Bit c set when channel c carries the line; empty for lines that keep no channel set.</summary>
+    internal ReadOnlySpan<ulong> ChannelMask => _channelMask;
+
+    internal void MarkChannel(int channel)
+    {
+        if ((uint)(channel >> 6) < (uint)_channelMask.Length)
+        {
+            _channelMask[channel >> 6] |= 1UL << (channel & 63);
+        }
     }
 
     internal void ClearSources()
@@ -117,6 +168,16 @@ public sealed class FrameLine
         EvidenceStartSampleIndex = other.EvidenceStartSampleIndex;
         EvidenceEndSampleIndex = other.EvidenceEndSampleIndex;
         Source = other.Source;
+        TrackId = other.TrackId;
+        TrackRunFrames = other.TrackRunFrames;
+        IsPersistent = other.IsPersistent;
+        Evidence = other.Evidence;
+        if (_channelMask.Length != other._channelMask.Length)
+        {
+            _channelMask = new ulong[other._channelMask.Length];
+        }
+
+        other._channelMask.CopyTo(_channelMask, 0);
         other._worstChannels.CopyTo(_worstChannels, 0);
         other._worstAmplitudesUvRms.CopyTo(_worstAmplitudesUvRms, 0);
         other._alternatives.CopyTo(_alternatives, 0);

@@ -72,7 +72,7 @@ internal sealed class LineCombiner
         _pool = new FrameLine[maxLines];
         for (var i = 0; i < maxLines; i++)
         {
-            _pool[i] = new FrameLine();
+            _pool[i] = new FrameLine(channelCount);
         }
     }
 
@@ -190,6 +190,7 @@ internal sealed class LineCombiner
             weights += peak.AmplitudeUvRms;
             prominence = Math.Max(prominence, peak.ProminenceDb);
             line.OfferWorstChannel(entry.Channel, peak.AmplitudeUvRms);
+            line.MarkChannel(entry.Channel);
         }
 
         line.FrequencyHz = weights > 0 ? weighted / weights : entries[cluster.Start].FrequencyHz;

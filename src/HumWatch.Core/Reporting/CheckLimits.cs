@@ -15,12 +15,6 @@ public sealed class CheckLimits
     /// <summary>A channel fault covering at least this share of the recording fails it; any shorter fault warns. The default is 0.5.</summary>
     public double FailFaultFraction { get; set; } = 0.5;
 
-    /// <summary>
-    /// A peak must be seen in at least this many consecutive frames to be reported as a line. The default is 3 (as the
-    /// alert rules): an alpha burst can look tonal for one 8 s span, a mains or display line stays.
-    /// </summary>
-    public int MinLineFrames { get; set; } = 3;
-
     /// <summary>Whether unidentified lines count toward the verdict. The default is true.</summary>
     public bool CountUnidentifiedLines { get; set; } = true;
 
@@ -40,11 +34,6 @@ public sealed class CheckLimits
         if (!(MinLineSeconds >= 0))
         {
             errors.Add($"{prefix}:MinLineSeconds must be zero or more seconds (got {MinLineSeconds}).");
-        }
-
-        if (MinLineFrames is < 1 or > 100)
-        {
-            errors.Add($"{prefix}:MinLineFrames must be between 1 and 100 frames (got {MinLineFrames}).");
         }
 
         if (!(FailFaultFraction > 0 && FailFaultFraction <= 1))

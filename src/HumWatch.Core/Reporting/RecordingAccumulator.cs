@@ -7,7 +7,9 @@ namespace HumWatch.Core.Reporting;
 
 /// <summary>
 /// Folds the frames of one stream into episodes of lines and faults with their time extent — the body of a
-/// `check` report. Not for the service's hot path: it keeps per-frame amplitudes to take medians at the end.
+/// `check` report. A line episode is one <see cref="Tracking.LineTracker"/> track (the same definition of "the same
+/// line" the service's alerts and ledger use), reported when the tracker found it persistent, named by the tracker's
+/// latest — best informed — explanation. Not for the service's hot path: it keeps per-frame amplitudes for medians.
 /// </summary>
 public sealed class RecordingAccumulator : IAnalysisFrameSink
 {
@@ -18,19 +20,18 @@ public sealed class RecordingAccumulator : IAnalysisFrameSink
     private readonly List<double> _mainsEstimates = [];
     private readonly double _mergeGapSeconds;
     private readonly double _hopSeconds;
-    private readonly int _minLineFrames;
     private int _transientPeaks;
     private double _lastFrameEndSeconds;
     private double _analysedSeconds;
     private int _frameCount;
+    private double _gridNominalHz = double.NaN;
+    private Tracking.GridOrigin _gridFrom;
+    private double _gridConflictHz = double.NaN;
 
     /// <param name="hopSeconds">Time between frames; each frame accounts for this much new time.</param>
-    /// <param name="mergeGapSeconds">An absence shorter than this joins two sightings into one episode (a missed frame is not a new episode).</param>
-    /// <param name="minLineFrames">Consecutive frames a peak needs before its episode is reported as a line.</param>
-    public RecordingAccumulator(double hopSeconds, double mergeGapSeconds, int minLineFrames = 1)
+    /// <param name="mergeGapSeconds">How long an episode whose track has not been seen stays open (at least the tracker's own merge gap, one span).</param>
+    public RecordingAccumulator(double hopSeconds, double mergeGapSeconds)
     {
-        ArgumentOutOfRangeException.ThrowIfLessThan(minLineFrames, 1);
-        _minLineFrames = minLineFrames;
         ArgumentOutOfRangeException.ThrowIfNegativeOrZero(hopSeconds);
         ArgumentOutOfRangeException.ThrowIfNegative(mergeGapSeconds);
         _hopSeconds = hopSeconds;
@@ -53,17 +54,29 @@ public sealed class RecordingAccumulator : IAnalysisFrameSink
             _mainsEstimates.Add(frame.EstimatedMainsHz);
         }
 
+        _gridNominalHz = frame.GridNominalHz;
+        _gridFrom = frame.GridFrom;
+        if (double.IsFinite(frame.GridConflictHz))
+        {
+            _gridConflictHz = frame.GridConflictHz;
+        }
+
         var rate = frame.Layout.SampleRateHz;
         foreach (var line in frame.Lines)
         {
-            var episode = FindOpenEpisode(line, frame.BinWidthHz);
+            if (line.TrackId == 0)
+            {
+                throw new InvalidOperationException("Frames reach the recording accumulator through a LineTracker, which gives every line its identity.");
+            }
+
+            var episode = FindOpenEpisode(line.TrackId);
             if (episode is null)
             {
-                episode = new LineEpisode(line.Source);
+                episode = new LineEpisode(line.TrackId);
                 _openLines.Add(episode);
             }
 
-            episode.Add(line, frame, rate, newSeconds, _frameCount);
+            episode.Add(line, frame, rate, newSeconds);
         }
 
         foreach (var fault in frame.Faults)
@@ -108,29 +121,21 @@ public sealed class RecordingAccumulator : IAnalysisFrameSink
             .ThenBy(f => f.Channel)
             .ToList();
         double? mains = _mainsEstimates.Count == 0 ? null : Median(_mainsEstimates);
-        return new RecordingFindings(layout.SampleRateHz, layout.ChannelCount, _analysedSeconds, _frameCount, mains, lines, faults, _transientPeaks);
+        var grid = new GridFinding(double.IsFinite(_gridNominalHz) ? _gridNominalHz : null, _gridFrom, double.IsFinite(_gridConflictHz) ? _gridConflictHz : null);
+        return new RecordingFindings(layout.SampleRateHz, layout.ChannelCount, _analysedSeconds, _frameCount, mains, lines, faults, _transientPeaks) { Grid = grid };
     }
 
-    private LineEpisode? FindOpenEpisode(FrameLine line, double binWidthHz)
+    private LineEpisode? FindOpenEpisode(int trackId)
     {
-        LineEpisode? best = null;
-        var bestDistance = double.MaxValue;
         foreach (var episode in _openLines)
         {
-            if (!episode.Matches(line, binWidthHz))
+            if (episode.TrackId == trackId)
             {
-                continue;
-            }
-
-            var distance = Math.Abs(episode.LastFrequencyHz - line.FrequencyHz);
-            if (distance < bestDistance)
-            {
-                best = episode;
-                bestDistance = distance;
+                return episode;
             }
         }
 
-        return best;
+        return null;
     }
 
     private void CloseStale(AnalysisFrame frame)
@@ -167,7 +172,7 @@ public sealed class RecordingAccumulator : IAnalysisFrameSink
 
     private void Close(LineEpisode episode, Signals.StreamLayout layout)
     {
-        if (episode.LongestRunFrames >= _minLineFrames)
+        if (episode.EverPersistent)
         {
             _closedLines.Add(episode.ToFinding(layout));
         }
@@ -190,50 +195,43 @@ public sealed class RecordingAccumulator : IAnalysisFrameSink
         return sorted.Length % 2 == 1 ? sorted[mid] : 0.5 * (sorted[mid - 1] + sorted[mid]);
     }
 
-    private sealed class LineEpisode(SourceMatch source)
+    private sealed class LineEpisode(int trackId)
     {
         private readonly List<double> _frequencies = [];
         private readonly List<double> _amplitudes = [];
         private readonly List<double> _shares = [];
         private readonly Dictionary<int, double> _channelScores = [];
-        private readonly SortedSet<string> _alternatives = new(StringComparer.Ordinal);
+        private SourceMatch[] _alternatives = [];
         private double _maxAmplitude;
         private double _maxProminence;
         private int _maxAffected;
         private double _firstSeconds = double.MaxValue;
         private double _lastSeconds;
         private double _presentSeconds;
-        private int _lastFrameNumber = -2;
-        private int _runFrames;
 
-        public SourceMatch Source { get; } = source;
+        public int TrackId { get; } = trackId;
 
-        /// <summary>Most frames in a row that showed the line.</summary>
-        public int LongestRunFrames { get; private set; }
+        /// <summary>The tracker found the line persistent in at least one frame.</summary>
+        public bool EverPersistent { get; private set; }
 
-        public double LastFrequencyHz { get; private set; }
+        /// <summary>The latest explanation: the tracker's evidence grows with every frame.</summary>
+        public SourceMatch Source { get; private set; } = SourceMatch.None;
+
+        public Tracking.LineEvidence Evidence { get; private set; } = Tracking.LineEvidence.None;
 
         public double LastSeenFrameEndSeconds { get; private set; }
 
-        public bool Matches(FrameLine line, double binWidthHz)
+        public void Add(FrameLine line, AnalysisFrame frame, double sampleRateHz, double newSeconds)
         {
-            if (Source.IsIdentified || line.Source.IsIdentified)
+            EverPersistent |= line.IsPersistent;
+            Source = line.Source;
+            Evidence = line.Evidence;
+            if (_alternatives.Length != line.AlsoPossible.Length)
             {
-                return line.Source.Kind == Source.Kind
-                    && line.Source.Harmonic == Source.Harmonic
-                    && string.Equals(line.Source.Name, Source.Name, StringComparison.Ordinal);
+                _alternatives = new SourceMatch[line.AlsoPossible.Length];
             }
 
-            // Unidentified lines are the same line when they stay within two bins of where it was last seen.
-            return Math.Abs(line.FrequencyHz - LastFrequencyHz) <= 2 * binWidthHz;
-        }
-
-        public void Add(FrameLine line, AnalysisFrame frame, double sampleRateHz, double newSeconds, int frameNumber)
-        {
-            _runFrames = frameNumber == _lastFrameNumber + 1 ? _runFrames + 1 : 1;
-            _lastFrameNumber = frameNumber;
-            LongestRunFrames = Math.Max(LongestRunFrames, _runFrames);
-            LastFrequencyHz = line.FrequencyHz;
+            line.AlsoPossible.CopyTo(_alternatives);
             LastSeenFrameEndSeconds = frame.EndSeconds;
             _frequencies.Add(line.FrequencyHz);
             _amplitudes.Add(line.AmplitudeUvRms);
@@ -250,11 +248,6 @@ public sealed class RecordingAccumulator : IAnalysisFrameSink
             {
                 _channelScores[worst[i]] = _channelScores.GetValueOrDefault(worst[i]) + amplitudes[i];
             }
-
-            foreach (var alternative in line.AlsoPossible)
-            {
-                _alternatives.Add(LineFinding.Describe(alternative));
-            }
         }
 
         public LineFinding ToFinding(Signals.StreamLayout layout)
@@ -268,7 +261,7 @@ public sealed class RecordingAccumulator : IAnalysisFrameSink
             return new LineFinding(
                 Median(_frequencies),
                 Source,
-                [.. _alternatives],
+                [.. _alternatives.Select(LineFinding.Describe)],
                 Median(_amplitudes),
                 _maxAmplitude,
                 _maxProminence,
@@ -277,7 +270,10 @@ public sealed class RecordingAccumulator : IAnalysisFrameSink
                 worst,
                 _firstSeconds,
                 _lastSeconds,
-                _presentSeconds);
+                _presentSeconds)
+            {
+                Evidence = Evidence,
+            };
         }
     }
 

@@ -29,6 +29,9 @@ public sealed record LineFinding(
     double LastSeconds,
     double PresentSeconds)
 {
+    /// <summary>What decided the explanation (the tracker's evidence in the episode's last frame).</summary>
+    public Tracking.LineEvidence Evidence { get; init; } = Tracking.LineEvidence.None;
+
     /// <summary>Short human name of the explanation, e.g. "mains ×3" or "display 75 Hz ×2 (aliased)".</summary>
     public string SourceLabel => Describe(Source);
 
@@ -43,6 +46,15 @@ public sealed record LineFinding(
         var aliased = match.Aliased ? " (aliased)" : "";
         return $"{match.Name}{harmonic}{aliased}";
     }
+}
+
+/// <summary>The grid a stream's lines were attributed against.</summary>
+/// <param name="NominalHz">50 or 60 Hz (or the configured value); null when neither configured nor seen.</param>
+/// <param name="From">Configured, measured from the data, or unknown.</param>
+/// <param name="ConflictHz">The other grid, when the data contradicts the configured one; else null.</param>
+public sealed record GridFinding(double? NominalHz, Tracking.GridOrigin From, double? ConflictHz)
+{
+    public static GridFinding Unknown { get; } = new(null, Tracking.GridOrigin.Unknown, null);
 }
 
 /// <summary>One episode of a channel fault.</summary>
@@ -60,6 +72,9 @@ public sealed record RecordingFindings(
     IReadOnlyList<FaultFinding> Faults,
     int TransientPeakCount = 0)
 {
+    /// <summary>The grid the lines were attributed against.</summary>
+    public GridFinding Grid { get; init; } = GridFinding.Unknown;
+
     /// <summary>Applies the limits: fail beats warn beats pass.</summary>
     public Verdict Judge(CheckLimits limits, double recordingSeconds)
     {

@@ -44,8 +44,6 @@ public sealed class HourlySpectrumAccumulator
 {
     private readonly double _minAmplitudeUvRms;
     private readonly double _flushEverySeconds;
-    private readonly Ledger.LinePersistence _persistence;
-    private long _frameNumber;
     private readonly Dictionary<FindingKey, LineFrequencyTally> _lines = [];
     private double[] _sum = [];
     private double _binWidthHz;
@@ -58,10 +56,9 @@ public sealed class HourlySpectrumAccumulator
     /// <param name="sessionId">Session id; use the ledger's.</param>
     /// <param name="minAmplitudeUvRms">Lines at or above this amplitude are marked, µV RMS. The default is 1 µV (the ledger's level).</param>
     /// <param name="flushEverySeconds">Most stream time held before a part is emitted, s; 10 to 3600. The default is 300 s.</param>
-    /// <param name="minLineFrames">Frames in a row a line needs before it is marked (as for the ledger and alerts).</param>
-    public HourlySpectrumAccumulator(string streamId, string sessionId, double minAmplitudeUvRms = 1.0, double flushEverySeconds = 300, int minLineFrames = 1)
+    /// <remarks>Only lines the <see cref="Tracking.LineTracker"/> found persistent are marked, as for the ledger and alerts.</remarks>
+    public HourlySpectrumAccumulator(string streamId, string sessionId, double minAmplitudeUvRms = 1.0, double flushEverySeconds = 300)
     {
-        _persistence = new Ledger.LinePersistence(minLineFrames);
         ArgumentException.ThrowIfNullOrWhiteSpace(streamId);
         ArgumentException.ThrowIfNullOrWhiteSpace(sessionId);
         if (!(minAmplitudeUvRms >= 0) || !double.IsFinite(minAmplitudeUvRms))
@@ -126,22 +123,16 @@ public sealed class HourlySpectrumAccumulator
         }
 
         _seconds += newSeconds;
-        _frameNumber++;
         var lines = frame.Lines;
         for (var i = 0; i < lines.Length; i++)
         {
             var line = lines[i];
-            if (!(line.AmplitudeUvRms >= _minAmplitudeUvRms))
+            if (!(line.AmplitudeUvRms >= _minAmplitudeUvRms) || !line.IsPersistent)
             {
                 continue;
             }
 
             var key = FindingKey.ForLine(line.Source, line.FrequencyHz, frame.BinWidthHz);
-            _persistence.Seen(key, _frameNumber);
-            if (!_persistence.IsPersistent(key, _frameNumber))
-            {
-                continue;
-            }
 
             var tally = _lines.GetValueOrDefault(key);
             _lines[key] = new LineFrequencyTally(tally.SumHz + line.FrequencyHz, tally.Frames + 1);

@@ -25,6 +25,12 @@ public sealed class CheckReport
     /// <summary>Median mains frequency estimated from the fundamental, Hz, when it was seen.</summary>
     public double? MainsEstimateHz { get; init; }
 
+    /// <summary>The grid's nominal frequency the lines were attributed against (50 or 60 Hz); null when neither configured nor seen.</summary>
+    public double? MainsHz { get; init; }
+
+    /// <summary>"configured" (settings or --mains), "measured" (decided from the data) or "unknown".</summary>
+    public string? MainsFrom { get; init; }
+
     public string? Prefiltering { get; init; }
 
     public IReadOnlyList<CheckLine> Lines { get; init; } = [];
@@ -90,6 +96,74 @@ public sealed class CheckLine
     public double SampleRateHz { get; init; }
 
     public string? Suggestion { get; init; }
+
+    /// <summary>What decided <see cref="Source"/>; see <see cref="CheckEvidence"/>.</summary>
+    public CheckEvidence? Evidence { get; init; }
+}
+
+/// <summary>The evidence behind a line's explanation, as reported.</summary>
+public sealed class CheckEvidence
+{
+    /// <summary>"catalogue", "grid-fundamental", "frequency-track", "channel-pattern" or "undecided".</summary>
+    public required string Basis { get; init; }
+
+    /// <summary>"follows-grid", "independent", "channels-differ"; null when not judged.</summary>
+    public string? GridLock { get; init; }
+
+    /// <summary>Slope of the line's frequency against n × the grid's fundamental: 1 locked to the grid, near 0 its own source.</summary>
+    public double? GridFollowRatio { get; init; }
+
+    /// <summary>Mean overlap (Jaccard, 0..1) of the line's channels with the mains fundamental's.</summary>
+    public double? ChannelOverlap { get; init; }
+
+    /// <summary>Standard deviation of the line's frequency over the tracked frames, Hz.</summary>
+    public double? FrequencySpreadHz { get; init; }
+
+    /// <summary>Standard deviation of n × the fundamental over the same frames, Hz.</summary>
+    public double? GridSpreadHz { get; init; }
+
+    /// <summary>Frames the line shared with the fundamental.</summary>
+    public int SharedFrames { get; init; }
+
+    /// <summary>The same in one phrase a technician reads.</summary>
+    public string? Summary { get; init; }
+
+    internal static CheckEvidence From(Core.Reporting.LineFinding line) =>
+        From(line.Evidence, line.Source, line.FrequencyHz, line.AlsoPossible);
+
+    /// <summary>The evidence of an alert's raise, in the reported form.</summary>
+    internal static CheckEvidence From(Core.Alerts.AlertRaised raised) =>
+        From(raised.Evidence, raised.Source, raised.FrequencyHz, [.. raised.AlsoPossible.Select(Core.Reporting.LineFinding.Describe)]);
+
+    /// <summary>The reported form of a line's evidence (check reports, alert bodies and the store share it).</summary>
+    internal static CheckEvidence From(Core.Tracking.LineEvidence e, Core.Attribution.SourceMatch source, double frequencyHz, IReadOnlyList<string> alternatives) =>
+        new()
+        {
+            Basis = e.Basis switch
+            {
+                Core.Tracking.EvidenceBasis.GridFundamental => "grid-fundamental",
+                Core.Tracking.EvidenceBasis.FrequencyTrack => "frequency-track",
+                Core.Tracking.EvidenceBasis.ChannelPattern => "channel-pattern",
+                Core.Tracking.EvidenceBasis.Undecided => "undecided",
+                _ => "catalogue",
+            },
+            GridLock = e.Lock switch
+            {
+                Core.Tracking.GridLock.FollowsGrid => "follows-grid",
+                Core.Tracking.GridLock.Independent => "independent",
+                Core.Tracking.GridLock.ChannelsDiffer => "channels-differ",
+                _ => null,
+            },
+            GridFollowRatio = Rounded(e.GridFollowRatio, 2),
+            ChannelOverlap = Rounded(e.ChannelOverlap, 2),
+            FrequencySpreadHz = Rounded(e.FrequencySpreadHz, 4),
+            GridSpreadHz = Rounded(e.GridSpreadHz, 4),
+            SharedFrames = e.SharedFrames,
+            Summary = Core.Reporting.EvidencePhrase.For(e, source, frequencyHz, alternatives),
+        };
+
+    private static double? Rounded(double value, int digits) =>
+        double.IsFinite(value) ? Math.Round(value, digits, MidpointRounding.AwayFromZero) : null;
 }
 
 public sealed class CheckFault
@@ -120,4 +194,5 @@ public sealed class CheckSkippedSignal
     Converters = [typeof(VerdictJsonConverter)])]
 [JsonSerializable(typeof(CheckReport))]
 [JsonSerializable(typeof(List<CheckReport>))]
+[JsonSerializable(typeof(CheckEvidence))]
 public sealed partial class CheckReportJsonContext : JsonSerializerContext;

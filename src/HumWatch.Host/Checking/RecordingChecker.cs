@@ -4,6 +4,8 @@ using HumWatch.Core.Attribution;
 using HumWatch.Core.Faults;
 using HumWatch.Core.Reporting;
 using HumWatch.Core.Spectra;
+using System.Globalization;
+using HumWatch.Core.Tracking;
 using HumWatch.Formats;
 using HumWatch.Host.Monitoring;
 
@@ -106,10 +108,11 @@ public sealed class RecordingChecker
         for (var g = 0; g < groups.Count; g++)
         {
             // A line absent for a whole span is a new episode; a single missed frame is not.
-            accumulators[g] = new RecordingAccumulator(hop, _analysis.Spectra.SpanSeconds, _limits.MinLineFrames);
+            accumulators[g] = new RecordingAccumulator(hop, _analysis.Spectra.SpanSeconds);
 
-            // A session is the one fan-out point of the group's frames (report first); without one the report is the only consumer.
-            sinks[g] = sessionFor is null ? accumulators[g] : sessionFor(groups[g], accumulators[g]);
+            // A session is the one fan-out point of the group's frames (report first) and tracks the lines in front of
+            // it; without one, the report is the only consumer and gets its own tracker.
+            sinks[g] = sessionFor is null ? new LineTracker(_analysis, accumulators[g]) : sessionFor(groups[g], accumulators[g]);
         }
 
         // One long file on several cores: split it in time when the format allows, else spread each group's spectra.
@@ -122,6 +125,7 @@ public sealed class RecordingChecker
         var faults = new List<CheckFault>();
         var verdict = Verdict.Pass;
         var mainsEstimates = new List<double>();
+        GridFinding? grid = null;
         for (var g = 0; g < groups.Count; g++)
         {
             var layout = groups[g].Layout;
@@ -140,7 +144,13 @@ public sealed class RecordingChecker
 
             if (findings.TransientPeakCount > 0)
             {
-                notes.Add($"{findings.TransientPeakCount} short-lived peak(s) in the {layout.SampleRateHz:0.###} Hz signals, seen in fewer than {_limits.MinLineFrames} frames in a row (e.g. a rhythm that looked tonal for one span), were not counted as lines.");
+                notes.Add($"{findings.TransientPeakCount} short-lived peak(s) in the {layout.SampleRateHz:0.###} Hz signals, seen in fewer than {_analysis.Tracking.PersistFrames} frames in a row (e.g. a rhythm that looked tonal for one span), were not counted as lines.");
+            }
+
+            // The group with the most channels speaks for the recording's grid.
+            if (grid is null || findings.ChannelCount > groups.Where((_, i) => i < g).Max(x => x.Layout.ChannelCount))
+            {
+                grid = findings.Grid;
             }
 
             if (findings.MedianMainsHz is { } mains)
@@ -173,6 +183,12 @@ public sealed class RecordingChecker
             notes.Add($"The recording declares a notch filter ({prefilter}); a suppressed fundamental does not mean the room is clean.");
         }
 
+        grid ??= GridFinding.Unknown;
+        if (grid.ConflictHz is { } conflict && grid.NominalHz is { } configured)
+        {
+            notes.Add(string.Create(CultureInfo.InvariantCulture, $"The recording shows a {conflict:0.##} Hz grid (its fundamental on most channels, with harmonics) and no {configured:0.##} Hz fundamental, but the settings say {configured:0.##} Hz: check Analysis:Sources:MainsHz or --mains. Lines were attributed against {configured:0.##} Hz."));
+        }
+
         var primary = groups.OrderByDescending(g => g.Layout.ChannelCount).First().Layout;
         return new CheckReport
         {
@@ -183,6 +199,8 @@ public sealed class RecordingChecker
             ChannelCount = groups.Sum(g => g.Layout.ChannelCount),
             DurationSeconds = Round(info.DurationSeconds, 3),
             MainsEstimateHz = mainsEstimates.Count == 0 ? null : Round(mainsEstimates.Average(), 3),
+            MainsHz = grid.NominalHz,
+            MainsFrom = GridOriginName(grid.From),
             Prefiltering = string.IsNullOrWhiteSpace(info.Prefiltering) ? null : info.Prefiltering,
             Lines = lines,
             ChannelFaults = faults,
@@ -253,6 +271,15 @@ public sealed class RecordingChecker
         PresentSeconds = Round(line.PresentSeconds, 1),
         SampleRateHz = sampleRateHz,
         Suggestion = Suggestions.For(line.Source, line.ChannelShare, line.WorstChannels),
+        Evidence = CheckEvidence.From(line),
+    };
+
+    /// <summary>"configured", "measured" or "unknown".</summary>
+    public static string GridOriginName(GridOrigin origin) => origin switch
+    {
+        GridOrigin.Configured => "configured",
+        GridOrigin.Measured => "measured",
+        _ => "unknown",
     };
 
     public static string SourceKindName(SourceKind kind) => kind switch

@@ -15,17 +15,9 @@ public sealed class MonitorOptions
     /// <summary>Lines at or above this amplitude count as affecting a ledger minute, µV RMS. The default is 1 µV (the "minor" alert level).</summary>
     public double LedgerMinAmplitudeUvRms { get; set; } = 1;
 
-    /// <summary>Frames in a row a line needs before the ledger and the day's spectrum count it (as alerts need). The default is 3.</summary>
-    public int LedgerMinLineFrames { get; set; } = 3;
-
     public IReadOnlyList<string> Validate(string prefix = "Monitor")
     {
         var errors = new List<string>();
-        if (LedgerMinLineFrames is < 1 or > 100)
-        {
-            errors.Add($"{prefix}:LedgerMinLineFrames must be between 1 and 100 frames (got {LedgerMinLineFrames}).");
-        }
-
         if (StreamQueueCapacity is < 1 or > 100_000)
         {
             errors.Add($"{prefix}:StreamQueueCapacity must be between 1 and 100000 chunks (got {StreamQueueCapacity}).");

@@ -59,6 +59,11 @@ internal sealed class StreamMonitor : IAsyncDisposable
 
     public DateTimeOffset? LastFrameEndUtcFromStream => _session?.LastFrameEndUtcFromStream;
 
+    /// <summary>The grid the current session attributes against (NaN while unknown); read by the status publisher.</summary>
+    public double GridNominalHz => _session?.GridNominalHz ?? double.NaN;
+
+    public Core.Tracking.GridOrigin GridFrom => _session?.GridFrom ?? Core.Tracking.GridOrigin.Unknown;
+
     public bool IsOpen => _session is not null;
 
     /// <summary>Seconds since the last chunk was offered.</summary>

@@ -115,7 +115,11 @@ internal sealed class StreamMonitorService : BackgroundService
                 counts?.Accepted ?? 0,
                 counts?.Dropped ?? monitor.DroppedChunks,
                 counts?.RejectedTotal ?? 0,
-                lag);
+                lag)
+            {
+                MainsHz = double.IsFinite(monitor.GridNominalHz) ? monitor.GridNominalHz : null,
+                MainsFrom = Checking.RecordingChecker.GridOriginName(monitor.GridFrom),
+            };
             _publisher.TryPublish(Messages.StatusKind, monitor.StreamId, Messages.For(status));
         }
     }

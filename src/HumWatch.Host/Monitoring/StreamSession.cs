@@ -4,6 +4,7 @@ using HumWatch.Core.Ledger;
 using HumWatch.Core.Reporting;
 using HumWatch.Core.Signals;
 using HumWatch.Core.Summaries;
+using HumWatch.Core.Tracking;
 
 namespace HumWatch.Host.Monitoring;
 
@@ -14,6 +15,7 @@ namespace HumWatch.Host.Monitoring;
 /// </summary>
 internal sealed class StreamSession : IAnalysisFrameSink
 {
+    private readonly LineTracker _tracker;
     private readonly RecordingAccumulator? _report;
     private readonly AlertBook _alerts;
     private readonly MinuteLedger _ledger;
@@ -39,11 +41,12 @@ internal sealed class StreamSession : IAnalysisFrameSink
         Layout = layout;
         var monitor = outputs.Monitor;
         _report = report;
+        _tracker = new LineTracker(outputs.Analysis);
         _alerts = new AlertBook(streamId, outputs.Alerts);
-        _ledger = new MinuteLedger(streamId, sessionId, monitor.LedgerMinAmplitudeUvRms, monitor.LedgerMinLineFrames);
+        _ledger = new MinuteLedger(streamId, sessionId, monitor.LedgerMinAmplitudeUvRms);
         if (outputs.SpectrumSink is { } spectrumSink)
         {
-            _spectrum = new HourlySpectrumAccumulator(streamId, sessionId, monitor.LedgerMinAmplitudeUvRms, minLineFrames: monitor.LedgerMinLineFrames);
+            _spectrum = new HourlySpectrumAccumulator(streamId, sessionId, monitor.LedgerMinAmplitudeUvRms);
             _spectrumSink = spectrumSink;
         }
 
@@ -66,6 +69,11 @@ internal sealed class StreamSession : IAnalysisFrameSink
 
     public int ActiveAlertCount => _alerts.Active.Count;
 
+    /// <summary>The grid the lines are attributed against: configured, measured from the data, or NaN while unknown.</summary>
+    public double GridNominalHz => _tracker.GridNominalHz;
+
+    public GridOrigin GridFrom => _tracker.GridFrom;
+
     /// <summary>UTC time of the last analysed sample, when the stream supplies times; else null.</summary>
     public DateTimeOffset? LastFrameEndUtcFromStream { get; private set; }
 
@@ -77,7 +85,9 @@ internal sealed class StreamSession : IAnalysisFrameSink
         FramesAnalysed++;
         LinesInLastFrame = frame.Lines.Length;
 
-        // The one fan-out point of a stream's frames: a stage every consumer must share goes here, in front of them all.
+        // The one fan-out point of a stream's frames: the tracker gives every line its identity, persistence and evidence
+        // first, so the report, the alerts, the ledger and the spectra count the same lines with the same names.
+        _tracker.Track(frame);
         _report?.OnFrame(frame);
         _alerts.Observe(frame, endUtc, _alertSink);
         _ledger.Observe(frame, endUtc, _rowSink);

@@ -26,7 +26,14 @@ internal sealed record AlertMessage(
     string? Suggestion,
     double StreamSeconds,
     DateTimeOffset Utc,
-    DateTimeOffset? OnsetUtc);
+    DateTimeOffset? OnsetUtc)
+{
+    /// <summary>Other explanations that fit about as well (raises of lines only).</summary>
+    public IReadOnlyList<string>? AlsoPossible { get; init; }
+
+    /// <summary>What decided the explanation (raises of lines only), as in `check` reports.</summary>
+    public Checking.CheckEvidence? Evidence { get; init; }
+}
 
 /// <summary>Body of "clear/&lt;stream&gt;" messages.</summary>
 internal sealed record ClearMessage(
@@ -68,7 +75,14 @@ internal sealed record StatusMessage(
     long ChunksAccepted,
     long ChunksDropped,
     long ChunksRejected,
-    double? LagSeconds);
+    double? LagSeconds)
+{
+    /// <summary>The grid the stream's lines are attributed against, Hz (50 or 60); null while neither configured nor seen.</summary>
+    public double? MainsHz { get; init; }
+
+    /// <summary>"configured", "measured" or "unknown".</summary>
+    public string? MainsFrom { get; init; }
+}
 
 [JsonSourceGenerationOptions(PropertyNamingPolicy = JsonKnownNamingPolicy.CamelCase)]
 [JsonSerializable(typeof(AlertMessage))]
@@ -114,7 +128,11 @@ internal static class Messages
                     new AlertMessage(
                         Version, r.StreamId, key, r.EventKind.ToText(), kind, source, harmonic, r.Source.Aliased, fault,
                         Finite(r.FrequencyHz), Finite(r.AmplitudeUvRms), Finite(r.ChannelShare), r.WorstChannels,
-                        r.Severity.ToText(), null, r.Suggestion, r.StreamSeconds, r.Utc, r.OnsetUtc),
+                        r.Severity.ToText(), null, r.Suggestion, r.StreamSeconds, r.Utc, r.OnsetUtc)
+                    {
+                        AlsoPossible = r.Category == AlertCategory.Line ? [.. r.AlsoPossible.Select(Core.Reporting.LineFinding.Describe)] : null,
+                        Evidence = r.Category == AlertCategory.Line ? Checking.CheckEvidence.From(r) : null,
+                    },
                     MessageJsonContext.Default.AlertMessage));
             case AlertSeverityChanged s:
                 return (AlertKind, JsonSerializer.SerializeToUtf8Bytes(

@@ -102,9 +102,15 @@ internal sealed class HumWatchStore : IAlertEventStore, ILedgerStore, IDisposabl
         double? peakUvRms = null;
         string? peakSeverity = null;
         string? reason = null;
+        string? evidence = null;
         switch (alertEvent)
         {
             case AlertRaised raised:
+                if (raised.Category == AlertCategory.Line)
+                {
+                    evidence = System.Text.Json.JsonSerializer.Serialize(Checking.CheckEvidence.From(raised), Checking.CheckReportJsonContext.Default.CheckEvidence);
+                }
+
                 (frequencyHz, amplitudeUvRms, share, worst, suggestion, onsetUtc) =
                     (Finite(raised.FrequencyHz), Finite(raised.AmplitudeUvRms), Finite(raised.ChannelShare), raised.WorstChannels, raised.Suggestion, raised.OnsetUtc);
                 break;
@@ -128,10 +134,10 @@ internal sealed class HumWatchStore : IAlertEventStore, ILedgerStore, IDisposabl
             command.CommandText = """
                 INSERT INTO alerts (stream, key, kind, event, severity, source_name, harmonic, aliased, frequency_hz,
                     amplitude_uv_rms, channel_share, worst_channels, suggestion, stream_seconds, utc_ms, onset_utc_ms,
-                    duration_s, peak_uv_rms, peak_severity, reason)
+                    duration_s, peak_uv_rms, peak_severity, reason, evidence)
                 VALUES ($stream, $key, $kind, $event, $severity, $sourceName, $harmonic, $aliased, $frequency,
                     $amplitude, $share, $worst, $suggestion, $streamSeconds, $utc, $onset,
-                    $duration, $peak, $peakSeverity, $reason);
+                    $duration, $peak, $peakSeverity, $reason, $evidence);
                 SELECT last_insert_rowid();
                 """;
             Add(command, "$stream", alertEvent.StreamId);
@@ -154,6 +160,7 @@ internal sealed class HumWatchStore : IAlertEventStore, ILedgerStore, IDisposabl
             Add(command, "$peak", peakUvRms);
             Add(command, "$peakSeverity", peakSeverity);
             Add(command, "$reason", reason);
+            Add(command, "$evidence", evidence);
             return (long)command.ExecuteScalar()!;
         }
     }
@@ -245,7 +252,7 @@ internal sealed class HumWatchStore : IAlertEventStore, ILedgerStore, IDisposabl
             command.CommandText = """
                 SELECT id, stream, key, kind, event, severity, source_name, harmonic, aliased, frequency_hz,
                     amplitude_uv_rms, channel_share, worst_channels, suggestion, stream_seconds, utc_ms, onset_utc_ms,
-                    duration_s, peak_uv_rms, peak_severity, reason
+                    duration_s, peak_uv_rms, peak_severity, reason, evidence
                 FROM alerts
                 WHERE utc_ms >= $from AND utc_ms < $to AND ($stream IS NULL OR stream = $stream)
                 ORDER BY utc_ms, id
@@ -267,7 +274,10 @@ internal sealed class HumWatchStore : IAlertEventStore, ILedgerStore, IDisposabl
                     reader.IsDBNull(16) ? null : DateTimeOffset.FromUnixTimeMilliseconds(reader.GetInt64(16)),
                     NullableDouble(reader, 17), NullableDouble(reader, 18),
                     reader.IsDBNull(19) ? null : SeverityOf(reader.GetString(19)),
-                    reader.IsDBNull(20) ? null : ReasonOf(reader.GetString(20))));
+                    reader.IsDBNull(20) ? null : ReasonOf(reader.GetString(20)))
+                {
+                    EvidenceJson = NullableString(reader, 21),
+                });
             }
 
             return result;

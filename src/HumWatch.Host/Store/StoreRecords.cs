@@ -26,7 +26,11 @@ internal sealed record StoredAlert(
     double? DurationSeconds,
     double? PeakUvRms,
     AlertSeverity? PeakSeverity,
-    AlertClearReason? Reason);
+    AlertClearReason? Reason)
+{
+    /// <summary>A raised line's evidence as stored (JSON in the shape of a `check` line's "evidence"); null otherwise.</summary>
+    public string? EvidenceJson { get; init; }
+}
 
 /// <summary>One stream/minute/source row of the ledger, merged over every part delivered for it.</summary>
 internal sealed record StoredMinute(

@@ -80,6 +80,9 @@ internal static class StoreSchema
             """,
         ],
         SummarySchema.Migration,
+
+        // Version 3: what decided a raised line's explanation, as JSON in the shape of a `check` line's "evidence".
+        ["ALTER TABLE alerts ADD COLUMN evidence TEXT"],
     ];
 
     /// <summary>Newest schema version this build knows.</summary>

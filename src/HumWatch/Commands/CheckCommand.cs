@@ -17,7 +17,7 @@ internal static class CheckCommand
         };
         var mains = new Option<int?>("--mains")
         {
-            Description = "Mains frequency of the site where the recordings were made: 50 or 60 Hz (default: from configuration, else 50).",
+            Description = "Mains frequency of the site where the recordings were made: 50 or 60 Hz (default: from the settings, else decided from the data).",
         };
         mains.AcceptOnlyFromAmong("50", "60");
         var json = new Option<bool>("--json") { Description = "Print the report as JSON (an array when several files are given)." };

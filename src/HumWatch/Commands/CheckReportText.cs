@@ -33,8 +33,8 @@ internal static class CheckReportText
             return false;
         }
 
-        var mains = r.MainsEstimateHz is { } hz ? string.Create(c, $"; mains measured at {hz:0.000} Hz") : "";
-        o.WriteLine(string.Create(c, $"  input     {r.ChannelCount} channels, {r.SampleRateHz:0.###} Hz, {r.DurationSeconds:0.0} s ({r.Format}){mains}"));
+        o.WriteLine(string.Create(c, $"  input     {r.ChannelCount} channels, {r.SampleRateHz:0.###} Hz, {r.DurationSeconds:0.0} s ({r.Format})"));
+        o.WriteLine($"  grid      {GridText(r)}");
         if (r.Lines.Count == 0)
         {
             o.WriteLine("  lines     none found");
@@ -49,7 +49,12 @@ internal static class CheckReportText
                 var channels = string.Create(c, $"{line.AffectedChannels} ({line.ChannelShare * 100:0}%)");
                 var strongest = string.Join(",", line.WorstChannels);
                 o.WriteLine(string.Create(c, $"    {line.FrequencyHz,-10:0.00} {what,-29} {line.AmplitudeUvRms,6:0.00}   {line.MaxAmplitudeUvRms,7:0.00}  {channels,-10} {strongest,-20} {line.FirstSeconds:0}–{line.LastSeconds:0}"));
-                if (line.AlsoPossible.Count > 0)
+                if (line.Evidence?.Summary is { } why)
+                {
+                    o.WriteLine($"{"",15}why: {why}");
+                }
+
+                if (line.AlsoPossible.Count > 0 && line.Evidence?.Basis != "undecided")
                 {
                     o.WriteLine($"{"",15}could also be: {string.Join("; ", line.AlsoPossible)}");
                 }
@@ -91,6 +96,18 @@ internal static class CheckReportText
         }
 
         return hints.Count > 0 || r.ChannelFaults.Count > 0;
+    }
+
+    private static string GridText(CheckReport r)
+    {
+        var c = CultureInfo.InvariantCulture;
+        var measured = r.MainsEstimateHz is { } hz ? string.Create(c, $", fundamental at {hz:0.000} Hz") : "";
+        return (r.MainsHz, r.MainsFrom) switch
+        {
+            ({ } nominal, "measured") => string.Create(c, $"{nominal:0.##} Hz, measured from the data{measured}"),
+            ({ } nominal, _) => string.Create(c, $"{nominal:0.##} Hz, from the settings{measured}"),
+            _ => "not seen in the data and not set (lines are named against 50 and 60 Hz alike)",
+        };
     }
 
     private static string Explain(CheckLine line)

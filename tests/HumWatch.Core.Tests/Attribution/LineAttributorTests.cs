@@ -52,17 +52,18 @@ public sealed class LineAttributorTests
     }
 
     [Fact]
-    public void At_250_Hz_the_fundamental_also_lists_the_aliased_4th_and_6th_harmonics()
+    public void At_250_Hz_the_fundamental_lists_neither_its_own_aliased_harmonics_nor_a_display_whose_fundamental_is_absent()
     {
-        var attributor = new LineAttributor(new SourceCatalogOptions(), 250, BinHz);
+        var attributor = new LineAttributor(new SourceCatalogOptions { MainsHz = 50 }, 250, BinHz);
         var lines = Lines((50, 10));
 
         attributor.Attribute(lines);
 
-        // REFERENCES §8 (computed): fs = 250: 200 → 50 and 300 → 50 Hz land on the fundamental.
+        // Folding f_a = |f − k·fs| (sampling theorem; computed): at fs = 250, 200 → 50 and 300 → 50 Hz land on the
+        // fundamental, and a 100 Hz display's 2nd harmonic (200 Hz) too; but 4× and 6× mains are the source already
+        // named, and a 100 Hz display would show its in-band fundamental, which is absent.
         AssertSource(lines[0], SourceKind.Mains, 1, aliased: false);
-        Assert.Contains(lines[0].AlsoPossible.ToArray(), m => m.Kind == SourceKind.Mains && m.Harmonic == 4 && m.Aliased);
-        Assert.Contains(lines[0].AlsoPossible.ToArray(), m => m.Kind == SourceKind.Mains && m.Harmonic == 6 && m.Aliased);
+        Assert.Empty(lines[0].AlsoPossible.ToArray());
     }
 
     [Fact]
@@ -75,12 +76,24 @@ public sealed class LineAttributorTests
         attributor.Attribute(lines);
 
         // 150 Hz = mains ×3 and display 75 Hz ×2 (EN 50160 50 Hz grid; VESA DMT 75 Hz); at fs = 500 also mains ×7
-        // folded from 350 Hz (REFERENCES §8, f_a = |f − k·fs|).
+        // folded from 350 Hz (f_a = |f − k·fs|, computed). Neither is listed: the display's in-band 75 Hz fundamental is
+        // absent, and the 7th is the source already named.
         AssertSource(lines[1], SourceKind.Mains, 3, aliased: false);
-        var alternatives = lines[1].AlsoPossible.ToArray();
-        Assert.Equal(2, alternatives.Length);
-        Assert.Contains(alternatives, m => m.Kind == SourceKind.Display && m.Harmonic == 2);
-        Assert.Contains(alternatives, m => m.Kind == SourceKind.Mains && m.Harmonic == 7 && m.Aliased);
+        Assert.Empty(lines[1].AlsoPossible.ToArray());
+    }
+
+    [Fact]
+    public void Line_at_150_Hz_keeps_the_75_Hz_display_as_an_alternative_when_both_fundamentals_are_present()
+    {
+        var catalog = new SourceCatalogOptions { DisplayRatesHz = [75] };
+        var attributor = new LineAttributor(catalog, 500, BinHz);
+        var lines = Lines((50, 5), (75.01, 2), (150, 2));
+
+        attributor.Attribute(lines);
+
+        // 3 × 50 = 2 × 75 = 150 Hz (EN 50160 50 Hz grid; VESA DMT 75 Hz): the frame alone cannot tell them apart.
+        AssertSource(lines[2], SourceKind.Mains, 3, aliased: false);
+        Assert.Contains(lines[2].AlsoPossible.ToArray(), m => m.Kind == SourceKind.Display && m.Harmonic == 2);
     }
 
     [Fact]
@@ -95,7 +108,9 @@ public sealed class LineAttributorTests
         Assert.True(double.IsNaN(mains));
         AssertSource(lines[1], SourceKind.Display, 2, aliased: false);
         Assert.Equal("display 75 Hz", lines[1].Source.Name);
-        Assert.Contains(lines[1].AlsoPossible.ToArray(), m => m.Kind == SourceKind.Mains && m.Harmonic == 3);
+
+        // Mains ×3 would need its 50 Hz fundamental, which is absent.
+        Assert.DoesNotContain(lines[1].AlsoPossible.ToArray(), m => m.Kind == SourceKind.Mains);
     }
 
     [Fact]

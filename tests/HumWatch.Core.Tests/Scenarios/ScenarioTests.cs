@@ -58,7 +58,7 @@ public sealed class ScenarioTests
     }
 
     [Fact]
-    public void At_250_Hz_strong_harmonics_fold_onto_50_and_100_Hz_and_are_listed_as_aliased_alternatives()
+    public void At_250_Hz_strong_harmonics_fold_onto_50_and_100_Hz_and_stay_mains_without_listing_mains_again()
     {
         // Harmonics 150, 200, 250, 300 Hz strong, as a converter with a weak anti-alias filter would pass them.
         var mains = new SimulatedTone { FrequencyHz = 50, AmplitudeUvRms = 1, HarmonicAmplitudes = [0, 3, 2, 2, 2] };
@@ -68,15 +68,14 @@ public sealed class ScenarioTests
 
         foreach (var frame in frames)
         {
-            // 150 → 100 Hz (REFERENCES §8): no 100 Hz was simulated, yet the line is there.
+            // 150 → 100 Hz (f_a = |f − k·fs|, computed): no 100 Hz was simulated, yet the line is there, and it is mains.
             var hundred = Assert.IsType<LineSnapshot>(frame.Near(100, 0.1));
             Assert.Equal(SourceKind.Mains, hundred.Source.Kind);
-            Assert.Contains(hundred.AlsoPossible.Concat([hundred.Source]), m => m.Harmonic == 3 && m.Aliased);
 
-            // 200 → 50 and 300 → 50 Hz land on the fundamental.
+            // 200 → 50 and 300 → 50 Hz land on the fundamental: still mains ×1, with no further mains harmonic listed.
             var fifty = Assert.IsType<LineSnapshot>(frame.Near(50, 0.1));
-            Assert.Contains(fifty.AlsoPossible, m => m.Harmonic == 4 && m.Aliased);
-            Assert.Contains(fifty.AlsoPossible, m => m.Harmonic == 6 && m.Aliased);
+            Assert.Equal(1, fifty.Source.Harmonic);
+            Assert.DoesNotContain(fifty.AlsoPossible, m => m.Kind == SourceKind.Mains);
         }
     }
 
@@ -167,17 +166,18 @@ public sealed class ScenarioTests
         var analyzer = new StreamAnalyzer(simulator.Layout, new AnalysisOptions());
         var sink = new LineCounter();
 
-        // What users see — the check report's lines (a peak must persist for 3 frames, Check:MinLineFrames) and the
+        // What users see — the check report's lines (a peak must persist for 3 frames, Analysis:Tracking:PersistFrames) and the
         // service's alerts (raised after 3 frames) — must stay at zero: no false alarm at all.
-        var report = new HumWatch.Core.Reporting.RecordingAccumulator(hopSeconds: 2, mergeGapSeconds: 8, minLineFrames: new HumWatch.Core.Reporting.CheckLimits().MinLineFrames);
+        var report = new HumWatch.Core.Reporting.RecordingAccumulator(hopSeconds: 2, mergeGapSeconds: 8);
         var alerts = new HumWatch.Core.Alerts.AlertBook("clean-room", new HumWatch.Core.Alerts.AlertOptions());
         var raised = new RaiseCounter();
         var buffer = new float[256 * 32 * 10];
+        var tracked = new HumWatch.Core.Tracking.LineTracker(new AnalysisOptions(), new Fanout(sink, report, frame => alerts.Observe(frame, DateTimeOffset.UnixEpoch.AddSeconds(frame.EndSeconds), raised)));
         for (var t = 0; t < 40 * 60; t += 10)
         {
             var first = simulator.PositionSamples;
             simulator.Fill(buffer, 2560);
-            analyzer.Append(new Signals.SampleChunk(simulator.Layout, first, 2560, buffer), new Fanout(sink, report, frame => alerts.Observe(frame, DateTimeOffset.UnixEpoch.AddSeconds(frame.EndSeconds), raised)));
+            analyzer.Append(new Signals.SampleChunk(simulator.Layout, first, 2560, buffer), tracked);
         }
 
         Assert.Equal(1197, sink.Frames);

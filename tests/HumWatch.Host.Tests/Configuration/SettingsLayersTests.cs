@@ -68,13 +68,13 @@ public sealed class SettingsLayersTests : IDisposable
     [Fact]
     public void The_working_directory_file_is_read_from_the_base_directory_unless_turned_off()
     {
-        WriteJson(Path.Combine(_folder.Path, "appsettings.json"), new Dictionary<string, string?> { ["Check:MinLineFrames"] = "7" });
+        WriteJson(Path.Combine(_folder.Path, "appsettings.json"), new Dictionary<string, string?> { ["Check:MinLineSeconds"] = "7" });
 
         var read = SettingsBuilder.Build(new SettingsSources { BaseDirectory = _folder.Path, Environment = new Dictionary<string, string?>() });
         var ignored = SettingsBuilder.Build(new SettingsSources { BaseDirectory = _folder.Path, Environment = new Dictionary<string, string?>(), ReadWorkingDirectorySettings = false });
 
-        Assert.Equal(7, read.Check.MinLineFrames);
-        Assert.Equal(new HumWatch.Core.Reporting.CheckLimits().MinLineFrames, ignored.Check.MinLineFrames);
+        Assert.Equal(7, read.Check.MinLineSeconds);
+        Assert.Equal(new HumWatch.Core.Reporting.CheckLimits().MinLineSeconds, ignored.Check.MinLineSeconds);
     }
 
     [Fact]
@@ -82,7 +82,7 @@ public sealed class SettingsLayersTests : IDisposable
     {
         var environment = new Dictionary<string, string?>
         {
-            ["HUMWATCH_Check__MinLineFrames"] = "6",
+            ["HUMWATCH_Analysis__Tracking__PersistFrames"] = "6",
             ["humwatch_Alerts__RaiseAfterFrames"] = "4",
             ["Check__MinLineSeconds"] = "99",
             ["OTHER_Check__FailFaultFraction"] = "0.9",
@@ -91,7 +91,7 @@ public sealed class SettingsLayersTests : IDisposable
 
         var bound = SettingsBuilder.Build(new SettingsSources { ReadWorkingDirectorySettings = false, Environment = environment });
 
-        Assert.Equal(6, bound.Check.MinLineFrames);
+        Assert.Equal(6, bound.Analysis.Tracking.PersistFrames);
         Assert.Equal(4, bound.Alerts.RaiseAfterFrames);
         Assert.Equal(new HumWatch.Core.Reporting.CheckLimits().MinLineSeconds, bound.Check.MinLineSeconds);
         Assert.Equal(new HumWatch.Core.Reporting.CheckLimits().FailFaultFraction, bound.Check.FailFaultFraction);

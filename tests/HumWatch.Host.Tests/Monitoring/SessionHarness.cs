@@ -106,7 +106,18 @@ internal sealed class SessionHarness : IDisposable
     public static string Describe(MinuteRow row) => JsonSerializer.Serialize(row with { SessionId = "" }, Json);
 
     /// <summary>A spectrum part with every field but its session id.</summary>
-    public static string Describe(SpectrumPart part) => JsonSerializer.Serialize(part with { SessionId = "" }, Json);
+    public static string Describe(SpectrumPart part) => JsonSerializer.Serialize(
+        new
+        {
+            part.StreamId,
+            part.Sequence,
+            part.HourUtc,
+            part.BinWidthHz,
+            part.Seconds,
+            part.MeanPsdUv2PerHz,
+            Lines = part.Lines.OrderBy(kv => kv.Key.ToString(), StringComparer.Ordinal).Select(kv => new { Key = kv.Key.ToString(), kv.Value.SumHz, kv.Value.Frames }).ToArray(),
+        },
+        Json);
 
     public void Dispose() => Writer.Dispose();
 }

@@ -11,6 +11,9 @@ internal sealed record LineSpec(SourceMatch Source, double FrequencyHz, double A
 {
     /// <summary>Where the line's evidence starts and ends within the span, s from the stream start; NaN leaves it unset.</summary>
     public (double StartSeconds, double EndSeconds) Evidence { get; init; } = (double.NaN, double.NaN);
+
+    /// <summary>Whether the line counts as persistent, as the line tracker would have marked it. The default is true.</summary>
+    public bool Persistent { get; init; } = true;
 }
 
 /// <summary>
@@ -61,6 +64,8 @@ internal sealed class FrameBuilder
             var line = _lines[i];
             line.ClearChannelsAndSources();
             line.Source = spec.Source;
+            line.TrackId = i + 1;
+            line.IsPersistent = spec.Persistent;
             line.FrequencyHz = spec.FrequencyHz;
             line.AmplitudeUvRms = spec.AmplitudeUvRms;
             line.MaxAmplitudeUvRms = spec.AmplitudeUvRms;
