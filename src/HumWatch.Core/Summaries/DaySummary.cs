@@ -124,7 +124,16 @@ public sealed record AlertKeyTally(FindingKey Key, int Raised, int Cleared, Aler
 /// <param name="MinutesWithEstimate">Minutes with an estimate.</param>
 /// <param name="StepSeconds">Series step, 60 s.</param>
 /// <param name="Hz">One value per minute from local midnight (null where none); length = minutes in the day.</param>
-public sealed record MainsTrack(double? MeanHz, double? MinHz, double? MaxHz, int MinutesWithEstimate, int StepSeconds, IReadOnlyList<double?> Hz);
+public sealed record MainsTrack(double? MeanHz, double? MinHz, double? MaxHz, int MinutesWithEstimate, int StepSeconds, IReadOnlyList<double?> Hz)
+{
+    /// <summary>
+    /// The nominal grid the day's track belongs to (50 or 60 Hz: the one whose EN 50160 ±1 % window holds the mean);
+    /// null when no fundamental was seen or the mean lies in neither window.
+    /// </summary>
+    public double? NominalHz => MeanHz is { } mean
+        ? Attribution.SourceCatalogOptions.WorldGridsHz.Cast<double?>().FirstOrDefault(g => Math.Abs(mean - g!.Value) <= 0.01 * g.Value)
+        : null;
+}
 
 /// <summary>Affected minutes per source and hour of the local day.</summary>
 /// <param name="HourStartsLocal">Start of each hour in site time, ISO 8601 with offset (23, 24 or 25 entries).</param>

@@ -29,7 +29,8 @@ internal static class SummaryMarkdown
         foreach (var s in summaries)
         {
             var longest = s.LongestEpisode is { } e ? $"{ClockRange(e.StartLocal, e.EndLocal)} ({e.SpanMinutes:0} min)" : "–";
-            var mains = s.Mains.MeanHz is { } mean ? string.Create(c, $"{mean:0.000} ({s.Mains.MinHz:0.000}–{s.Mains.MaxHz:0.000})") : "–";
+            var grid = s.Mains.NominalHz is { } nominal ? string.Create(c, $"{nominal:0} Hz grid: ") : "";
+            var mains = s.Mains.MeanHz is { } mean ? string.Create(c, $"{grid}{mean:0.000} ({s.Mains.MinHz:0.000}–{s.Mains.MaxHz:0.000})") : "–";
             sb.Append(c, $"| {Cell(s.Stream)} | **{s.Verdict.ToText()}** | {s.HoursMonitored:0.0} | {s.AffectedMinutes:0.#} | {longest} | {Num(s.MaxAmplitudeUvRms)} | {mains} | {s.Alerts.Raised} / {s.Alerts.Cleared} |").AppendLine();
         }
 

@@ -91,6 +91,9 @@ public sealed class DaySummarizerTests
         Assert.Equal(49.99, summary.Mains.MinHz!.Value, 9);
         Assert.Equal(50.008, summary.Mains.MaxHz!.Value, 9);
         Assert.Equal(49.999, summary.Mains.MeanHz!.Value, 9);
+
+        // EN 50160: a 50 Hz system stays within ±1 % (49.5–50.5 Hz), so the day's grid is 50 Hz.
+        Assert.Equal(50, summary.Mains.NominalHz);
     }
 
     [Fact]
