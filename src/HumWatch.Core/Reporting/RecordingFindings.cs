@@ -23,6 +23,12 @@ public enum Verdict
 /// <param name="FirstSeconds">Start of the evidence, seconds from the recording's start.</param>
 /// <param name="LastSeconds">End of the evidence.</param>
 /// <param name="PresentSeconds">Time covered by frames that show it (hop-weighted).</param>
+/// <param name="FalseAlarmProbability">
+/// Median over the frames that show the line of the frame's false-alarm probability (<see cref="Lines.FrameLine.FalseAlarmProbability"/>):
+/// a typical frame's chance that noise alone would produce it. The median rather than the best frame, because the
+/// smallest of many frames' probabilities is itself a selection; for a line that persists it is conservative
+/// (every frame adds evidence the median does not count). NaN when no frame had one.
+/// </param>
 public sealed record LineFinding(
     double FrequencyHz,
     SourceMatch Source,
@@ -35,7 +41,8 @@ public sealed record LineFinding(
     IReadOnlyList<string> WorstChannels,
     double FirstSeconds,
     double LastSeconds,
-    double PresentSeconds)
+    double PresentSeconds,
+    double FalseAlarmProbability = double.NaN)
 {
     /// <summary>Short human name of the explanation, e.g. "mains ×3" or "display 75 Hz ×2 (aliased)".</summary>
     public string SourceLabel => Describe(Source);

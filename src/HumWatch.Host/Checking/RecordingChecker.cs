@@ -1,3 +1,4 @@
+using System.Globalization;
 using HumWatch.Core.Alerts;
 using HumWatch.Core.Analysis;
 using HumWatch.Core.Attribution;
@@ -238,6 +239,7 @@ public sealed class RecordingChecker
         AmplitudeUvRms = Round(line.AmplitudeUvRms, 3),
         MaxAmplitudeUvRms = Round(line.MaxAmplitudeUvRms, 3),
         ProminenceDb = Round(line.ProminenceDb, 1),
+        FalseAlarmProbability = SignificantDigits(line.FalseAlarmProbability, 3),
         ChannelShare = Round(line.ChannelShare, 3),
         AffectedChannels = line.AffectedChannelCount,
         WorstChannels = line.WorstChannels,
@@ -273,4 +275,15 @@ public sealed class RecordingChecker
     private static Verdict Max(Verdict a, Verdict b) => (Verdict)Math.Max((int)a, (int)b);
 
     private static double Round(double value, int digits) => Math.Round(value, digits, MidpointRounding.AwayFromZero);
+
+    // Probabilities span hundreds of decades: keep significant digits, not decimals. Null when unknown.
+    private static double? SignificantDigits(double value, int digits)
+    {
+        if (double.IsNaN(value))
+        {
+            return null;
+        }
+
+        return value <= 0 ? 0 : double.Parse(value.ToString("G" + digits, CultureInfo.InvariantCulture), CultureInfo.InvariantCulture);
+    }
 }

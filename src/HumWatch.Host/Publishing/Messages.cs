@@ -24,7 +24,8 @@ internal sealed record AlertMessage(
     string? Suggestion,
     double StreamSeconds,
     DateTimeOffset Utc,
-    DateTimeOffset? OnsetUtc);
+    DateTimeOffset? OnsetUtc,
+    double? FalseAlarmProbability);
 
 /// <summary>Body of "clear/&lt;stream&gt;" messages.</summary>
 internal sealed record ClearMessage(
@@ -111,14 +112,14 @@ internal static class Messages
                     new AlertMessage(
                         Version, r.StreamId, r.Key, r.EventName, kind, source, harmonic, r.Source.Aliased, fault,
                         Finite(r.FrequencyHz), Finite(r.AmplitudeUvRms), Finite(r.ChannelShare), r.WorstChannels,
-                        r.Severity.ToText(), null, r.Suggestion, r.StreamSeconds, r.Utc, r.OnsetUtc),
+                        r.Severity.ToText(), null, r.Suggestion, r.StreamSeconds, r.Utc, r.OnsetUtc, Finite(r.FalseAlarmProbability)),
                     MessageJsonContext.Default.AlertMessage));
             case AlertSeverityChanged s:
                 return (AlertKind, JsonSerializer.SerializeToUtf8Bytes(
                     new AlertMessage(
                         Version, s.StreamId, s.Key, s.EventName, kind, source, harmonic, s.Source.Aliased, fault,
                         Finite(s.FrequencyHz), Finite(s.AmplitudeUvRms), Finite(s.ChannelShare), s.WorstChannels,
-                        s.Severity.ToText(), s.PreviousSeverity.ToText(), null, s.StreamSeconds, s.Utc, null),
+                        s.Severity.ToText(), s.PreviousSeverity.ToText(), null, s.StreamSeconds, s.Utc, null, Finite(s.FalseAlarmProbability)),
                     MessageJsonContext.Default.AlertMessage));
             default:
                 throw new ArgumentOutOfRangeException(nameof(alertEvent), alertEvent.GetType().Name, "Unknown alert event type.");
