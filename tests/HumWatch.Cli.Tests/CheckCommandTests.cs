@@ -26,7 +26,7 @@ public sealed class CheckCommandTests : IClassFixture<CheckCommandTests.Recordin
         Assert.Equal(8, report.GetProperty("channelCount").GetInt32());
         Assert.Equal(60, report.GetProperty("durationSeconds").GetDouble(), 3);
         var mains = report.GetProperty("lines").EnumerateArray().Single(l => l.GetProperty("source").GetString() == "mains" && l.GetProperty("harmonic").GetInt32() == 1);
-        foreach (var field in new[] { "frequencyHz", "source", "harmonic", "aliased", "alsoPossible", "amplitudeUvRms", "prominenceDb", "channelShare", "worstChannels", "firstSeconds", "lastSeconds" })
+        foreach (var field in new[] { "frequencyHz", "source", "harmonic", "aliased", "alsoPossible", "amplitudeUvRms", "prominenceDb", "falseAlarmProbability", "channelShare", "worstChannels", "firstSeconds", "lastSeconds" })
         {
             Assert.True(mains.TryGetProperty(field, out _), $"line field {field} missing");
         }
@@ -34,6 +34,10 @@ public sealed class CheckCommandTests : IClassFixture<CheckCommandTests.Recordin
         Assert.Equal(50, mains.GetProperty("frequencyHz").GetDouble(), 0.05);
         Assert.InRange(mains.GetProperty("amplitudeUvRms").GetDouble(), 9 * 0.9, 9 * 1.1); // simulated 9 µV RMS
         Assert.Equal(1.0, mains.GetProperty("channelShare").GetDouble(), 2);
+
+        // A 9 µV line stands > 20 dB over the 50 Hz floor; Snedecor's F(5.8, ≈35) gives a bin ≈ 2e-20 at 20 dB
+        // (scipy 1.10.1 stats.f.sf(101, 5.79, 35.1)), so even corrected for ≈ 500 bins × 8 channels it is far below 1e-5.
+        Assert.InRange(mains.GetProperty("falseAlarmProbability").GetDouble(), 0, 1e-5);
         Assert.False(mains.GetProperty("aliased").GetBoolean());
         Assert.True(report.TryGetProperty("channelFaults", out _));
         Assert.NotNull(report.GetProperty("caution").GetString());

@@ -339,7 +339,8 @@ public sealed class AlertBook
         var worst = WorstLabels(track, frame.Layout);
         var changed = new AlertSeverityChanged(
             StreamId, track.Key, track.Category, track.Source, null, frame.EndSeconds, frameEndUtc,
-            track.FrequencyHz, track.FrameAmplitudeUvRms, track.FrameShare, worst, previous, track.Severity);
+            track.FrequencyHz, track.FrameAmplitudeUvRms, track.FrameShare, worst, previous, track.Severity,
+            track.Category == AlertCategory.ChannelFault ? double.NaN : track.FrameFalseAlarmProbability);
         ReplaceActive(track, track.Active! with { Severity = track.Severity, FrequencyHz = track.FrequencyHz, WorstChannels = worst });
         sink.OnAlertEvent(changed);
     }
@@ -379,7 +380,8 @@ public sealed class AlertBook
         _active.Add(active);
         sink.OnAlertEvent(new AlertRaised(
             StreamId, key, track.Category, track.Source, faultKind, frame.EndSeconds, frameEndUtc,
-            track.OnsetSeconds, track.OnsetUtc, frequencyHz, amplitudeUvRms, track.FrameShare, worst, suggestion, level)
+            track.OnsetSeconds, track.OnsetUtc, frequencyHz, amplitudeUvRms, track.FrameShare, worst, suggestion, level,
+            track.Category == AlertCategory.ChannelFault ? double.NaN : track.FrameFalseAlarmProbability)
         {
             Evidence = track.Category == AlertCategory.Line ? track.FrameLineEvidence : Tracking.LineEvidence.None,
             AlsoPossible = track.Category == AlertCategory.Line ? [.. track.FrameAlternatives.AsSpan(0, track.FrameAlternativeCount)] : [],
@@ -433,6 +435,7 @@ public sealed class AlertBook
         public double FrameAmplitudeUvRms;
         public double FrameFrequencyHz;
         public double FrameShare;
+        public double FrameFalseAlarmProbability;
         public long FrameEvidenceStart;
         public long FrameEvidenceEnd;
         public readonly int[] FrameWorst = new int[FrameLine.MaxWorstChannels];
@@ -475,6 +478,7 @@ public sealed class AlertBook
             FrameEvidenceStart = 0;
             FrameEvidenceEnd = 0;
             FrameAmplitudeUvRms = double.NaN;
+            FrameFalseAlarmProbability = double.NaN;
             FrameWorstCount = 0;
             FramePersistent = false;
         }
@@ -491,6 +495,7 @@ public sealed class AlertBook
             FrameAmplitudeUvRms = line.AmplitudeUvRms;
             FrameFrequencyHz = line.FrequencyHz;
             FrameShare = line.ChannelShare;
+            FrameFalseAlarmProbability = line.FalseAlarmProbability;
             FrameEvidenceStart = line.EvidenceStartSampleIndex;
             FrameEvidenceEnd = line.EvidenceEndSampleIndex;
             FramePersistent = line.IsPersistent;

@@ -110,6 +110,7 @@ public abstract record AlertEvent(
 /// <param name="WorstChannels">Labels of the channels with the largest amplitude, largest first.</param>
 /// <param name="Suggestion">One short line for the technician; never a diagnosis.</param>
 /// <param name="RaisedSeverity">Severity at raise.</param>
+/// <param name="FalseAlarmProbability">The raising frame's <see cref="Lines.FrameLine.FalseAlarmProbability"/> (NaN for faults).</param>
 public sealed record AlertRaised(
     string StreamId,
     FindingKey Key,
@@ -125,7 +126,8 @@ public sealed record AlertRaised(
     double ChannelShare,
     IReadOnlyList<string> WorstChannels,
     string Suggestion,
-    AlertSeverity RaisedSeverity)
+    AlertSeverity RaisedSeverity,
+    double FalseAlarmProbability = double.NaN)
     : AlertEvent(StreamId, Key, Category, Source, FaultKind, StreamSeconds, Utc)
 {
     public override AlertEventKind EventKind => AlertEventKind.Raised;
@@ -140,6 +142,7 @@ public sealed record AlertRaised(
 }
 
 /// <summary>An active alert's severity changed (after <see cref="AlertOptions.SeverityHoldFrames"/> frames at the new level).</summary>
+/// <param name="FalseAlarmProbability">The frame's <see cref="Lines.FrameLine.FalseAlarmProbability"/> (NaN for faults).</param>
 public sealed record AlertSeverityChanged(
     string StreamId,
     FindingKey Key,
@@ -153,7 +156,8 @@ public sealed record AlertSeverityChanged(
     double ChannelShare,
     IReadOnlyList<string> WorstChannels,
     AlertSeverity PreviousSeverity,
-    AlertSeverity NewSeverity)
+    AlertSeverity NewSeverity,
+    double FalseAlarmProbability = double.NaN)
     : AlertEvent(StreamId, Key, Category, Source, FaultKind, StreamSeconds, Utc)
 {
     public override AlertEventKind EventKind => AlertEventKind.SeverityChanged;

@@ -58,10 +58,16 @@ public sealed class StreamAnalyzer
         _welch = new SlidingWelch(layout.SampleRateHz, channels, options.Spectra, kernel);
         _faults = new FaultDetector(layout, options.Faults, _welch.SpanSamples, _welch.HopSamples);
         var dof = WelchStatistics.EquivalentDegreesOfFreedom(_welch.SegmentLength, _welch.SegmentStep, _welch.SegmentsPerSpan);
-        _finder = new LineFinder(options.Lines, _welch.BinCount, _welch.BinWidthHz, dof);
+        double[] correlations =
+        [
+            WelchStatistics.BinPowerCorrelation(_welch.SegmentLength, _welch.SegmentStep, _welch.SegmentsPerSpan, 1),
+            WelchStatistics.BinPowerCorrelation(_welch.SegmentLength, _welch.SegmentStep, _welch.SegmentsPerSpan, 2),
+            WelchStatistics.BinPowerCorrelation(_welch.SegmentLength, _welch.SegmentStep, _welch.SegmentsPerSpan, 3),
+        ];
+        _finder = new LineFinder(options.Lines, _welch.BinCount, _welch.BinWidthHz, dof, correlations);
         var stride = _finder.Capacity;
         _consistency = new SegmentConsistency(_welch.BinWidthHz);
-        _combiner = new LineCombiner(channels, stride, _welch.BinWidthHz, _finder.FlankBins, _welch.SegmentsPerSpan, Math.Min(MaxLinesPerFrame, channels * stride));
+        _combiner = new LineCombiner(channels, stride, _welch.BinWidthHz, _finder.FlankBins, _welch.SegmentsPerSpan, Math.Min(MaxLinesPerFrame, channels * stride), Math.Max(1, _finder.SearchedBinCount));
         _attributor = new LineAttributor(options.Sources, layout.SampleRateHz, _welch.BinWidthHz);
         _frame = new AnalysisFrame(layout, _welch.BinCount, _welch.BinWidthHz);
         _peaks = new ChannelPeak[channels * stride];

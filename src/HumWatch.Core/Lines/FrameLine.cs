@@ -45,6 +45,13 @@ public sealed class FrameLine
     /// <summary>Largest prominence over the local floor among the affected channels, dB.</summary>
     public double ProminenceDb { get; internal set; }
 
+    /// <summary>
+    /// Probability that Gaussian noise alone puts a peak standing this far above its floor anywhere in the frame's search:
+    /// the strongest channel's per-bin probability (Snedecor's F for a Welch bin over its median floor), Šidák-corrected
+    /// for the bins searched × analysed channels. 0..1; NaN when unknown. See <see cref="LineSignificance"/>.
+    /// </summary>
+    public double FalseAlarmProbability { get; internal set; } = double.NaN;
+
     /// <summary>Channels that carry the line.</summary>
     public int AffectedChannelCount { get; internal set; }
 
@@ -163,6 +170,7 @@ public sealed class FrameLine
         AmplitudeUvRms = other.AmplitudeUvRms;
         MaxAmplitudeUvRms = other.MaxAmplitudeUvRms;
         ProminenceDb = other.ProminenceDb;
+        FalseAlarmProbability = other.FalseAlarmProbability;
         AffectedChannelCount = other.AffectedChannelCount;
         ChannelShare = other.ChannelShare;
         EvidenceStartSampleIndex = other.EvidenceStartSampleIndex;

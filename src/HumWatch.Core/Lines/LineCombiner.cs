@@ -14,6 +14,8 @@ namespace HumWatch.Core.Lines;
 /// segment's excess. The quarter is the power of a tone present in half a Hann-windowed segment ((Σ_on w / Σ w)² = ¼),
 /// so the evidence starts at most one segment step before a switch-on and ends at most one step after a switch-off.
 /// When no segment qualifies, the whole span is the evidence.
+/// <para>False-alarm probability: the smallest per-bin probability among the line's channels, Šidák-corrected for the
+/// bins searched per channel × analysed channels (<see cref="LineSignificance"/>).</para>
 /// </remarks>
 internal sealed class LineCombiner
 {
@@ -25,6 +27,7 @@ internal sealed class LineCombiner
     private readonly int _peakStride;
     private readonly double _binWidthHz;
     private readonly int _flankBins;
+    private readonly int _searchedBinsPerChannel;
     private readonly double _singleSegmentFloorCorrection;
     private readonly Entry[] _entries;
     private readonly Cluster[] _clusters;
@@ -43,8 +46,10 @@ internal sealed class LineCombiner
     /// <param name="flankBins">Flanking bins per side for single-segment floors (as the finder uses).</param>
     /// <param name="maxSegments">Most segments a span holds.</param>
     /// <param name="maxLines">Pool size: the most lines a frame reports.</param>
-    public LineCombiner(int channelCount, int peakStride, double binWidthHz, int flankBins, int maxSegments, int maxLines)
+    /// <param name="searchedBinsPerChannel">Bins the finder searches per channel (<see cref="LineFinder.SearchedBinCount"/>), for the false-alarm correction.</param>
+    public LineCombiner(int channelCount, int peakStride, double binWidthHz, int flankBins, int maxSegments, int maxLines, int searchedBinsPerChannel)
     {
+        ArgumentOutOfRangeException.ThrowIfLessThan(searchedBinsPerChannel, 1);
         ArgumentOutOfRangeException.ThrowIfLessThan(channelCount, 1);
         ArgumentOutOfRangeException.ThrowIfLessThan(peakStride, 1);
         ArgumentOutOfRangeException.ThrowIfLessThan(flankBins, 1);
@@ -59,6 +64,7 @@ internal sealed class LineCombiner
         _peakStride = peakStride;
         _binWidthHz = binWidthHz;
         _flankBins = flankBins;
+        _searchedBinsPerChannel = searchedBinsPerChannel;
         _singleSegmentFloorCorrection = 1 / WelchStatistics.MedianOfScaledChiSquare(2);
         var total = channelCount * peakStride;
         _entries = new Entry[total];
@@ -177,6 +183,7 @@ internal sealed class LineCombiner
         var weighted = 0.0;
         var weights = 0.0;
         var prominence = double.NegativeInfinity;
+        var binProbability = double.PositiveInfinity;
         for (var i = cluster.Start; i < cluster.End; i++)
         {
             var entry = entries[i];
@@ -189,6 +196,11 @@ internal sealed class LineCombiner
             weighted += peak.FrequencyHz * peak.AmplitudeUvRms;
             weights += peak.AmplitudeUvRms;
             prominence = Math.Max(prominence, peak.ProminenceDb);
+            if (peak.BinFalseAlarmProbability < binProbability)
+            {
+                binProbability = peak.BinFalseAlarmProbability;
+            }
+
             line.OfferWorstChannel(entry.Channel, peak.AmplitudeUvRms);
             line.MarkChannel(entry.Channel);
         }
@@ -197,6 +209,9 @@ internal sealed class LineCombiner
         line.AmplitudeUvRms = cluster.MedianAmplitudeUvRms;
         line.MaxAmplitudeUvRms = cluster.MaxAmplitudeUvRms;
         line.ProminenceDb = prominence;
+        line.FalseAlarmProbability = double.IsFinite(binProbability)
+            ? LineSignificance.Sidak(binProbability, (double)_searchedBinsPerChannel * analysed)
+            : double.NaN;
         line.AffectedChannelCount = cluster.Affected;
         line.ChannelShare = Math.Min(1.0, (double)cluster.Affected / analysed);
         line.EvidenceStartSampleIndex = spanStart;

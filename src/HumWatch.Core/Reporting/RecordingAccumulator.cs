@@ -200,6 +200,7 @@ public sealed class RecordingAccumulator : IAnalysisFrameSink
         private readonly List<double> _frequencies = [];
         private readonly List<double> _amplitudes = [];
         private readonly List<double> _shares = [];
+        private readonly List<double> _falseAlarmProbabilities = [];
         private readonly Dictionary<int, double> _channelScores = [];
         private SourceMatch[] _alternatives = [];
         private double _maxAmplitude;
@@ -236,6 +237,11 @@ public sealed class RecordingAccumulator : IAnalysisFrameSink
             _frequencies.Add(line.FrequencyHz);
             _amplitudes.Add(line.AmplitudeUvRms);
             _shares.Add(line.ChannelShare);
+            if (!double.IsNaN(line.FalseAlarmProbability))
+            {
+                _falseAlarmProbabilities.Add(line.FalseAlarmProbability);
+            }
+
             _maxAmplitude = Math.Max(_maxAmplitude, line.MaxAmplitudeUvRms);
             _maxProminence = Math.Max(_maxProminence, line.ProminenceDb);
             _maxAffected = Math.Max(_maxAffected, line.AffectedChannelCount);
@@ -270,7 +276,8 @@ public sealed class RecordingAccumulator : IAnalysisFrameSink
                 worst,
                 _firstSeconds,
                 _lastSeconds,
-                _presentSeconds)
+                _presentSeconds,
+                Median(_falseAlarmProbabilities))
             {
                 Evidence = Evidence,
             };

@@ -15,6 +15,12 @@ namespace HumWatch.Core.Reporting;
 /// <param name="FirstSeconds">Start of the evidence, seconds from the recording's start.</param>
 /// <param name="LastSeconds">End of the evidence.</param>
 /// <param name="PresentSeconds">Time covered by frames that show it (hop-weighted).</param>
+/// <param name="FalseAlarmProbability">
+/// Median over the frames that show the line of the frame's false-alarm probability (<see cref="Lines.FrameLine.FalseAlarmProbability"/>):
+/// a typical frame's chance that noise alone would produce it. The median rather than the best frame, because the
+/// smallest of many frames' probabilities is itself a selection; for a line that persists it is conservative
+/// (every frame adds evidence the median does not count). NaN when no frame had one.
+/// </param>
 public sealed record LineFinding(
     double FrequencyHz,
     SourceMatch Source,
@@ -27,7 +33,8 @@ public sealed record LineFinding(
     IReadOnlyList<string> WorstChannels,
     double FirstSeconds,
     double LastSeconds,
-    double PresentSeconds)
+    double PresentSeconds,
+    double FalseAlarmProbability = double.NaN)
 {
     /// <summary>What decided the explanation (the tracker's evidence in the episode's last frame).</summary>
     public Tracking.LineEvidence Evidence { get; init; } = Tracking.LineEvidence.None;

@@ -23,7 +23,8 @@ namespace HumWatch.Core.Tracking;
 /// <para>Grid lock: the grid wanders by hundredths of a hertz over minutes while a display's refresh is crystal-steady.
 /// Over the frames a line shares with the fundamental, its (unfolded) frequency u is compared with n·f₀ by two
 /// residual sums: RSS_lock = Σ((u − ū) − n(f₀ − f̄₀))² and RSS_own = Σ(u − ū)². One that is four times the other
-/// (after a noise allowance of (1 mHz)² per frame) decides; a grid too steady to tell leaves it open, and then a line
+/// (after a noise allowance of (1 mHz)² per frame) decides, once n × the fundamental has moved by at least 6 mHz
+/// (standard deviation); a grid too steady to tell leaves it open, and then a line
 /// on other channels than the fundamental (mean Jaccard overlap ≤ 0.35, at most half its share) leans away from mains.</para>
 /// Not thread-safe; allocation-free in steady state (pools grow with the most lines and tracks seen so far).
 /// </remarks>
@@ -40,6 +41,10 @@ public sealed class LineTracker : IAnalysisFrameSink
     private const int GridHarmonicsScored = 5;
     private const double LockRatio = 4;
     private const double FrequencyNoiseHz = 0.001;
+
+    // n × the fundamental must move by at least this (standard deviation) before its track can speak: below it, what
+    // moves is the estimates' own noise, not the grid (a grid wanders by hundredths of a hertz; common practice, no source).
+    private const double MinGridSpreadHz = 0.006;
     private const double DifferentChannelsOverlap = 0.35;
     private const double EstimatedFundamentalErrorBins = 0.1;
 
@@ -436,7 +441,7 @@ public sealed class LineTracker : IAnalysisFrameSink
         track.FollowRatio = sxx > 0 ? sxu / sxx / harmonic : double.NaN;
         track.SpreadHz = Math.Sqrt(suu / (n - 1));
         track.GridSpreadHz = harmonic * Math.Sqrt(sxx / (n - 1));
-        if (n < _minShared)
+        if (n < _minShared || !(track.GridSpreadHz >= MinGridSpreadHz))
         {
             return GridLock.Unknown;
         }

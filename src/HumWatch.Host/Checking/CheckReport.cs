@@ -80,6 +80,12 @@ public sealed class CheckLine
 
     public double ProminenceDb { get; init; }
 
+    /// <summary>
+    /// Median over the frames showing the line of the chance that noise alone would put a peak this strong anywhere in a
+    /// frame's search (Welch bin over its median floor, Snedecor's F, Šidák-corrected for bins × channels); null when unknown.
+    /// </summary>
+    public double? FalseAlarmProbability { get; init; }
+
     public double ChannelShare { get; init; }
 
     public int AffectedChannels { get; init; }

@@ -1,10 +1,10 @@
+using System.Globalization;
 using HumWatch.Core.Alerts;
 using HumWatch.Core.Analysis;
 using HumWatch.Core.Attribution;
 using HumWatch.Core.Faults;
 using HumWatch.Core.Reporting;
 using HumWatch.Core.Spectra;
-using System.Globalization;
 using HumWatch.Core.Tracking;
 using HumWatch.Formats;
 using HumWatch.Host.Monitoring;
@@ -263,6 +263,7 @@ public sealed class RecordingChecker
         AmplitudeUvRms = Round(line.AmplitudeUvRms, 3),
         MaxAmplitudeUvRms = Round(line.MaxAmplitudeUvRms, 3),
         ProminenceDb = Round(line.ProminenceDb, 1),
+        FalseAlarmProbability = SignificantDigits(line.FalseAlarmProbability, 3),
         ChannelShare = Round(line.ChannelShare, 3),
         AffectedChannels = line.AffectedChannelCount,
         WorstChannels = line.WorstChannels,
@@ -300,4 +301,15 @@ public sealed class RecordingChecker
     private static Verdict Max(Verdict a, Verdict b) => (Verdict)Math.Max((int)a, (int)b);
 
     private static double Round(double value, int digits) => Math.Round(value, digits, MidpointRounding.AwayFromZero);
+
+    // Probabilities span hundreds of decades: keep significant digits, not decimals. Null when unknown.
+    private static double? SignificantDigits(double value, int digits)
+    {
+        if (double.IsNaN(value))
+        {
+            return null;
+        }
+
+        return value <= 0 ? 0 : double.Parse(value.ToString("G" + digits, CultureInfo.InvariantCulture), CultureInfo.InvariantCulture);
+    }
 }

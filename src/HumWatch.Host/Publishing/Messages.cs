@@ -26,7 +26,8 @@ internal sealed record AlertMessage(
     string? Suggestion,
     double StreamSeconds,
     DateTimeOffset Utc,
-    DateTimeOffset? OnsetUtc)
+    DateTimeOffset? OnsetUtc,
+    double? FalseAlarmProbability)
 {
     /// <summary>Other explanations that fit about as well (raises of lines only).</summary>
     public IReadOnlyList<string>? AlsoPossible { get; init; }
@@ -128,7 +129,7 @@ internal static class Messages
                     new AlertMessage(
                         Version, r.StreamId, key, r.EventKind.ToText(), kind, source, harmonic, r.Source.Aliased, fault,
                         Finite(r.FrequencyHz), Finite(r.AmplitudeUvRms), Finite(r.ChannelShare), r.WorstChannels,
-                        r.Severity.ToText(), null, r.Suggestion, r.StreamSeconds, r.Utc, r.OnsetUtc)
+                        r.Severity.ToText(), null, r.Suggestion, r.StreamSeconds, r.Utc, r.OnsetUtc, Finite(r.FalseAlarmProbability))
                     {
                         AlsoPossible = r.Category == AlertCategory.Line ? [.. r.AlsoPossible.Select(Core.Reporting.LineFinding.Describe)] : null,
                         Evidence = r.Category == AlertCategory.Line ? Checking.CheckEvidence.From(r) : null,
@@ -139,7 +140,7 @@ internal static class Messages
                     new AlertMessage(
                         Version, s.StreamId, key, s.EventKind.ToText(), kind, source, harmonic, s.Source.Aliased, fault,
                         Finite(s.FrequencyHz), Finite(s.AmplitudeUvRms), Finite(s.ChannelShare), s.WorstChannels,
-                        s.Severity.ToText(), s.PreviousSeverity.ToText(), null, s.StreamSeconds, s.Utc, null),
+                        s.Severity.ToText(), s.PreviousSeverity.ToText(), null, s.StreamSeconds, s.Utc, null, Finite(s.FalseAlarmProbability)),
                     MessageJsonContext.Default.AlertMessage));
             default:
                 throw new ArgumentOutOfRangeException(nameof(alertEvent), alertEvent.GetType().Name, "Unknown alert event type.");

@@ -11,7 +11,7 @@ public sealed class LineCombinerTests
     [Fact]
     public void Peaks_within_a_bin_across_channels_become_one_line_with_share_median_and_worst_channels()
     {
-        var combiner = new LineCombiner(5, Stride, BinHz, 8, 3, 16);
+        var combiner = new LineCombiner(5, Stride, BinHz, 8, 3, 16, 1000);
         var peaks = new ChannelPeak[5 * Stride];
         var counts = new int[5];
         Put(peaks, counts, 0, 50.00, 2.0);
@@ -37,9 +37,32 @@ public sealed class LineCombinerTests
     }
 
     [Fact]
+    public void A_line_takes_its_most_significant_channel_corrected_for_every_bin_and_channel_searched()
+    {
+        // 1000 bins searched in each of 4 analysed channels: M = 4000 tests; Šidák 1967: 1 − (1 − p)^M.
+        var combiner = new LineCombiner(5, Stride, BinHz, 8, 3, 16, 1000);
+        var peaks = new ChannelPeak[5 * Stride];
+        var counts = new int[5];
+        Put(peaks, counts, 0, 50.00, 2.0, 1e-6);
+        Put(peaks, counts, 1, 50.02, 4.0, 3e-9);
+        Put(peaks, counts, 2, 49.99, 1.0, 2e-4);
+        Put(peaks, counts, 3, 77.00, 0.5, double.NaN);
+
+        var count = combiner.Combine(peaks, counts, 4, null, 0, 4000);
+
+        Assert.Equal(2, count);
+        // Binomial expansion 1 − (1 − p)^M = Mp − C(M,2)p² + C(M,3)p³ − … (Math.Pow(1 − p, M) itself would lose
+        // 1e-8 of the result to the rounding of 1 − p).
+        const double p = 3e-9, m = 4000;
+        var expected = (m * p) - (m * (m - 1) / 2 * p * p) + (m * (m - 1) * (m - 2) / 6 * p * p * p);
+        Assert.Equal(expected, combiner.Lines[0].FalseAlarmProbability, 1e-18);
+        Assert.True(double.IsNaN(combiner.Lines[1].FalseAlarmProbability));
+    }
+
+    [Fact]
     public void Peaks_two_bins_apart_stay_separate_lines()
     {
-        var combiner = new LineCombiner(2, Stride, BinHz, 8, 3, 16);
+        var combiner = new LineCombiner(2, Stride, BinHz, 8, 3, 16, 1000);
         var peaks = new ChannelPeak[2 * Stride];
         var counts = new int[2];
         Put(peaks, counts, 0, 59.94, 3.0);
@@ -56,7 +79,7 @@ public sealed class LineCombinerTests
         var line = 200; // bin of 50 Hz
         segments.AddTone(0, 1, line, 50);
         segments.AddTone(0, 2, line, 50);
-        var combiner = new LineCombiner(1, Stride, BinHz, 8, 3, 16);
+        var combiner = new LineCombiner(1, Stride, BinHz, 8, 3, 16, 1000);
         var peaks = new ChannelPeak[Stride];
         var counts = new int[1];
         peaks[0] = new ChannelPeak(line, 50, 3, 20, 1);
@@ -73,7 +96,7 @@ public sealed class LineCombinerTests
     {
         var segments = new FakeSegments(1001, 3, 2000, 1000, 0, cacheRows: true);
         segments.AddTone(0, 1, 200, 50);
-        var combiner = new LineCombiner(3, Stride, BinHz, 8, 3, 16);
+        var combiner = new LineCombiner(3, Stride, BinHz, 8, 3, 16, 1000);
         var peaks = new ChannelPeak[3 * Stride];
         var counts = new int[3];
         for (var c = 0; c < 3; c++)
@@ -90,10 +113,10 @@ public sealed class LineCombinerTests
         Assert.Equal(0, GC.GetAllocatedBytesForCurrentThread() - before);
     }
 
-    private static void Put(ChannelPeak[] peaks, int[] counts, int channel, double frequencyHz, double amplitude)
+    private static void Put(ChannelPeak[] peaks, int[] counts, int channel, double frequencyHz, double amplitude, double binProbability = 1e-5)
     {
         var bin = (int)Math.Round(frequencyHz / BinHz);
-        peaks[(channel * Stride) + counts[channel]++] = new ChannelPeak(bin, frequencyHz, amplitude, 15, 0.1);
+        peaks[(channel * Stride) + counts[channel]++] = new ChannelPeak(bin, frequencyHz, amplitude, 15, 0.1, binProbability);
     }
 
     private sealed class FakeSegments : ISpanSegments

@@ -24,8 +24,9 @@ public sealed class LineFinderPrefilterTests
             var options = RandomOptions(random, trial);
             var binWidthHz = 0.125 * (1 + random.Next(4));
             var dof = trial % 5 == 0 ? 2 : 2 + (random.NextDouble() * 10);
-            var reference = new ScalarLineFinderReference(options, bins, binWidthHz, dof);
-            var finders = Array.ConvertAll(VectorWidths, bits => new LineFinder(options, bins, binWidthHz, dof, bits));
+            double[]? correlations = trial % 3 == 2 ? [0.3 + (random.NextDouble() * 0.2), random.NextDouble() * 0.05] : null;
+            var reference = new ScalarLineFinderReference(options, bins, binWidthHz, dof, correlations);
+            var finders = Array.ConvertAll(VectorWidths, bits => new LineFinder(options, bins, binWidthHz, dof, bits, correlations));
             var expected = new ChannelPeak[reference.Capacity];
             var actual = new ChannelPeak[reference.Capacity];
             for (var s = 0; s < 6; s++)
@@ -230,6 +231,7 @@ public sealed class LineFinderPrefilterTests
         AssertSameBits(expected.AmplitudeUvRms, actual.AmplitudeUvRms, where + " amplitude");
         AssertSameBits(expected.ProminenceDb, actual.ProminenceDb, where + " prominence");
         AssertSameBits(expected.FloorUv2PerHz, actual.FloorUv2PerHz, where + " floor");
+        AssertSameBits(expected.BinFalseAlarmProbability, actual.BinFalseAlarmProbability, where + " false-alarm probability");
     }
 
     private static void AssertSameBits(double expected, double actual, string where) =>

@@ -27,7 +27,7 @@ public sealed class LineFinderTests
 
     [Theory]
     [MemberData(nameof(OffsetsAcrossOneBin))]
-    public void Noise_free_tone_20_dB_over_a_flat_floor_is_found_within_0_02_Hz_and_10_percent(double offsetBins)
+    public void Noise_free_tone_20_dB_over_a_flat_floor_is_found_within_1_uHz_and_10_percent(double offsetBins)
     {
         foreach (var baseHz in new[] { 13.0, 50.0, 77.5, 123.25, 200.0 })
         {
@@ -44,9 +44,48 @@ public sealed class LineFinderTests
             var count = finder.Find(psd, peaks);
 
             var peak = Assert.Single(peaks.AsSpan(0, count).ToArray());
-            Assert.InRange(peak.FrequencyHz - frequency, -0.02, 0.02); // J. O. Smith SASP: parabolic-on-log bias ≤ 0.016 bins
+
+            // Grandke 1983's two-point Hann formula is exact for the Hann kernel |sin πd / (d(1 − d²))| (the exact
+            // DFT-even kernel differs by O(1/N²)); what is left is the floor estimate (the tone's leakage into the
+            // flanks, ≤ −60 dB of the peak 4 bins out) and the negative-frequency image. Measured: ≤ 1.0e-7 Hz here;
+            // the log-parabola it replaced was off by up to 0.016 bins (4 mHz).
+            Assert.InRange(peak.FrequencyHz - frequency, -1e-6, 1e-6);
             Assert.InRange(peak.AmplitudeUvRms / amplitude, 0.9, 1.1); // sinusoid of peak A has RMS A/√2 (handbook)
         }
+    }
+
+    [Theory]
+    [InlineData(1.25)]
+    [InlineData(3.0)]
+    [InlineData(50.0)]
+    [InlineData(249.0)]
+    public void Noise_free_tone_without_floor_is_exact_up_to_its_negative_frequency_image(double baseHz)
+    {
+        // No floor: the only departure from Grandke's formula is the image at −f (at fs − f near Nyquist), whose Hann
+        // sidelobe d = 2f/Δf bins away adds ≈ 1/(π·d³) of the peak's magnitude with a phase-dependent sign (Harris 1978:
+        // Hann sidelobes fall as 1/d³). δ = (2r − 1)/(1 + r) moves by 3/(1 + r)² ≤ 3 per unit of r = α₊/α₀, and the
+        // image can move r by about twice its relative size, so the bound is 6/(π·d³) bins, plus 1e-7 Hz for the flank
+        // median, which holds the tone's own leakage 4 … 11 bins out (≤ −90 dB).
+        var imageBins = 2 * Math.Min(baseHz, (Fs / 2) - baseHz) / BinHz;
+        var boundHz = (6 / (Math.PI * imageBins * imageBins * imageBins) * BinHz) + 1e-7;
+        var finder = new LineFinder(new LineFinderOptions { MinFrequencyHz = 0.5 }, Bins, BinHz, NoiseFreeDof);
+        var peaks = new ChannelPeak[finder.Capacity];
+        var worst = 0.0;
+        for (var tenth = -5; tenth <= 5; tenth++)
+        {
+            foreach (var phase in new[] { 0.3, 1.2, 2.5 })
+            {
+                var frequency = baseHz + (tenth / 10.0 * BinHz);
+                var psd = SpectrumBuilder.TonePeriodogram(Segment, Fs, frequency, 2.0, phase).Select(p => p + 1e-30).ToArray();
+
+                var count = finder.Find(psd, peaks);
+
+                var peak = Assert.Single(peaks.AsSpan(0, count).ToArray());
+                worst = Math.Max(worst, Math.Abs(peak.FrequencyHz - frequency));
+            }
+        }
+
+        Assert.True(worst <= boundHz, $"worst frequency error {worst:E2} Hz at {baseHz} Hz, bound {boundHz:E0} Hz");
     }
 
     [Fact]
@@ -63,11 +102,11 @@ public sealed class LineFinderTests
 
         Assert.Equal(1, count);
 
-        // Harris 1978 / REFERENCES §1 (computed): Hann ±2 bins hold ≥ 99.95 % of the power at half-bin offset.
+        // Harris 1978, Hann kernel (computed): ±2 bins hold ≥ 99.95 % of the power at half-bin offset.
         Assert.InRange(peaks[0].AmplitudeUvRms / amplitude, 0.99, 1.01);
 
-        // Parabolic interpolation is unbiased at δ = ±½ (J. O. Smith SASP, "Bias of parabolic peak interpolation").
-        Assert.InRange(peaks[0].FrequencyHz, frequency - 0.005, frequency + 0.005);
+        // Grandke 1983: at δ = ½ both neighbours are equal, and (2α₊ − α₀)/(α₀ + α₊) with α₊ = α₀ is exactly ½.
+        Assert.InRange(peaks[0].FrequencyHz, frequency - 1e-6, frequency + 1e-6);
     }
 
     [Theory]

@@ -71,5 +71,21 @@ public sealed class Measurements(ITestOutputHelper output)
         Assert.NotEmpty(cleanFrames);
     }
 
+    [SkippableFact]
+    public void Mains_frequency_error_at_5_uV_over_60_s()
+    {
+        Skip.IfNot(Environment.GetEnvironmentVariable("HUMWATCH_MEASURE") == "1", "Measurement run: set HUMWATCH_MEASURE=1.");
+
+        var trials = FrequencyAccuracyTests.MainsTrials();
+        foreach (var (frequency, error, frames, seen) in trials)
+        {
+            output.WriteLine($"{frequency:F4} Hz: {seen}/{frames} frames, error {1000 * error:F3} mHz");
+        }
+
+        var sorted = trials.Select(t => t.ErrorHz).Order().ToList();
+        output.WriteLine($"5 µV, 60 s, 20 recordings: median error {1000 * 0.5 * (sorted[9] + sorted[10]):F3} mHz, max {1000 * sorted[^1]:F3} mHz");
+        Assert.Equal(20, sorted.Count);
+    }
+
     private static double Rms(List<double> values) => values.Count == 0 ? double.NaN : Math.Sqrt(values.Average(v => v * v));
 }

@@ -28,6 +28,7 @@ public sealed class MessagesTests
         Assert.Equal(50.02, json.GetProperty("frequencyHz").GetDouble());
         Assert.Equal(6.5, json.GetProperty("amplitudeUvRms").GetDouble());
         Assert.Equal(0.75, json.GetProperty("channelShare").GetDouble());
+        Assert.Equal(2.5e-12, json.GetProperty("falseAlarmProbability").GetDouble());
         Assert.Equal("marked", json.GetProperty("severity").GetString());
         Assert.Equal(["Cz", "Fp1"], json.GetProperty("worstChannels").EnumerateArray().Select(e => e.GetString()));
         Assert.Equal(Some.Utc, json.GetProperty("utc").GetDateTimeOffset());
@@ -43,6 +44,18 @@ public sealed class MessagesTests
         Assert.Equal("severity", json.GetProperty("event").GetString());
         Assert.Equal("marked", json.GetProperty("previousSeverity").GetString());
         Assert.Equal("severe", json.GetProperty("severity").GetString());
+        Assert.Equal(4e-30, json.GetProperty("falseAlarmProbability").GetDouble());
+    }
+
+    [Fact]
+    public void Raised_fault_has_no_false_alarm_probability()
+    {
+        var fault = new AlertRaised("room-a", FindingKey.ChannelFault("Cz", ChannelFaultKind.Flat), AlertCategory.ChannelFault, SourceMatch.None, ChannelFaultKind.Flat,
+            12, Some.Utc, 4, Some.Utc.AddSeconds(-8), double.NaN, double.NaN, 0.25, ["Cz"], "Cz is flat.", AlertSeverity.Marked);
+
+        var json = Parse(Messages.For(fault).Body);
+
+        Assert.Equal(JsonValueKind.Null, json.GetProperty("falseAlarmProbability").ValueKind);
     }
 
     [Fact]

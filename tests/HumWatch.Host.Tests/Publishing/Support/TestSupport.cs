@@ -57,10 +57,10 @@ internal static class Some
 
     public static AlertRaised Raised(string stream = "room-a", DateTimeOffset? utc = null) => new(
         stream, FindingKey.Mains(1), AlertCategory.Line, Mains(), null, 14, utc ?? Utc, 0, (utc ?? Utc).AddSeconds(-14), 50.02, 6.5, 0.75,
-        ["Cz", "Fp1"], "On most channels: check the ground and reference electrodes.", AlertSeverity.Marked);
+        ["Cz", "Fp1"], "On most channels: check the ground and reference electrodes.", AlertSeverity.Marked, 2.5e-12);
 
     public static AlertSeverityChanged SeverityChanged(string stream = "room-a") => new(
-        stream, FindingKey.Mains(1), AlertCategory.Line, Mains(), null, 20, Utc.AddSeconds(6), 50.01, 22, 0.75, ["Cz"], AlertSeverity.Marked, AlertSeverity.Severe);
+        stream, FindingKey.Mains(1), AlertCategory.Line, Mains(), null, 20, Utc.AddSeconds(6), 50.01, 22, 0.75, ["Cz"], AlertSeverity.Marked, AlertSeverity.Severe, 4e-30);
 
     public static AlertCleared Cleared(string stream = "room-a") => new(
         stream, FindingKey.Mains(1), AlertCategory.Line, Mains(), null, 40, Utc.AddSeconds(26), 50.0, AlertClearReason.Subsided, 30, 22, AlertSeverity.Severe, AlertSeverity.Minor);
