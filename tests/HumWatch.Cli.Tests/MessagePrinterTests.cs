@@ -34,8 +34,31 @@ public sealed class MessagePrinterTests
         var body = Encoding.UTF8.GetBytes("""{"v":1,"stream":"room-1","utc":"2026-05-04T09:01:00Z","framesAnalysed":30,"linesPresent":2,"activeAlerts":1,"chunksAccepted":100,"chunksDropped":0,"chunksRejected":0,"lagSeconds":0.5}""");
 
         Assert.Null(MessagePrinter.Format("status/room-1", body, includeStatus: false));
-        Assert.Contains("30 frames, 2 lines, 1 active alerts, 0 dropped, 0.5 s behind", MessagePrinter.Format("status/room-1", body, includeStatus: true), StringComparison.Ordinal);
+
+        // Half a second is the usual wait for a chunk: no word about it.
+        Assert.EndsWith("30 frames, 2 lines, 1 active alerts, 0 dropped", MessagePrinter.Format("status/room-1", body, includeStatus: true), StringComparison.Ordinal);
     }
+
+    [Fact]
+    public void A_live_stream_that_lags_says_by_how_much_and_a_replay_says_whose_time_it_shows()
+    {
+        var lagging = Status(utc: "2026-12-01T10:22:30Z", lagSeconds: 42.4);
+        var replay = Status(utc: "2026-12-01T10:22:30Z", lagSeconds: 36618.4);
+        var ahead = Status(utc: "2026-12-01T10:22:30Z", lagSeconds: -7200);
+
+        Assert.EndsWith("0 dropped, 42 s behind real time", MessagePrinter.Format("status/r", lagging, includeStatus: true), StringComparison.Ordinal);
+
+        // 10:22:30 − 36618.4 s (10 h 10 min 18.4 s) = 00:12:11.6 the same day.
+        var line = MessagePrinter.Format("status/r", replay, includeStatus: true);
+        Assert.EndsWith("0 dropped, replaying data from 2026-12-01 00:12 UTC", line, StringComparison.Ordinal);
+        Assert.DoesNotContain("behind", line, StringComparison.Ordinal);
+
+        // Data two hours ahead of the clock: 10:22:30 + 2 h.
+        Assert.EndsWith("0 dropped, data dated 2026-12-01 12:22 UTC, ahead of this clock", MessagePrinter.Format("status/r", ahead, includeStatus: true), StringComparison.Ordinal);
+    }
+
+    private static byte[] Status(string utc, double lagSeconds) => Encoding.UTF8.GetBytes(
+        $$"""{"v":1,"stream":"r","utc":"{{utc}}","framesAnalysed":30,"linesPresent":2,"activeAlerts":1,"chunksAccepted":100,"chunksDropped":0,"chunksRejected":0,"lagSeconds":{{lagSeconds.ToString(System.Globalization.CultureInfo.InvariantCulture)}}}""");
 
     [Fact]
     public void A_body_that_is_not_JSON_is_shown_rather_than_thrown()

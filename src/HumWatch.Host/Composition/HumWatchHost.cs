@@ -52,12 +52,14 @@ public static class HumWatchHost
         builder.Services.AddWindowsService(o => o.ServiceName = "HumWatch");
         builder.Services.Configure<HostOptions>(o => o.ShutdownTimeout = TimeSpan.FromSeconds(20));
 
-        Directory.CreateDirectory(bound.Logs.Folder);
+        DataFolders.Prepare(bound);
         var serilog = new LoggerConfiguration()
             .MinimumLevel.Verbose()
             .MinimumLevel.Override("Microsoft", Serilog.Events.LogEventLevel.Warning)
             .Enrich.FromLogContext()
-            .WriteTo.Console(restrictedToMinimumLevel: bound.Logs.ConsoleLevel, outputTemplate: "{Timestamp:HH:mm:ss} {Level:u3} {Message:lj}{NewLine}{Exception}", formatProvider: System.Globalization.CultureInfo.InvariantCulture)
+            .WriteTo.Logger(console => console
+                .Filter.ByExcluding(IsStartFailureReport)
+                .WriteTo.Console(restrictedToMinimumLevel: bound.Logs.ConsoleLevel, outputTemplate: "{Timestamp:HH:mm:ss} {Level:u3} {Message:lj}{NewLine}{Exception}", formatProvider: System.Globalization.CultureInfo.InvariantCulture))
             .WriteTo.File(Path.Combine(bound.Logs.Folder, "humwatch-.log"), restrictedToMinimumLevel: bound.Logs.FileLevel, rollingInterval: RollingInterval.Day, retainedFileCountLimit: bound.Logs.RetainedDays, formatProvider: System.Globalization.CultureInfo.InvariantCulture)
             .WriteTo.File(new CompactJsonFormatter(), Path.Combine(bound.Logs.Folder, "humwatch-.clef"), restrictedToMinimumLevel: bound.Logs.FileLevel, rollingInterval: RollingInterval.Day, retainedFileCountLimit: bound.Logs.RetainedDays)
             .CreateLogger();
@@ -74,7 +76,7 @@ public static class HumWatchHost
         services.AddSingleton(Options.Create(bound.Store));
         services.AddSingleton(Options.Create(bound.Inbox));
         services.AddSingleton(Options.Create(bound.Site));
-        services.AddSingleton(sp => new HumWatchStore(bound.Store, sp.GetRequiredService<TimeProvider>()));
+        services.AddSingleton(sp => OpenStore(bound.Store, sp.GetRequiredService<TimeProvider>()));
         services.AddSingleton<IAlertEventStore>(sp => sp.GetRequiredService<HumWatchStore>());
         services.AddSingleton(sp => new LedgerWriter(sp.GetRequiredService<HumWatchStore>(), sp.GetRequiredService<ILogger<LedgerWriter>>(), sp.GetRequiredService<TimeProvider>()));
         services.AddSingleton<IMinuteRowSink>(sp => sp.GetRequiredService<LedgerWriter>());
@@ -97,5 +99,30 @@ public static class HumWatchHost
         settings.ConfigureServices?.Invoke(services, bound);
         services.AddHumWatchIngest(bound.Ingest);
         return builder.Build();
+    }
+
+    /// <summary>
+    /// The generic host logs "Hosting failed to start" with the whole stack trace before rethrowing; the caller prints
+    /// a failure it expected in one line, so the console leaves that report out (the log files keep it).
+    /// </summary>
+    private static bool IsStartFailureReport(Serilog.Events.LogEvent logEvent) =>
+        logEvent.Exception is not null
+        && logEvent.Properties.TryGetValue("SourceContext", out var source)
+        && source is Serilog.Events.ScalarValue { Value: "Microsoft.Extensions.Hosting.Internal.Host" }
+        && Unwrap(logEvent.Exception) is StartFailureException;
+
+    private static Exception Unwrap(Exception ex) => ex is AggregateException { InnerExceptions.Count: 1 } aggregate ? Unwrap(aggregate.InnerExceptions[0]) : ex;
+
+    private static HumWatchStore OpenStore(StoreOptions options, TimeProvider time)
+    {
+        try
+        {
+            return new HumWatchStore(options, time);
+        }
+        catch (Exception ex) when (ex is InvalidOperationException or IOException or UnauthorizedAccessException)
+        {
+            // The store names its file; the setting is what a person changes.
+            throw new StartFailureException($"{ex.Message.TrimEnd('.')}. Store:Path names this file: move the file away, or point Store:Path (or --data) elsewhere.", ex);
+        }
     }
 }

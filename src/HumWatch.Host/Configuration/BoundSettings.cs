@@ -79,21 +79,34 @@ public sealed class BoundSettings
 
     /// <summary>Binds every section strictly (unknown keys are errors) and validates all of them.</summary>
     /// <exception cref="ConfigurationException">Every problem at once, one line each, each naming its key.</exception>
-    public static BoundSettings Bind(IConfiguration configuration)
+    public static BoundSettings Bind(IConfiguration configuration) => Bind(configuration, sourceOf: null, []);
+
+    /// <summary>
+    /// Checks every key against the options classes (unknown sections and keys, values of the wrong type), then binds
+    /// every section and validates all of them. The section names are this class's property names, the same names
+    /// <see cref="SettingsSchema"/> reads, so the known keys and the bound ones are one list.
+    /// </summary>
+    /// <param name="configuration">The layered settings.</param>
+    /// <param name="sourceOf">Names where a key was set, for the message about an unknown key; null names none.</param>
+    /// <param name="earlierProblems">Problems found while layering (a mistyped environment variable), reported first.</param>
+    /// <exception cref="ConfigurationException">Every problem at once, one line each, each naming its key.</exception>
+    internal static BoundSettings Bind(IConfiguration configuration, Func<string, string?>? sourceOf, IReadOnlyList<string> earlierProblems)
     {
         ArgumentNullException.ThrowIfNull(configuration);
-        var errors = new List<string>();
-        var analysis = Section<AnalysisOptions>(configuration, "Analysis", errors, o => o.Validate(), ReplaceConfiguredSourceLists);
-        var check = Section<CheckLimits>(configuration, "Check", errors, o => o.Validate());
-        var alerts = Section<AlertOptions>(configuration, "Alerts", errors, o => o.Validate());
-        var monitor = Section<MonitorOptions>(configuration, "Monitor", errors, o => o.Validate());
-        var publish = Section<PublishOptions>(configuration, "Publish", errors, o => o.Validate());
-        var store = Section<StoreOptions>(configuration, "Store", errors, o => o.Validate());
-        var inbox = Section<InboxOptions>(configuration, "Inbox", errors, o => o.Validate());
-        var site = Section<SiteOptions>(configuration, "Site", errors, o => o.Validate());
-        var logs = Section<LogOptions>(configuration, "Logs", errors, o => o.Validate());
-        var ingest = Section<IngestOptions>(configuration, IngestOptions.SectionName, errors, o => new IngestOptionsValidator().Validate(null, o).Failures?.ToList() ?? []);
-        var summaries = Section<SummariesOptions>(configuration, SummariesOptions.SectionName, errors, o => o.Validate());
+        var schema = SettingsSchema.Check(configuration, sourceOf);
+        var errors = new List<string>(earlierProblems);
+        errors.AddRange(schema.Errors);
+        var analysis = Section<AnalysisOptions>(configuration, nameof(Analysis), schema, errors, o => o.Validate(), ReplaceConfiguredSourceLists);
+        var check = Section<CheckLimits>(configuration, nameof(Check), schema, errors, o => o.Validate());
+        var alerts = Section<AlertOptions>(configuration, nameof(Alerts), schema, errors, o => o.Validate());
+        var monitor = Section<MonitorOptions>(configuration, nameof(Monitor), schema, errors, o => o.Validate());
+        var publish = Section<PublishOptions>(configuration, nameof(Publish), schema, errors, o => o.Validate());
+        var store = Section<StoreOptions>(configuration, nameof(Store), schema, errors, o => o.Validate());
+        var inbox = Section<InboxOptions>(configuration, nameof(Inbox), schema, errors, o => o.Validate());
+        var site = Section<SiteOptions>(configuration, nameof(Site), schema, errors, o => o.Validate());
+        var logs = Section<LogOptions>(configuration, nameof(Logs), schema, errors, o => o.Validate());
+        var ingest = Section<IngestOptions>(configuration, nameof(Ingest), schema, errors, o => new IngestOptionsValidator().Validate(null, o).Failures?.ToList() ?? []);
+        var summaries = Section<SummariesOptions>(configuration, nameof(Summaries), schema, errors, o => o.Validate());
         if (errors.Count > 0)
         {
             throw new ConfigurationException(string.Join(Environment.NewLine, errors));
@@ -102,15 +115,22 @@ public sealed class BoundSettings
         return new BoundSettings(analysis, check, alerts, monitor, publish, store, inbox, site, logs, ingest, summaries);
     }
 
-    private static T Section<T>(IConfiguration configuration, string name, List<string> errors, Func<T, IReadOnlyList<string>> validate, Action<IConfigurationSection, T>? prepare = null)
+    private static T Section<T>(IConfiguration configuration, string name, SettingsSchema.SchemaCheck schema, List<string> errors, Func<T, IReadOnlyList<string>> validate, Action<IConfigurationSection, T>? prepare = null)
         where T : new()
     {
         var options = new T();
+        if (schema.BadValueSections.Contains(name))
+        {
+            // A value of the wrong type is reported already; binding would only fail on it again.
+            return options;
+        }
+
         var section = configuration.GetSection(name);
         prepare?.Invoke(section, options);
         try
         {
-            section.Bind(options, o => o.ErrorOnUnknownConfiguration = true);
+            // Unknown keys are reported already, with a suggestion; the rest of such a section is still bound and checked.
+            section.Bind(options, o => o.ErrorOnUnknownConfiguration = !schema.UnknownSections.Contains(name));
         }
         catch (InvalidOperationException ex)
         {

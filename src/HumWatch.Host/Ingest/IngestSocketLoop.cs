@@ -40,7 +40,7 @@ internal sealed class IngestSocketLoop : IDisposable
     /// <summary>The endpoint as bound (port resolved when the address used *) or as connected.</summary>
     public string Origin { get; private set; }
 
-    /// <summary>Creates the socket and binds or connects it; throws <see cref="InvalidOperationException"/> naming the configuration key.</summary>
+    /// <summary>Creates the socket and binds or connects it; throws <see cref="StartFailureException"/> naming the configuration key.</summary>
     public void Open()
     {
         var key = $"{IngestOptions.SectionName}:Endpoints:{_endpointIndex}";
@@ -51,9 +51,9 @@ internal sealed class IngestSocketLoop : IDisposable
             {
                 certificate = CurveKeyFile.ReadKeyPair(curve.ServerKeyFile);
             }
-            catch (InvalidDataException ex)
+            catch (Exception ex) when (ex is InvalidDataException or IOException or UnauthorizedAccessException)
             {
-                throw new InvalidOperationException($"{key}:Curve:ServerKeyFile: {ex.Message}", ex);
+                throw new StartFailureException($"{key}:Curve:ServerKeyFile: {ex.Message}", ex);
             }
 
             if (CurveKeyFile.IsReadableByOthers(curve.ServerKeyFile))
@@ -96,7 +96,7 @@ internal sealed class IngestSocketLoop : IDisposable
         {
             socket.Dispose();
             var verb = _endpoint.Mode == IngestSocketMode.Bind ? "bind" : "connect";
-            throw new InvalidOperationException($"{key}:Address: cannot {verb} {_endpoint.SocketType} socket to '{_endpoint.Address}': {ex.Message}", ex);
+            throw StartFailureException.ForSocket($"{key}:Address", _endpoint.Address, $"{verb} a {_endpoint.SocketType} socket", ex);
         }
 
         _socket = socket;

@@ -61,7 +61,7 @@ internal sealed class ZmqPublisher : IMessagePublisher, IDisposable
         catch (Exception ex) when (ex is NetMQException or System.Net.Sockets.SocketException or ArgumentException)
         {
             _socket.Dispose();
-            throw new InvalidOperationException($"Publish:Endpoint {options.Endpoint}: cannot bind: {ex.Message}", ex);
+            throw StartFailureException.ForSocket("Publish:Endpoint", options.Endpoint, "bind", ex);
         }
 
         if (PublishOptions.IsLoopback(host))

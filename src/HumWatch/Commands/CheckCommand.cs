@@ -15,11 +15,19 @@ internal static class CheckCommand
             Description = "Recordings to check (EDF, EDF+, BDF, BDF+ or CSV).",
             Arity = ArgumentArity.OneOrMore,
         };
-        var mains = new Option<int?>("--mains")
+        var mains = new Option<string?>("--mains")
         {
             Description = "Mains frequency of the site where the recordings were made: 50 or 60 Hz (default: from the settings, else decided from the data).",
+            HelpName = "50|60",
         };
-        mains.AcceptOnlyFromAmong("50", "60");
+        mains.Validators.Add(result =>
+        {
+            var text = result.Tokens.Count > 0 ? result.Tokens[^1].Value : "";
+            if (ParseMains(text) is null)
+            {
+                result.AddError($"--mains takes 50 or 60, the mains frequency of the site in Hz (got '{text}').");
+            }
+        });
         var json = new Option<bool>("--json") { Description = "Print the report as JSON (an array when several files are given)." };
         var config = CommandSettings.ConfigOption("Configuration file(s) layered over the defaults and ./appsettings.json, later files winning, e.g. config/site-60hz.json (repeatable).");
         var set = CommandSettings.SetOption();
@@ -34,11 +42,44 @@ internal static class CheckCommand
         };
         command.SetAction(parse => Run(
             parse.GetValue(files) ?? [],
-            parse.GetValue(mains),
+            ParseMains(parse.GetValue(mains)),
             parse.GetValue(json),
             parse.GetValue(config) ?? [],
             parse.GetValue(set) ?? []));
         return command;
+    }
+
+    /// <summary>50 or 60 from "50" or "60"; null for anything else.</summary>
+    internal static int? ParseMains(string? text) => text switch
+    {
+        "50" => 50,
+        "60" => 60,
+        _ => null,
+    };
+
+    /// <summary>
+    /// For bad arguments with --json: the same "error" report per file as for bad settings, so a pipeline reading
+    /// stdout gets JSON whatever went wrong. Does nothing without --json or when no file could be parsed.
+    /// </summary>
+    internal static void WriteArgumentErrorJson(System.CommandLine.ParseResult parse, IEnumerable<string> messages)
+    {
+        bool asJson;
+        string[] files;
+        try
+        {
+            asJson = parse.GetValue<bool>("--json");
+            files = parse.GetValue<string[]>("files") ?? [];
+        }
+        catch (Exception ex) when (ex is InvalidOperationException or ArgumentException)
+        {
+            return; // the arguments are too broken to tell
+        }
+
+        if (asJson && files.Length > 0)
+        {
+            var why = "bad arguments: " + string.Join("; ", messages.Select(m => m.TrimEnd('.')));
+            WriteJson([.. files.Select(f => new CheckReport { File = f, Verdict = HumWatch.Core.Reporting.Verdict.Error, Error = why })]);
+        }
     }
 
     /// <summary>The layers check reads, as every command does; --mains is a command-line setting applied after --set.</summary>
@@ -60,20 +101,33 @@ internal static class CheckCommand
 
     private static int Run(string[] files, int? mains, bool asJson, string[] configFiles, string[] settings)
     {
-        var sources = Sources(configFiles, settings, mains, Console.Error);
-        if (sources is null || CommandSettings.TryBuild("check", sources, Console.Error) is not { } bound)
+        using var settingsErrors = new StringWriter();
+        var sources = Sources(configFiles, settings, mains, settingsErrors);
+        var bound = sources is null ? null : CommandSettings.TryBuild("check", sources, settingsErrors);
+        RecordingChecker? checker = null;
+        if (bound is not null)
         {
-            return ExitCodes.BadInput;
+            try
+            {
+                checker = new RecordingChecker(bound.Analysis, bound.Check, Environment.ProcessorCount);
+            }
+            catch (ArgumentException ex)
+            {
+                settingsErrors.WriteLine($"humwatch check: configuration is not valid:{Environment.NewLine}  {ex.Message}");
+            }
         }
 
-        RecordingChecker checker;
-        try
+        if (checker is null)
         {
-            checker = new RecordingChecker(bound.Analysis, bound.Check, Environment.ProcessorCount);
-        }
-        catch (ArgumentException ex)
-        {
-            Console.Error.WriteLine($"humwatch check: invalid settings:{Environment.NewLine}{ex.Message}");
+            // Bad settings: no file is checked. A pipeline reading --json still gets the report shape it parses, one
+            // "error" report per file, exit code 2; the readable lines go to stderr either way.
+            Console.Error.Write(settingsErrors.ToString());
+            if (asJson)
+            {
+                var why = SettingsError(settingsErrors.ToString());
+                WriteJson([.. files.Select(f => new CheckReport { File = f, Verdict = HumWatch.Core.Reporting.Verdict.Error, Error = why })]);
+            }
+
             return ExitCodes.BadInput;
         }
 
@@ -93,10 +147,7 @@ internal static class CheckCommand
 
         if (asJson)
         {
-            var text = reports.Count == 1
-                ? JsonSerializer.Serialize(reports[0], CheckReportJsonContext.Default.CheckReport)
-                : JsonSerializer.Serialize(reports, CheckReportJsonContext.Default.ListCheckReport);
-            Console.Out.WriteLine(text);
+            WriteJson(reports);
         }
         else
         {
@@ -104,6 +155,25 @@ internal static class CheckCommand
         }
 
         return reports.Max(r => r.ExitCode);
+    }
+
+    /// <summary>One report as an object, several as an array.</summary>
+    private static void WriteJson(List<CheckReport> reports)
+    {
+        var text = reports.Count == 1
+            ? JsonSerializer.Serialize(reports[0], CheckReportJsonContext.Default.CheckReport)
+            : JsonSerializer.Serialize(reports, CheckReportJsonContext.Default.ListCheckReport);
+        Console.Out.WriteLine(text);
+    }
+
+    /// <summary>The stderr lines about bad settings as one "error" text: "configuration is not valid: a; b".</summary>
+    private static string SettingsError(string stderrText)
+    {
+        var lines = stderrText.Split('\n', StringSplitOptions.RemoveEmptyEntries | StringSplitOptions.TrimEntries)
+            .Select(l => l.StartsWith("humwatch check: ", StringComparison.Ordinal) ? l["humwatch check: ".Length..] : l)
+            .Where(l => l != "configuration is not valid:")
+            .ToList();
+        return "configuration is not valid: " + string.Join("; ", lines.Select(l => l.TrimEnd('.')));
     }
 
     /// <summary>One progress line on stderr for long files, rewritten in place on a terminal, throttled otherwise.</summary>

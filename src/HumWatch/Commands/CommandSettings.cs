@@ -18,6 +18,20 @@ internal static class CommandSettings
         AllowMultipleArgumentsPerToken = false,
     };
 
+    /// <summary>The description of --data, the same for `run` and `demo`.</summary>
+    public const string DataDescription = "Folder for the store, logs, inbox, archive, rejected files and summaries (sets Store:Path, Logs:Folder, Inbox:Folder, Inbox:ArchiveFolder, Inbox:RejectedFolder and Summaries:Folder under it; a --set of one of them still wins).";
+
+    /// <summary>The settings --data DIR stands for: every file and folder the service writes, under one folder.</summary>
+    public static void AddDataFolder(string folder, Dictionary<string, string?> into)
+    {
+        into["Store:Path"] = Path.Combine(folder, "humwatch.db");
+        into["Logs:Folder"] = Path.Combine(folder, "logs");
+        into["Inbox:Folder"] = Path.Combine(folder, "inbox");
+        into["Inbox:ArchiveFolder"] = Path.Combine(folder, "archive");
+        into["Inbox:RejectedFolder"] = Path.Combine(folder, "rejected");
+        into["Summaries:Folder"] = Path.Combine(folder, "summaries");
+    }
+
     /// <summary>Parses repeated KEY=VALUE settings into <paramref name="into"/>; a malformed one is reported and gives false.</summary>
     public static bool TryParseSettings(string command, IEnumerable<string> pairs, Dictionary<string, string?> into, TextWriter stderr)
     {

@@ -18,7 +18,7 @@ internal static class DemoCommand
     {
         var speed = new Option<double>("--speed") { Description = "Plays the rooms this many times faster than real time (0.1–1000).", DefaultValueFactory = _ => 1 };
         var scenarios = new Option<string?>("--scenarios") { Description = "Folder of room scenarios (default: the demo-streams folder shipped with HumWatch)." };
-        var data = new Option<string>("--data") { Description = "Folder for the store, logs and inbox.", DefaultValueFactory = _ => "humwatch-data" };
+        var data = new Option<string>("--data") { Description = CommandSettings.DataDescription + " Default: humwatch-data.", DefaultValueFactory = _ => "humwatch-data" };
         var seconds = new Option<double?>("--seconds") { Description = "Stops by itself after this many wall-clock seconds." };
         var start = new Option<DateTimeOffset?>("--start") { Description = "UTC time of the rooms' first sample, e.g. 2026-12-01T00:00:00Z to replay a whole day fast (default: now)." };
         var config = CommandSettings.ConfigOption();
@@ -93,16 +93,10 @@ internal static class DemoCommand
 
         var overrides = new Dictionary<string, string?>(StringComparer.OrdinalIgnoreCase)
         {
-            ["Store:Path"] = Path.Combine(dataFolder, "humwatch.db"),
-            ["Logs:Folder"] = Path.Combine(dataFolder, "logs"),
-            ["Inbox:Folder"] = Path.Combine(dataFolder, "inbox"),
-            ["Inbox:ArchiveFolder"] = Path.Combine(dataFolder, "archive"),
-            ["Inbox:RejectedFolder"] = Path.Combine(dataFolder, "rejected"),
-            ["Summaries:Folder"] = Path.Combine(dataFolder, "summaries"),
-
             // The demo prints alerts itself (alerts are logged as warnings); the console log keeps to errors, the files get everything.
             ["Logs:ConsoleLevel"] = "Error",
         };
+        CommandSettings.AddDataFolder(dataFolder, overrides);
         if (!CommandSettings.TryParseSettings("demo", settings, overrides, Console.Error))
         {
             return ExitCodes.BadInput;

@@ -22,11 +22,23 @@ internal static class ListenCommand
             status,
             raw,
         };
-        command.SetAction((parse, token) => Task.FromResult(Listen(parse.GetValue(endpoint)!, parse.GetValue(topic)!, parse.GetValue(status), parse.GetValue(raw), Console.Out, token)));
+        command.SetAction((parse, token) =>
+        {
+            try
+            {
+                return Task.FromResult(Listen(parse.GetValue(endpoint)!, parse.GetValue(topic)!, parse.GetValue(status), parse.GetValue(raw), Console.Out, Console.Error, token));
+            }
+            finally
+            {
+                // The socket is closed by now; end NetMQ's background threads so the process exits promptly.
+                NetMQConfig.Cleanup(block: false);
+            }
+        });
         return command;
     }
 
-    internal static int Listen(string endpoint, string topic, bool includeStatus, bool raw, TextWriter output, CancellationToken token)
+    /// <summary>Subscribes and prints until cancelled. Messages go to <paramref name="output"/>; what it is waiting for, once, to <paramref name="notes"/>.</summary>
+    internal static int Listen(string endpoint, string topic, bool includeStatus, bool raw, TextWriter output, TextWriter notes, CancellationToken token)
     {
         try
         {
@@ -34,24 +46,37 @@ internal static class ListenCommand
             subscriber.Options.Linger = TimeSpan.Zero;
             subscriber.Connect(endpoint);
             subscriber.Subscribe(topic);
-            output.WriteLine($"listening to {endpoint}{(topic.Length > 0 ? $" (topics {topic}*)" : "")}; Ctrl-C to stop");
-            Pump(subscriber, includeStatus ? StatusLines.All : StatusLines.None, raw, output, token);
+
+            // A subscriber cannot tell a silent publisher from none at all, so say once what it waits for; stdout
+            // stays for the messages themselves.
+            notes.WriteLine(WaitingNote(endpoint, topic, includeStatus || raw));
+            Pump(subscriber, includeStatus ? StatusLines.All : StatusLines.None, raw, output, token, (firstTopic, printed) =>
+            {
+                if (!printed)
+                {
+                    notes.WriteLine($"humwatch listen: receiving from {endpoint} (first message: {firstTopic}, not printed; --status shows status messages).");
+                }
+            });
         }
         catch (Exception ex) when (ex is NetMQException or ArgumentException)
         {
-            Console.Error.WriteLine($"humwatch listen: {endpoint}: {ex.Message}");
+            notes.WriteLine($"humwatch listen: {endpoint}: {ex.Message}");
             return ExitCodes.BadInput;
-        }
-        finally
-        {
-            NetMQConfig.Cleanup(block: false);
         }
 
         return ExitCodes.Ok;
     }
 
-    /// <summary>Receives and prints until cancelled; also used by the demo.</summary>
-    internal static void Pump(SubscriberSocket subscriber, StatusLines status, bool raw, TextWriter output, CancellationToken token)
+    /// <summary>The one line said before the first message: the endpoint, the topics, and what a running HumWatch sends there.</summary>
+    internal static string WaitingNote(string endpoint, string topic, bool statusShown)
+    {
+        var topics = topic.Length > 0 ? $"topics starting '{topic}'" : "every topic (alert/, clear/, status/, summary/)";
+        var status = statusShown ? "" : " Status messages come every Publish:StatusIntervalSeconds per stream but are printed only with --status.";
+        return $"humwatch listen: waiting for messages from {endpoint}, {topics}. Nothing arrives until a HumWatch ('run' or 'demo') publishes there and something happens.{status} Ctrl-C stops.";
+    }
+
+    /// <summary>Receives and prints until cancelled; also used by the demo. <paramref name="onFirst"/> hears of the first message received (its topic, and whether it was printed).</summary>
+    internal static void Pump(SubscriberSocket subscriber, StatusLines status, bool raw, TextWriter output, CancellationToken token, Action<string, bool>? onFirst = null)
     {
         var frames = new List<byte[]>(2);
         var streamsSeen = new HashSet<string>(StringComparer.Ordinal);
@@ -84,6 +109,9 @@ internal static class ListenCommand
             {
                 output.WriteLine(line);
             }
+
+            onFirst?.Invoke(topicText, line is not null);
+            onFirst = null;
         }
     }
 }

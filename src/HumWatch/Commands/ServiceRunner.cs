@@ -1,3 +1,4 @@
+using HumWatch.Host;
 using HumWatch.Host.Composition;
 using HumWatch.Host.Configuration;
 using Microsoft.Extensions.Hosting;
@@ -20,6 +21,11 @@ internal static class ServiceRunner
             CommandSettings.WriteInvalid(command, ex, Console.Error);
             return ExitCodes.BadInput;
         }
+        catch (StartFailureException ex)
+        {
+            Console.Error.WriteLine($"humwatch {command}: cannot start: {ex.Message}");
+            return ExitCodes.BadInput;
+        }
 
         try
         {
@@ -29,10 +35,12 @@ internal static class ServiceRunner
                 {
                     host.Start();
                 }
-                catch (Exception ex) when (ex is InvalidOperationException or IOException or UnauthorizedAccessException or ArgumentException or NetMQException)
+                catch (Exception ex) when (Unwrap(ex) is InvalidOperationException or IOException or UnauthorizedAccessException or ArgumentException or NetMQException)
                 {
-                    // A socket that cannot bind or a folder that cannot be created stops the start with one clear line.
-                    Console.Error.WriteLine($"humwatch {command}: cannot start: {Innermost(ex).Message}");
+                    // A socket that cannot bind, a store that cannot be opened: one clear line. The service's own
+                    // messages (StartFailureException) name the setting; anything else keeps its outermost message,
+                    // which names what failed rather than the socket library's last word.
+                    Console.Error.WriteLine($"humwatch {command}: cannot start: {Unwrap(ex).Message}");
                     return ExitCodes.BadInput;
                 }
 
@@ -51,13 +59,6 @@ internal static class ServiceRunner
         return ExitCodes.Ok;
     }
 
-    private static Exception Innermost(Exception ex)
-    {
-        while (ex.InnerException is not null && ex is not ConfigurationException)
-        {
-            ex = ex.InnerException;
-        }
-
-        return ex;
-    }
+    /// <summary>The host rethrows a single start failure as is, several as an AggregateException; one is shown for one.</summary>
+    private static Exception Unwrap(Exception ex) => ex is AggregateException { InnerExceptions.Count: 1 } aggregate ? Unwrap(aggregate.InnerExceptions[0]) : ex;
 }

@@ -6,7 +6,7 @@ using HumWatch.Host.Summaries;
 
 namespace HumWatch.Cli.Commands;
 
-/// <summary>`humwatch summary --day YYYY-MM-DD [--stream ID] [--out DIR] [--config PATH]... [--set KEY=VALUE]...` and `humwatch summary --list`.</summary>
+/// <summary>`humwatch summary --day YYYY-MM-DD [--stream ID] [--out DIR] [--data DIR] [--config PATH]... [--set KEY=VALUE]...` and `humwatch summary --list`.</summary>
 internal static class SummaryCommand
 {
     public static Command Create()
@@ -15,6 +15,7 @@ internal static class SummaryCommand
         var stream = new Option<string?>("--stream") { Description = "Render only this stream (the day page still lists every room)." };
         var output = new Option<string?>("--out") { Description = "Output folder (default: Summaries:Folder from configuration)." };
         var list = new Option<bool>("--list") { Description = "List the local days the store holds, with their streams and whether their summaries were written." };
+        var data = new Option<string?>("--data") { Description = "The data folder a 'run --data' or 'demo --data' used: reads its store and writes under its summaries folder." };
         var config = CommandSettings.ConfigOption();
         var set = CommandSettings.SetOption();
 
@@ -24,6 +25,7 @@ internal static class SummaryCommand
             stream,
             output,
             list,
+            data,
             config,
             set,
         };
@@ -32,6 +34,7 @@ internal static class SummaryCommand
             parse.GetValue(stream),
             parse.GetValue(output),
             parse.GetValue(list),
+            parse.GetValue(data),
             parse.GetValue(config) ?? [],
             parse.GetValue(set) ?? [],
             Console.Out,
@@ -40,7 +43,7 @@ internal static class SummaryCommand
     }
 
     /// <summary>Runs the command; returns the exit code.</summary>
-    internal static int Run(string? dayText, string? stream, string? output, bool list, string[] configFiles, string[] settings, TextWriter stdout, TextWriter stderr)
+    internal static int Run(string? dayText, string? stream, string? output, bool list, string? dataFolder, string[] configFiles, string[] settings, TextWriter stdout, TextWriter stderr)
     {
         if (list == (dayText is not null))
         {
@@ -56,6 +59,11 @@ internal static class SummaryCommand
         }
 
         var overrides = new Dictionary<string, string?>(StringComparer.OrdinalIgnoreCase);
+        if (dataFolder is not null)
+        {
+            CommandSettings.AddDataFolder(dataFolder, overrides);
+        }
+
         if (!CommandSettings.TryParseSettings("summary", settings, overrides, stderr)
             || CommandSettings.TryBuild("summary", new SettingsSources { ConfigFiles = configFiles, Overrides = overrides }, stderr) is not { } bound)
         {
@@ -68,7 +76,7 @@ internal static class SummaryCommand
 
         if (!File.Exists(storeOptions.Path))
         {
-            stderr.WriteLine($"humwatch summary: store {Path.GetFullPath(storeOptions.Path)} does not exist (Store:Path).");
+            stderr.WriteLine($"humwatch summary: store {Path.GetFullPath(storeOptions.Path)} does not exist (Store:Path, or --data for the folder a 'run --data' or 'demo --data' used).");
             return ExitCodes.BadInput;
         }
 

@@ -57,7 +57,7 @@ internal static class MessagePrinter
                     return null;
                 }
 
-                var lag = Number(json, "lagSeconds") is { } l ? string.Create(c, $", {l:0.0} s behind") : "";
+                var lag = Lag(Number(json, "lagSeconds"), json.TryGetProperty("utc", out var u) && u.TryGetDateTimeOffset(out var at) ? at : null);
                 return string.Create(c, $"{when}  · {stream}: {Number(json, "framesAnalysed") ?? 0:0} frames, {Number(json, "linesPresent") ?? 0:0} lines, {Number(json, "activeAlerts") ?? 0:0} active alerts, {Number(json, "chunksDropped") ?? 0:0} dropped{lag}");
 
             case "summary":
@@ -66,6 +66,40 @@ internal static class MessagePrinter
             default:
                 return $"{when}  {topic}: {json.GetRawText()}";
         }
+    }
+
+    /// <summary>Beyond this, a stream's data is not live: it is a replay (demo --start, a copied recording) or a clock is off.</summary>
+    internal const double ReplayLagSeconds = 600;
+
+    /// <summary>Below this, the lag is the normal wait for a chunk and a span: not worth a word.</summary>
+    internal const double QuietLagSeconds = 10;
+
+    /// <summary>
+    /// The status line's note on how far the analysed data is from now: nothing for the usual few seconds, "N s behind"
+    /// for a live stream that lags, and the data's own time for a replay (hours behind is not alarming there).
+    /// </summary>
+    internal static string Lag(double? lagSeconds, DateTimeOffset? statusUtc)
+    {
+        if (lagSeconds is not { } lag || Math.Abs(lag) < QuietLagSeconds)
+        {
+            return "";
+        }
+
+        var c = CultureInfo.InvariantCulture;
+        if (Math.Abs(lag) < ReplayLagSeconds)
+        {
+            return lag > 0 ? string.Create(c, $", {lag:0} s behind real time") : string.Create(c, $", data {-lag:0} s ahead of this clock");
+        }
+
+        if (statusUtc is not { } utc)
+        {
+            return lag > 0 ? ", replaying past data" : ", data ahead of this clock";
+        }
+
+        var dataUtc = utc.UtcDateTime.AddSeconds(-lag);
+        return lag > 0
+            ? string.Create(c, $", replaying data from {dataUtc:yyyy-MM-dd HH:mm} UTC")
+            : string.Create(c, $", data dated {dataUtc:yyyy-MM-dd HH:mm} UTC, ahead of this clock");
     }
 
     private static string Describe(JsonElement json)

@@ -7,7 +7,7 @@ namespace HumWatch.Formats.Tests.Edf;
 /// <summary>Files from our writer, read by libedf 1.23 (tests/fixtures/edf/libedf_dump.c compiled on the fly).</summary>
 public sealed class EdfWriterLibedfTests(LibedfDumper dumper) : IClassFixture<LibedfDumper>
 {
-    [SkippableTheory]
+    [LibedfTheory]
     [InlineData(EdfFileKind.Edf)]
     [InlineData(EdfFileKind.EdfPlusC)]
     [InlineData(EdfFileKind.Bdf)]
@@ -15,7 +15,7 @@ public sealed class EdfWriterLibedfTests(LibedfDumper dumper) : IClassFixture<Li
     [Trait("Category", "Integration")]
     public void Libedf_reads_our_files_with_the_values_and_annotations_we_wrote(EdfFileKind kind)
     {
-        Skip.If(dumper.Executable is null, "needs gcc and Debian libedf-dev 1.23 (edflib.h, -ledf) to run the outside reader");
+        var executable = dumper.Executable ?? throw new InvalidOperationException(LibedfDumper.WhyUnavailable ?? "libedf_dump was not built");
         using var folder = new TempFolder();
 
         var bdf = kind is EdfFileKind.Bdf or EdfFileKind.BdfPlusC;
@@ -51,7 +51,7 @@ public sealed class EdfWriterLibedfTests(LibedfDumper dumper) : IClassFixture<Li
             }
         }
 
-        LibedfDumper.Run(dumper.Executable, path, folder.FullPath);
+        LibedfDumper.Run(executable, path, folder.FullPath);
         var dump = LibedfDump.Load(path + ".libedf.txt"); // libedf 1.23 edfopen_file_readonly / edfread_physical_samples
         Assert.Equal(new DateTime(2024, 5, 6, 7, 8, 9), dump.Start);
         Assert.Equal(3, dump.DataRecords);
@@ -91,9 +91,15 @@ public sealed class LibedfDumper : IDisposable
 {
     private readonly TempFolder _folder = new();
 
+    /// <summary>Why the outside reader cannot be built here, or null when gcc and Debian's libedf-dev are installed.</summary>
+    public static string? WhyUnavailable =>
+        File.Exists("/usr/bin/gcc") && File.Exists("/usr/include/edflib.h")
+            ? null
+            : "needs gcc and Debian libedf-dev 1.23 (edflib.h, -ledf) to build the outside reader";
+
     public LibedfDumper()
     {
-        if (File.Exists("/usr/bin/gcc") && File.Exists("/usr/include/edflib.h"))
+        if (WhyUnavailable is null)
         {
             var exe = _folder.File("libedf_dump");
             Run("/usr/bin/gcc", $"-O2 -o {exe} {Fixtures.Edf("libedf_dump.c")} -ledf -lm", _folder.FullPath);
@@ -117,5 +123,23 @@ public sealed class LibedfDumper : IDisposable
         _ = process.StandardOutput.ReadToEnd();
         Assert.True(process.WaitForExit(120_000), $"{exe} did not finish");
         Assert.True(process.ExitCode == 0, $"{exe} {arguments} exited {process.ExitCode}: {stderr.Result}");
+    }
+}
+
+/// <summary>
+/// A theory checked by libedf, skipped when <see cref="LibedfDumper.WhyUnavailable"/> says it cannot be built. Decided
+/// when tests are discovered, and the reason is put into the test's name, because `dotnet test` at its default verbosity
+/// prints a skipped test's name but not its skip reason.
+/// </summary>
+[AttributeUsage(AttributeTargets.Method)]
+public sealed class LibedfTheoryAttribute : TheoryAttribute
+{
+    public LibedfTheoryAttribute([System.Runtime.CompilerServices.CallerMemberName] string method = "", [System.Runtime.CompilerServices.CallerFilePath] string file = "")
+    {
+        if (LibedfDumper.WhyUnavailable is { } reason)
+        {
+            Skip = reason;
+            DisplayName = $"{Path.GetFileNameWithoutExtension(file)}.{method} (skipped: {reason})";
+        }
     }
 }

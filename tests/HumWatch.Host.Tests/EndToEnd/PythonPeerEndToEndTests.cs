@@ -12,10 +12,9 @@ namespace HumWatch.Host.Tests.EndToEnd;
 [Collection(IngestSocketCollection.Name)]
 public sealed class PythonPeerEndToEndTests
 {
-    [SkippableFact]
+    [PythonPeerFact]
     public async Task A_pyzmq_acquisition_peer_pushes_a_50_Hz_stream_and_a_pyzmq_subscriber_receives_the_mains_alert()
     {
-        Skip.If(PythonPeer.WhyUnavailable is not null, PythonPeer.WhyUnavailable);
         using var temp = new TempFolder();
         await using var service = await ServiceUnderTest.StartAsync(temp.Path);
         using var subscriber = PythonPeer.Start("subscribe.py", service.PublishEndpoint, "--count", "100000", "--timeout", "120");

@@ -77,7 +77,7 @@ public sealed class CurveIngestTests
         var missing = Path.Combine(temp.Path, "absent.key");
         await using var harness = new IngestHarness(IngestHarness.LoopbackOptions(e => e.Curve = new IngestCurveOptions { ServerKeyFile = missing }));
 
-        var ex = await Assert.ThrowsAsync<InvalidOperationException>(() => harness.Service.StartAsync(CancellationToken.None));
+        var ex = await Assert.ThrowsAsync<StartFailureException>(() => harness.Service.StartAsync(CancellationToken.None));
 
         Assert.Contains("Ingest:Endpoints:0:Curve:ServerKeyFile", ex.Message, StringComparison.Ordinal);
         Assert.Contains(missing, ex.Message, StringComparison.Ordinal);

@@ -12,10 +12,9 @@ namespace HumWatch.Host.Tests.Ingest;
 [Collection(IngestSocketCollection.Name)]
 public sealed class PythonInteropTests
 {
-    [SkippableFact]
+    [PythonPeerFact]
     public async Task Chunks_pushed_by_pyzmq_arrive_and_its_broken_message_is_counted()
     {
-        Skip.If(PythonPeer.WhyUnavailable is not null, PythonPeer.WhyUnavailable);
         await using var harness = new IngestHarness(IngestHarness.LoopbackOptions());
         await harness.StartAsync();
 
@@ -48,10 +47,9 @@ public sealed class PythonInteropTests
         Assert.Equal(4, harness.Counters.Get("py-room")!.Accepted);
     }
 
-    [SkippableFact]
+    [PythonPeerFact]
     public async Task Pyzmq_client_with_the_server_public_key_gets_through_a_CURVE_socket()
     {
-        Skip.If(PythonPeer.WhyUnavailable is not null, PythonPeer.WhyUnavailable);
         using var temp = new TempFolder();
         var keyFile = Path.Combine(temp.Path, "server.key");
         var server = CurveKeyFile.Create(keyFile);
@@ -66,10 +64,9 @@ public sealed class PythonInteropTests
         Assert.All(chunks, c => Assert.Equal("py-curve", c.StreamId));
     }
 
-    [SkippableFact]
+    [PythonPeerFact]
     public async Task Subscribe_script_prints_each_multipart_message_as_a_json_line()
     {
-        Skip.If(PythonPeer.WhyUnavailable is not null, PythonPeer.WhyUnavailable);
         using var publisher = new PublisherSocket();
         publisher.Options.Linger = TimeSpan.Zero;
         var port = publisher.BindRandomPort("tcp://127.0.0.1");

@@ -113,10 +113,11 @@ public sealed class SocketIngestServiceTests
         var options = IngestHarness.LoopbackOptions(e => e.Address = $"tcp://127.0.0.1:{port}");
         await using var harness = new IngestHarness(options);
 
-        var ex = await Assert.ThrowsAsync<InvalidOperationException>(() => harness.Service.StartAsync(CancellationToken.None));
+        var ex = await Assert.ThrowsAsync<StartFailureException>(() => harness.Service.StartAsync(CancellationToken.None));
 
         Assert.Contains("Ingest:Endpoints:0:Address", ex.Message, StringComparison.Ordinal);
-        Assert.Contains(port.ToString(System.Globalization.CultureInfo.InvariantCulture), ex.Message, StringComparison.Ordinal);
+        Assert.Contains($"tcp://127.0.0.1:{port} is already in use", ex.Message, StringComparison.Ordinal);
+        Assert.Contains("Another HumWatch", ex.Message, StringComparison.Ordinal);
     }
 
     [Fact]

@@ -118,8 +118,9 @@ public sealed class ZmqPublisherTests
     {
         using var first = NewPublisher(new RecordingLogger<ZmqPublisher>());
         var options = new PublishOptions { Endpoint = first.Endpoint, LingerMs = 0 };
-        var ex = Assert.Throws<InvalidOperationException>(() => new ZmqPublisher(options, new RecordingLogger<ZmqPublisher>()));
-        Assert.Contains(first.Endpoint, ex.Message, StringComparison.Ordinal);
+        var ex = Assert.Throws<StartFailureException>(() => new ZmqPublisher(options, new RecordingLogger<ZmqPublisher>()));
+        Assert.StartsWith($"{first.Endpoint} is already in use (Publish:Endpoint). Another HumWatch", ex.Message, StringComparison.Ordinal);
+        Assert.Contains("--set Publish:Endpoint=tcp://127.0.0.1:", ex.Message, StringComparison.Ordinal);
     }
 
     [Theory]

@@ -55,7 +55,7 @@ internal static class PythonPeer
     {
         if (!File.Exists(Python))
         {
-            return $"{Python} is not installed (CI installs python3-zmq with apt).";
+            return $"needs Debian's python3-zmq: {Python} is not installed (.ci/run installs it with apt)";
         }
 
         try
@@ -67,7 +67,9 @@ internal static class PythonPeer
             })!;
             var error = process.StandardError.ReadToEnd();
             process.WaitForExit();
-            return process.ExitCode == 0 ? null : $"{Python} cannot import zmq (install python3-zmq): {error.Trim()}";
+            // The traceback's last line says why ("No module named 'zmq'"); the reason becomes part of a test's name.
+            var why = error.Split('\n', StringSplitOptions.RemoveEmptyEntries | StringSplitOptions.TrimEntries).LastOrDefault() ?? $"exit code {process.ExitCode}";
+            return process.ExitCode == 0 ? null : $"needs Debian's python3-zmq: {Python} cannot import zmq ({why})";
         }
         catch (System.ComponentModel.Win32Exception ex)
         {
