@@ -34,7 +34,6 @@ internal sealed class LineAttributor
 
     private readonly Source[] _sources;
     private readonly int _mainsFamilies;
-    private readonly double[] _candidateGrids;
     private readonly double _sampleRateHz;
     private readonly double _nyquistHz;
     private readonly double _binWidthHz;
@@ -71,7 +70,7 @@ internal sealed class LineAttributor
         _nyquistHz = sampleRateHz / 2;
         _binWidthHz = binWidthHz;
         var sources = new List<Source>();
-        foreach (var grid in catalog.CandidateGridsHz)
+        foreach (var grid in catalog.CandidateGrids())
         {
             sources.Add(new Source(SourceKind.Mains, "mains", grid, grid * catalog.MainsTolerancePercent / 100, catalog.MainsMaxHarmonic));
         }
@@ -91,7 +90,6 @@ internal sealed class LineAttributor
         }
 
         _sources = [.. sources];
-        _candidateGrids = [.. catalog.CandidateGridsHz];
         _sourceActive = new bool[_sources.Length];
         _explainedLines = new int[_sources.Length];
         _fundamentalPresent = new bool[_sources.Length];
@@ -107,9 +105,6 @@ internal sealed class LineAttributor
         var m = Math.Round(frequencyHz / sampleRateHz, MidpointRounding.AwayFromZero);
         return Math.Abs(frequencyHz - (m * sampleRateHz));
     }
-
-    /// <summary>The nominal grids this attributor considers (the configured one, or 50 and 60 Hz).</summary>
-    public ReadOnlySpan<double> CandidateGridsHz => _candidateGrids;
 
     /// <summary>
     /// Sets Source and AlsoPossible on every line against every candidate grid (frame-local: the analyser's view);

@@ -12,8 +12,8 @@ public sealed class SourceCatalogOptions
     /// <summary>The grids a recording can be measured against when <see cref="MainsHz"/> is not set (common practice, no source).</summary>
     public static IReadOnlyList<double> WorldGridsHz { get; } = [50, 60];
 
-    /// <summary>The nominal grids to consider: the configured one, or both of <see cref="WorldGridsHz"/>.</summary>
-    public IReadOnlyList<double> CandidateGridsHz => MainsHz is { } hz ? [hz] : WorldGridsHz;
+    /// <summary>The nominal grids to consider, Hz: the configured one, or both of <see cref="WorldGridsHz"/>. A method, so no setting binds to it.</summary>
+    public IReadOnlyList<double> CandidateGrids() => MainsHz is { } hz ? [hz] : WorldGridsHz;
 
     /// <summary>
     /// How far the grid may wander from nominal, percent. The default is 1 %: EN 50160's ±1 % band for
