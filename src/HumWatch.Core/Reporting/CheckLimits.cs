@@ -3,7 +3,7 @@ namespace HumWatch.Core.Reporting;
 /// <summary>Limits that turn a recording's findings into a verdict (pass / warn / fail).</summary>
 public sealed class CheckLimits
 {
-    /// <summary>A line at or above this median amplitude is worth a warning, µV RMS. The default is 1 µV (above an EEG amplifier's own noise — judgement, REFERENCES.md §6).</summary>
+    /// <summary>A line at or above this median amplitude is worth a warning, µV RMS. The default is 1 µV (above an EEG amplifier's own noise — judgement, common practice, no source).</summary>
     public double WarnLineUvRms { get; set; } = 1;
 
     /// <summary>A line at or above this median amplitude fails the recording, µV RMS. The default is 5 µV (rivals background EEG — judgement).</summary>

@@ -17,7 +17,7 @@ internal sealed class EdfHeader
 
     public const int FixedBytes = 256;
 
-    // Fixed-header fields: offset, width (EDF spec; REFERENCES.md §7).
+    // Fixed-header fields: offset, width (EDF spec: Kemp et al., Electroencephalogr. Clin. Neurophysiol. 82:391–393, 1992).
     internal static readonly (int Offset, int Width, string Name)[] FixedFields =
     [
         (0, 8, "version"),

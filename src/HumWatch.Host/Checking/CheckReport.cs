@@ -4,7 +4,7 @@ using HumWatch.Host.Serialization;
 
 namespace HumWatch.Host.Checking;
 
-/// <summary>The `check` report of one file — the JSON shape in DESIGN.md ("check JSON report").</summary>
+/// <summary>The `check` report of one file — the JSON shape README.md documents.</summary>
 public sealed class CheckReport
 {
     public required string File { get; init; }

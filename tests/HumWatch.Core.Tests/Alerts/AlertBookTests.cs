@@ -40,7 +40,7 @@ public sealed class AlertBookTests
         var raised = Assert.IsType<AlertRaised>(Assert.Single(_sink.Events));
         Assert.Equal("mains/h1", raised.Key.ToString());
         Assert.Equal("room-a", raised.StreamId);
-        Assert.Equal(AlertSeverity.Minor, raised.Severity); // REFERENCES.md §6 anchors (judgement): 1 µV ≤ 2 µV < 5 µV
+        Assert.Equal(AlertSeverity.Minor, raised.Severity); // levels 1 and 5 µV RMS (judgement, common practice, no source): 1 µV ≤ 2 µV < 5 µV
         Assert.Equal(12, raised.StreamSeconds, 9); // third frame of 8 s span, 2 s hop ends at 12 s
         Assert.Equal(Start + TimeSpan.FromSeconds(12), raised.Utc);
         Assert.Equal(0, raised.OnsetSeconds, 9);
@@ -318,8 +318,8 @@ public sealed class AlertBookTests
     public void Default_levels_follow_the_reference_anchors()
     {
         var options = new AlertOptions();
-        Assert.Equal(1, options.MinorUvRms); // REFERENCES.md §6: > ~1 µV is above IEC amplifier noise (judgement)
-        Assert.Equal(5, options.MarkedUvRms); // REFERENCES.md §6: > ~5–10 µV rivals background EEG (judgement)
+        Assert.Equal(1, options.MinorUvRms); // above an EEG amplifier's own noise (judgement, common practice, no source)
+        Assert.Equal(5, options.MarkedUvRms); // rivals background EEG (judgement, common practice, no source)
         Assert.Equal(AlertSeverity.None, options.SeverityOf(0.99));
         Assert.Equal(AlertSeverity.Minor, options.SeverityOf(1));
         Assert.Equal(AlertSeverity.Marked, options.SeverityOf(5));

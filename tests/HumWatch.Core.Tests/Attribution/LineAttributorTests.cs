@@ -8,7 +8,7 @@ public sealed class LineAttributorTests
 {
     private const double BinHz = 0.25;
 
-    // REFERENCES §8 (computed there with f_a = |f − k·fs|, k = round(f/fs); dsptutor aliasing page).
+    // Folding f_a = |f − k·fs|, k = round(f/fs) (sampling theorem, common practice; values computed).
     [Theory]
     [InlineData(150, 250, 100)]
     [InlineData(200, 250, 50)]
@@ -42,7 +42,7 @@ public sealed class LineAttributorTests
 
         Assert.Equal(50.02, mains, 9);
 
-        // REFERENCES §8 (computed): fs = 256: 150 → 106, 200 → 56, 250 → 6, 300 → 44 Hz.
+        // Folding f_a = |f − k·fs| (computed): fs = 256: 150 → 106, 200 → 56, 250 → 6, 300 → 44 Hz.
         AssertSource(lines[0], SourceKind.Mains, 1, aliased: false);
         AssertSource(lines[1], SourceKind.Mains, 3, aliased: true);
         AssertSource(lines[2], SourceKind.Mains, 4, aliased: true);

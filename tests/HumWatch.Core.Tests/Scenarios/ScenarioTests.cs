@@ -44,7 +44,7 @@ public sealed class ScenarioTests
 
         var frames = ScenarioRunner.Run(room, 30, 102);
 
-        // REFERENCES §8 (computed, f_a = |f − k·fs|): fs = 256: 150 → 106, 200 → 56, 250 → 6, 300 → 44 Hz.
+        // Folding (computed, f_a = |f − k·fs|): fs = 256: 150 → 106, 200 → 56, 250 → 6, 300 → 44 Hz.
         foreach (var frame in frames)
         {
             foreach (var (aliasHz, harmonic) in new[] { (106.0, 3), (56.0, 4), (6.0, 5), (44.0, 6) })
@@ -156,7 +156,7 @@ public sealed class ScenarioTests
     public void Clean_recordings_with_strong_rhythms_report_no_lines_over_21_channel_hours()
     {
         // 32 channels × 40 min at 256 Hz = 21.3 channel-hours; posterior alpha of 15 µV RMS (scalp EEG 10–100 µV —
-        // REFERENCES §6), beta of 8 µV over a 20 µV 1/f background, muscle bursts as by default. 256 Hz keeps the segments
+        // Teplan, Meas. Sci. Rev. 2(2), 2002, from memory), beta of 8 µV over a 20 µV 1/f background, muscle bursts as by default. 256 Hz keeps the segments
         // a power of two (fast). Known limit: with 8 s frames (K = 3 segments) an alpha burst can look tonal for a whole
         // frame; this run has exactly one such frame (9.6 Hz, 10.8 dB, at 616 s, whatever the alpha amplitude). Persistence
         // over several frames (the alert rules) is what rejects it; the frame level allows that one, nothing else.

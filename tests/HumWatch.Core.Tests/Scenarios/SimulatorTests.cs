@@ -49,7 +49,7 @@ public sealed class SimulatorTests
         var psd = SpectrumBuilder.Welch(x, 250, 1000);
         var strongest = Array.IndexOf(psd, psd.Max()) * 0.25;
 
-        Assert.Equal(100, strongest, 3); // REFERENCES §8 (computed, f_a = |f − k·fs|): fs = 250, 150 Hz → 100 Hz
+        Assert.Equal(100, strongest, 3); // folding (computed, f_a = |f − k·fs|): fs = 250, 150 Hz → 100 Hz
     }
 
     [Fact]

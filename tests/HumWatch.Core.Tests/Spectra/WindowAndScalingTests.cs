@@ -23,7 +23,7 @@ public sealed class WindowAndScalingTests
         var window = new double[128];
         HannWindow.FillSymmetric(window);
 
-        // MATLAB enbw documentation example (via REFERENCES.md §1): 128-point symmetric Hann → 1.5118 bins
+        // Harris 1978 (Proc. IEEE 66:51–83) ENBW = N·Σw²/(Σw)², evaluated for a 128-point symmetric Hann: 1.5118 bins (computed)
         Assert.Equal(1.5118, HannWindow.EnbwBins(window), 4);
     }
 
@@ -60,7 +60,7 @@ public sealed class WindowAndScalingTests
         var psd = new double[(segmentLength / 2) + 1];
         WelchPsd.Compute(x, sampleRateHz, segmentLength, segmentLength / 2, psd);
 
-        // REFERENCES.md §1 (from scipy's density scale): peak = (A²/2) / (1.5·fs/N); Harris 1978 Hann ENBW 1.5 bins
+        // scipy's density scale 1/(fs·Σw²): peak = (A²/2) / (1.5·fs/N); Harris 1978 Hann ENBW 1.5 bins
         var expected = peakUv * peakUv / 2 / (1.5 * sampleRateHz / segmentLength);
         Assert.Equal(expected, psd[bin], expected * 1e-9);
         Assert.Equal(frequencyHz, WelchPsd.FrequencyOfBin(bin, sampleRateHz, segmentLength), 12);
@@ -78,7 +78,7 @@ public sealed class WindowAndScalingTests
         var psd = new double[129];
         WelchPsd.Compute(x, 256, 256, 128, psd);
 
-        // REFERENCES.md §1 computed check (fs=256, N=256, A=10 µV, 50 Hz on-bin): 33.33 µV²/Hz, RMS 7.071 µV
+        // Computed from scipy's density scale (fs=256, N=256, A=10 µV, 50 Hz on-bin): 33.33 µV²/Hz, RMS 7.071 µV
         Assert.Equal(33.333, psd[50], 3);
         Assert.Equal(7.071, Math.Sqrt(psd[50] * 1.5 * 256 / 256), 3);
     }

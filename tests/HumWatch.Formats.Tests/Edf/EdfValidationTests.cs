@@ -2,7 +2,7 @@ using HumWatch.Formats.Tests.Support;
 
 namespace HumWatch.Formats.Tests.Edf;
 
-/// <summary>Bad input: every error names the file and the problem (offsets per EDF spec, REFERENCES.md §7).</summary>
+/// <summary>Bad input: every error names the file and the problem (offsets per the EDF spec, Kemp et al. 1992).</summary>
 public sealed class EdfValidationTests : IDisposable
 {
     // The small EDF+C file has 2 EEG signals + 1 annotation signal: ns = 3, header 1024 bytes.

@@ -3,7 +3,7 @@ using HumWatch.Formats.Edf;
 
 namespace HumWatch.Formats.Tests.Support;
 
-/// <summary>Builds and patches EDF bytes at the offsets of the EDF spec (Kemp et al. 1992; REFERENCES.md §7).</summary>
+/// <summary>Builds and patches EDF bytes at the offsets of the EDF spec (Kemp et al. 1992).</summary>
 public static class EdfBytes
 {
     /// <summary>A valid small file from <see cref="EdfWriter"/>: EDF+C, Fp1 and Cz at 256 Hz, 4 records of 1 s.</summary>
