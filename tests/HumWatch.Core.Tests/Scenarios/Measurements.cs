@@ -69,11 +69,9 @@ public sealed class Measurements(ITestOutputHelper output)
         Assert.NotEmpty(cleanFrames);
     }
 
-    [SkippableFact]
+    [MeasurementFact]
     public void Mains_frequency_error_at_5_uV_over_60_s()
     {
-        Skip.IfNot(Environment.GetEnvironmentVariable("HUMWATCH_MEASURE") == "1", "Measurement run: set HUMWATCH_MEASURE=1.");
-
         var trials = FrequencyAccuracyTests.MainsTrials();
         foreach (var (frequency, error, frames, seen) in trials)
         {

@@ -71,6 +71,52 @@ public sealed class InboxServiceTests : IDisposable
     }
 
     [Fact]
+    public void The_report_the_alerts_and_the_ledger_of_a_dropped_file_name_the_same_sources()
+    {
+        // A wandering 60 Hz grid (a grid wanders; no MainsHz configured) with its 3rd harmonic, and a crystal-steady
+        // 120 Hz monitor on the posterior channels: one tracker decides for all three outputs, so they must agree.
+        var room = new RoomSimulator(
+            new SimulatedRoom
+            {
+                Name = "oak-room",
+                SampleRateHz = 500,
+                Channels = SimulatedRoom.Montage(19),
+                Tones =
+                [
+                    new SimulatedTone { Name = "mains", FrequencyHz = 60, AmplitudeUvRms = 6, HarmonicAmplitudes = [0, 0.5], WanderHz = 0.05 },
+                    new SimulatedTone { Name = "monitor", FrequencyHz = 120, AmplitudeUvRms = 3, Channels = ["P3", "Pz", "P4", "O1", "O2"] },
+                ],
+            },
+            seed: 31);
+        using var store = OpenStore();
+        using var sessions = new SessionHarness();
+        var inbox = NewInbox(store, sessions);
+        var dropped = Path.Combine(Inbox, "oak-room", "night.edf");
+        Directory.CreateDirectory(Path.GetDirectoryName(dropped)!);
+        ServiceEndToEndTests.WriteRecording(dropped, room, seconds: 150);
+
+        Assert.Equal(1, inbox.ScanOnce());
+
+        var reportPath = Path.Combine(Archive, "oak-room", "night.edf.report.json");
+        using var report = System.Text.Json.JsonDocument.Parse(File.ReadAllText(reportPath));
+        var reported = report.RootElement.GetProperty("lines").EnumerateArray()
+            .Select(l => $"{l.GetProperty("source").GetString()}:{l.GetProperty("fundamentalHz").GetDouble():0}:{l.GetProperty("harmonic").GetInt32()}")
+            .ToHashSet();
+        Assert.Equal(["display:120:1", "mains:60:1", "mains:60:3"], reported.Order());
+
+        var ledger = sessions.Outputs.StoredRows
+            .Where(r => r.SourceKey.Category is Core.Findings.FindingCategory.Mains or Core.Findings.FindingCategory.Display)
+            .Select(r => r.SourceKey.ToString())
+            .ToHashSet();
+        var alerts = sessions.Outputs.Alerts.OfType<AlertRaised>()
+            .Where(r => r.Category == AlertCategory.Line)
+            .Select(r => r.Key.ToString())
+            .ToHashSet();
+        Assert.Equal(["display 120 Hz/h1", "mains/h1", "mains/h3"], ledger.Order());
+        Assert.Equal(ledger.Order(), alerts.Order());
+    }
+
+    [Fact]
     public void The_same_content_dropped_again_after_a_restart_is_moved_aside_without_a_second_set_of_alerts_or_rows()
     {
         using var store = OpenStore();
