@@ -155,6 +155,8 @@ public sealed class FrameLine
         _worstCount = Math.Min(_worstCount + 1, MaxWorstChannels);
     }
 
+    internal void ClearAlternatives() => _alternativeCount = 0;
+
     internal void AddAlternative(SourceMatch match)
     {
         if (_alternativeCount < MaxAlternatives)

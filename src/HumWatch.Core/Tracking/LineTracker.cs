@@ -146,10 +146,18 @@ public sealed class LineTracker : IAnalysisFrameSink
         {
             var track = _tracks[_lineTrack[l]];
             var line = lines[l];
+            var gridFundamental = l == fundamental && line.ChannelShare >= MinGridShare;
+            if (gridFundamental)
+            {
+                // The grid's fundamental on most channels with the grid decided: a display at the same rate on every
+                // channel is no explanation that fits about as well.
+                line.ClearAlternatives();
+            }
+
             line.TrackId = track.Id;
             line.TrackRunFrames = track.Run;
             line.IsPersistent = track.Persistent;
-            line.Evidence = EvidenceOf(line, track, l == fundamental);
+            line.Evidence = EvidenceOf(line, track, gridFundamental);
         }
     }
 
