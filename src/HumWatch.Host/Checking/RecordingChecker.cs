@@ -169,7 +169,7 @@ public sealed class RecordingChecker
                 faults.Add(new CheckFault
                 {
                     Channel = fault.ChannelLabel,
-                    Kind = FaultKindName(fault.Kind),
+                    Kind = fault.Kind.ToText(),
                     FirstSeconds = Round(fault.FirstSeconds, 1),
                     LastSeconds = Round(fault.LastSeconds, 1),
                     SampleRateHz = layout.SampleRateHz,
@@ -254,7 +254,7 @@ public sealed class RecordingChecker
     internal static CheckLine ToCheckLine(LineFinding line, double sampleRateHz) => new()
     {
         FrequencyHz = Round(line.FrequencyHz, 3),
-        Source = SourceKindName(line.Source.Kind),
+        Source = line.Source.Kind.ToText(),
         SourceName = line.Source.Name,
         FundamentalHz = line.Source.IsIdentified ? Round(line.Source.FundamentalHz, 3) : null,
         Harmonic = line.Source.Harmonic,
@@ -281,21 +281,6 @@ public sealed class RecordingChecker
         GridOrigin.Configured => "configured",
         GridOrigin.Measured => "measured",
         _ => "unknown",
-    };
-
-    public static string SourceKindName(SourceKind kind) => kind switch
-    {
-        SourceKind.Mains => "mains",
-        SourceKind.Display => "display",
-        SourceKind.SiteTone => "site-tone",
-        _ => "unidentified",
-    };
-
-    public static string FaultKindName(ChannelFaultKind kind) => kind switch
-    {
-        ChannelFaultKind.Flat => "flat",
-        ChannelFaultKind.Clipped => "clipped",
-        _ => "non-finite",
     };
 
     private static Verdict Max(Verdict a, Verdict b) => (Verdict)Math.Max((int)a, (int)b);

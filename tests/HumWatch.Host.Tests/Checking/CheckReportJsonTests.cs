@@ -34,18 +34,4 @@ public sealed class CheckReportJsonTests
         var ex = Assert.Throws<JsonException>(() => JsonSerializer.Deserialize("""{"file":"a.edf","verdict":"Pass"}""", CheckReportJsonContext.Default.CheckReport));
         Assert.Contains("'Pass'", ex.Message, StringComparison.Ordinal);
     }
-
-    [Fact]
-    public void Line_sources_and_fault_kinds_are_spelled_as_everywhere_else()
-    {
-        foreach (var kind in Enum.GetValues<SourceKind>())
-        {
-            Assert.Equal(kind.ToText(), RecordingChecker.SourceKindName(kind));
-        }
-
-        foreach (var kind in Enum.GetValues<ChannelFaultKind>())
-        {
-            Assert.Equal(kind.ToText(), RecordingChecker.FaultKindName(kind));
-        }
-    }
 }
