@@ -1,6 +1,8 @@
+using System.Runtime.InteropServices;
 using HumWatch.Core.Analysis;
 using HumWatch.Core.Findings;
 using HumWatch.Core.Lines;
+using HumWatch.Core.Numerics;
 
 namespace HumWatch.Core.Ledger;
 
@@ -34,13 +36,7 @@ public sealed class MinuteLedger
     /// <remarks>Only lines the <see cref="Tracking.LineTracker"/> found persistent count, as for alerts and `check`.</remarks>
     public MinuteLedger(string streamId, string sessionId, double minAmplitudeUvRms = 1.0)
     {
-        ArgumentException.ThrowIfNullOrWhiteSpace(streamId);
-        ArgumentException.ThrowIfNullOrWhiteSpace(sessionId);
-        if (!(minAmplitudeUvRms >= 0) || !double.IsFinite(minAmplitudeUvRms))
-        {
-            throw new ArgumentOutOfRangeException(nameof(minAmplitudeUvRms), minAmplitudeUvRms, "Level must be zero or a finite positive number of µV RMS.");
-        }
-
+        SessionArguments.Check(streamId, sessionId, minAmplitudeUvRms);
         StreamId = streamId;
         SessionId = sessionId;
         _minAmplitudeUvRms = minAmplitudeUvRms;
@@ -199,17 +195,8 @@ public sealed class MinuteLedger
         _openMinuteTicks = long.MinValue;
     }
 
-    private static double MedianInPlace(List<double> values)
-    {
-        if (values.Count == 0)
-        {
-            return double.NaN;
-        }
-
-        values.Sort();
-        var mid = values.Count / 2;
-        return values.Count % 2 == 1 ? values[mid] : (values[mid - 1] + values[mid]) / 2;
-    }
+    /// <summary>The minute's figures are cleared once its rows are out, so sorting them in place is free.</summary>
+    private static double MedianInPlace(List<double> values) => Median.SortInPlace(CollectionsMarshal.AsSpan(values));
 
     /// <summary>One source's figures within the open minute; pooled.</summary>
     private sealed class SourceTally(FindingKey key)

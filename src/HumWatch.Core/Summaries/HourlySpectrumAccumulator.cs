@@ -1,5 +1,6 @@
 using HumWatch.Core.Analysis;
 using HumWatch.Core.Findings;
+using HumWatch.Core.Ledger;
 
 namespace HumWatch.Core.Summaries;
 
@@ -59,13 +60,7 @@ public sealed class HourlySpectrumAccumulator
     /// <remarks>Only lines the <see cref="Tracking.LineTracker"/> found persistent are marked, as for the ledger and alerts.</remarks>
     public HourlySpectrumAccumulator(string streamId, string sessionId, double minAmplitudeUvRms = 1.0, double flushEverySeconds = 300)
     {
-        ArgumentException.ThrowIfNullOrWhiteSpace(streamId);
-        ArgumentException.ThrowIfNullOrWhiteSpace(sessionId);
-        if (!(minAmplitudeUvRms >= 0) || !double.IsFinite(minAmplitudeUvRms))
-        {
-            throw new ArgumentOutOfRangeException(nameof(minAmplitudeUvRms), minAmplitudeUvRms, "Level must be zero or a finite positive number of µV RMS.");
-        }
-
+        SessionArguments.Check(streamId, sessionId, minAmplitudeUvRms);
         if (!(flushEverySeconds >= 10 && flushEverySeconds <= 3600))
         {
             throw new ArgumentOutOfRangeException(nameof(flushEverySeconds), flushEverySeconds, "Must be between 10 and 3600 s.");
