@@ -91,26 +91,20 @@ internal sealed class LedgerTable(StoreConnection connection) : ILedgerStore
     }
 
     /// <summary>Ledger rows of one stream with minute start in [fromUtc, toUtc), by minute then source key.</summary>
-    public IReadOnlyList<StoredMinute> Rows(string stream, DateTimeOffset fromUtc, DateTimeOffset toUtc)
+    public IReadOnlyList<StoredMinute> Rows(string stream, DateTimeOffset fromUtc, DateTimeOffset toUtc) => connection.Run(c =>
     {
-        ArgumentException.ThrowIfNullOrWhiteSpace(stream);
-        return connection.Run(c =>
-        {
-            using var command = Sql.Command(c, """
-                SELECT stream, minute_utc, source_key, monitored_s, affected_s, max_uv_rms, mean_median_uv_rms, worst_channels, mains_hz, parts
-                FROM minute_ledger
-                WHERE stream = $stream AND minute_utc >= $from AND minute_utc < $to
-                ORDER BY minute_utc, source_key
-                """);
-            Sql.Add(command, "$stream", stream);
-            Sql.Add(command, "$from", CeilingSeconds(fromUtc));
-            Sql.Add(command, "$to", CeilingSeconds(toUtc));
-            return Sql.ReadAll(command, static reader => new StoredMinute(
-                reader.GetString(0), DateTimeOffset.FromUnixTimeSeconds(reader.GetInt64(1)), FindingKey.Parse(reader.GetString(2)),
-                reader.GetDouble(3), reader.GetDouble(4), Sql.NullableDouble(reader, 5), Sql.NullableDouble(reader, 6),
-                Sql.Labels(reader.GetString(7)), Sql.NullableDouble(reader, 8), reader.GetInt32(9)));
-        });
-    }
+        using var command = Sql.Command(c, """
+            SELECT stream, minute_utc, source_key, monitored_s, affected_s, max_uv_rms, mean_median_uv_rms, worst_channels, mains_hz, parts
+            FROM minute_ledger
+            WHERE stream = $stream AND minute_utc >= $from AND minute_utc < $to
+            ORDER BY minute_utc, source_key
+            """);
+        Sql.AddStreamRange(command, stream, CeilingSeconds(fromUtc), CeilingSeconds(toUtc));
+        return Sql.ReadAll(command, static reader => new StoredMinute(
+            reader.GetString(0), DateTimeOffset.FromUnixTimeSeconds(reader.GetInt64(1)), FindingKey.Parse(reader.GetString(2)),
+            reader.GetDouble(3), reader.GetDouble(4), Sql.NullableDouble(reader, 5), Sql.NullableDouble(reader, 6),
+            Sql.Labels(reader.GetString(7)), Sql.NullableDouble(reader, 8), reader.GetInt32(9)));
+    });
 
     /// <summary>Minutes are stored by their start second: a range bound inside a second starts at the next one.</summary>
     private static long CeilingSeconds(DateTimeOffset utc)

@@ -59,24 +59,18 @@ internal sealed class SpectrumTable(StoreConnection connection) : ISpectrumPartS
     }
 
     /// <summary>Parts of a stream whose hour starts in [fromUtc, toUtc), by hour, session and sequence.</summary>
-    public IReadOnlyList<SpectrumPart> Between(string stream, DateTimeOffset fromUtc, DateTimeOffset toUtc)
+    public IReadOnlyList<SpectrumPart> Between(string stream, DateTimeOffset fromUtc, DateTimeOffset toUtc) => connection.Run(c =>
     {
-        ArgumentException.ThrowIfNullOrWhiteSpace(stream);
-        return connection.Run(c =>
-        {
-            using var command = Sql.Command(c, """
-                SELECT stream, session, seq, hour_utc, bin_width_hz, seconds, psd, lines FROM spectrum_parts
-                WHERE stream = $stream AND hour_utc >= $from AND hour_utc < $to
-                ORDER BY hour_utc, session, seq
-                """);
-            Sql.Add(command, "$stream", stream);
-            Sql.Add(command, "$from", fromUtc.ToUnixTimeSeconds());
-            Sql.Add(command, "$to", toUtc.ToUnixTimeSeconds());
-            return Sql.ReadAll(command, static reader => new SpectrumPart(
-                reader.GetString(0), reader.GetString(1), reader.GetInt64(2), DateTimeOffset.FromUnixTimeSeconds(reader.GetInt64(3)),
-                reader.GetDouble(4), reader.GetDouble(5), Psd((byte[])reader.GetValue(6)), Lines(reader.GetString(7))));
-        });
-    }
+        using var command = Sql.Command(c, """
+            SELECT stream, session, seq, hour_utc, bin_width_hz, seconds, psd, lines FROM spectrum_parts
+            WHERE stream = $stream AND hour_utc >= $from AND hour_utc < $to
+            ORDER BY hour_utc, session, seq
+            """);
+        Sql.AddStreamRange(command, stream, fromUtc.ToUnixTimeSeconds(), toUtc.ToUnixTimeSeconds());
+        return Sql.ReadAll(command, static reader => new SpectrumPart(
+            reader.GetString(0), reader.GetString(1), reader.GetInt64(2), DateTimeOffset.FromUnixTimeSeconds(reader.GetInt64(3)),
+            reader.GetDouble(4), reader.GetDouble(5), Psd((byte[])reader.GetValue(6)), Lines(reader.GetString(7))));
+    });
 
     private static float[] Psd(byte[] blob)
     {

@@ -31,6 +31,16 @@ internal static class Sql
     public static void Add(SqliteCommand command, string name, object? value) =>
         command.Parameters.AddWithValue(name, value ?? DBNull.Value);
 
+    /// <summary>Binds $stream, $from and $to of a query over one stream and a range of Unix seconds [from, to).</summary>
+    /// <exception cref="ArgumentException">The stream id is empty.</exception>
+    public static void AddStreamRange(SqliteCommand command, string stream, long fromSeconds, long toSeconds)
+    {
+        ArgumentException.ThrowIfNullOrWhiteSpace(stream);
+        Add(command, "$stream", stream);
+        Add(command, "$from", fromSeconds);
+        Add(command, "$to", toSeconds);
+    }
+
     /// <summary>Runs a query and maps each row; the list is in the query's order.</summary>
     public static List<T> ReadAll<T>(SqliteCommand command, Func<SqliteDataReader, T> map)
     {
