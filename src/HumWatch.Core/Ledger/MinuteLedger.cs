@@ -1,6 +1,8 @@
+using System.Runtime.InteropServices;
 using HumWatch.Core.Analysis;
 using HumWatch.Core.Findings;
 using HumWatch.Core.Lines;
+using HumWatch.Core.Numerics;
 
 namespace HumWatch.Core.Ledger;
 
@@ -10,12 +12,17 @@ namespace HumWatch.Core.Ledger;
 /// boundaries. A minute's rows are emitted when a later minute's data arrives, or on <see cref="Flush"/>.
 /// Pure and not thread-safe; allocates in steady state only when rows are emitted.
 /// </summary>
-public sealed class MinuteLedger
+/// <param name="streamId">Stream the rows belong to.</param>
+/// <param name="sessionId">Identifies this session's rows; use a value that repeats when the same input is processed again (e.g. a file's hash) so a re-run is not counted twice.</param>
+/// <param name="minAmplitudeUvRms">Lines at or above this amplitude count as affecting the minute, µV RMS. The default is 1 µV (the alert level "minor").</param>
+/// <remarks>Only lines the <see cref="Tracking.LineTracker"/> found persistent count, as for alerts and `check`.</remarks>
+public sealed class MinuteLedger(string streamId, string sessionId, double minAmplitudeUvRms = 1.0)
 {
     /// <summary>Source key of the row that describes the stream as a whole (any line); text "*".</summary>
     public static FindingKey AllSourcesKey => FindingKey.All;
 
-    private readonly double _minAmplitudeUvRms;
+    // First initialiser, so bad arguments throw before anything else is set up.
+    private readonly double _minAmplitudeUvRms = SessionArguments.CheckedLevel(streamId, sessionId, minAmplitudeUvRms);
     private readonly Dictionary<FindingKey, SourceTally> _tallies = [];
     private readonly List<SourceTally> _ordered = [];
     private readonly Stack<SourceTally> _free = new();
@@ -28,29 +35,11 @@ public sealed class MinuteLedger
     private long _frameNumber;
     private long _sequence;
 
-    /// <param name="streamId">Stream the rows belong to.</param>
-    /// <param name="sessionId">Identifies this session's rows; use a value that repeats when the same input is processed again (e.g. a file's hash) so a re-run is not counted twice.</param>
-    /// <param name="minAmplitudeUvRms">Lines at or above this amplitude count as affecting the minute, µV RMS. The default is 1 µV (the alert level "minor").</param>
-    /// <remarks>Only lines the <see cref="Tracking.LineTracker"/> found persistent count, as for alerts and `check`.</remarks>
-    public MinuteLedger(string streamId, string sessionId, double minAmplitudeUvRms = 1.0)
-    {
-        ArgumentException.ThrowIfNullOrWhiteSpace(streamId);
-        ArgumentException.ThrowIfNullOrWhiteSpace(sessionId);
-        if (!(minAmplitudeUvRms >= 0) || !double.IsFinite(minAmplitudeUvRms))
-        {
-            throw new ArgumentOutOfRangeException(nameof(minAmplitudeUvRms), minAmplitudeUvRms, "Level must be zero or a finite positive number of µV RMS.");
-        }
-
-        StreamId = streamId;
-        SessionId = sessionId;
-        _minAmplitudeUvRms = minAmplitudeUvRms;
-    }
-
     /// <summary>Stream the rows belong to.</summary>
-    public string StreamId { get; }
+    public string StreamId { get; } = streamId;
 
     /// <summary>Session the rows belong to.</summary>
-    public string SessionId { get; }
+    public string SessionId { get; } = sessionId;
 
     /// <summary>Feeds one frame; may emit the rows of minutes this frame moves past.</summary>
     /// <param name="frame">The analyser's frame (reused by the analyser; nothing of it is kept).</param>
@@ -199,17 +188,8 @@ public sealed class MinuteLedger
         _openMinuteTicks = long.MinValue;
     }
 
-    private static double MedianInPlace(List<double> values)
-    {
-        if (values.Count == 0)
-        {
-            return double.NaN;
-        }
-
-        values.Sort();
-        var mid = values.Count / 2;
-        return values.Count % 2 == 1 ? values[mid] : (values[mid - 1] + values[mid]) / 2;
-    }
+    /// <summary>The minute's figures are cleared once its rows are out, so sorting them in place is free.</summary>
+    private static double MedianInPlace(List<double> values) => Median.SortInPlace(CollectionsMarshal.AsSpan(values));
 
     /// <summary>One source's figures within the open minute; pooled.</summary>
     private sealed class SourceTally(FindingKey key)

@@ -1,7 +1,9 @@
+using System.Runtime.InteropServices;
 using HumWatch.Core.Analysis;
 using HumWatch.Core.Attribution;
 using HumWatch.Core.Faults;
 using HumWatch.Core.Lines;
+using HumWatch.Core.Numerics;
 
 namespace HumWatch.Core.Reporting;
 
@@ -120,7 +122,7 @@ public sealed class RecordingAccumulator : IAnalysisFrameSink
             .OrderBy(f => f.FirstSeconds)
             .ThenBy(f => f.Channel)
             .ToList();
-        double? mains = _mainsEstimates.Count == 0 ? null : Median(_mainsEstimates);
+        double? mains = _mainsEstimates.Count == 0 ? null : MedianOf(_mainsEstimates);
         var grid = new GridFinding(double.IsFinite(_gridNominalHz) ? _gridNominalHz : null, _gridFrom, double.IsFinite(_gridConflictHz) ? _gridConflictHz : null);
         return new RecordingFindings(layout.SampleRateHz, layout.ChannelCount, _analysedSeconds, _frameCount, mains, lines, faults, _transientPeaks) { Grid = grid };
     }
@@ -182,18 +184,8 @@ public sealed class RecordingAccumulator : IAnalysisFrameSink
         }
     }
 
-    internal static double Median(List<double> values)
-    {
-        if (values.Count == 0)
-        {
-            return double.NaN;
-        }
-
-        var sorted = values.ToArray();
-        Array.Sort(sorted);
-        var mid = sorted.Length / 2;
-        return sorted.Length % 2 == 1 ? sorted[mid] : 0.5 * (sorted[mid - 1] + sorted[mid]);
-    }
+    /// <summary>The kept figures stay in arrival order; the median sorts a copy.</summary>
+    private static double MedianOf(List<double> values) => Median.Of(CollectionsMarshal.AsSpan(values));
 
     private sealed class LineEpisode(int trackId)
     {
@@ -265,19 +257,19 @@ public sealed class RecordingAccumulator : IAnalysisFrameSink
                 .Select(kv => layout.Channels[kv.Key].Label)
                 .ToList();
             return new LineFinding(
-                Median(_frequencies),
+                MedianOf(_frequencies),
                 Source,
                 [.. _alternatives.Select(LineFinding.Describe)],
-                Median(_amplitudes),
+                MedianOf(_amplitudes),
                 _maxAmplitude,
                 _maxProminence,
-                Median(_shares),
+                MedianOf(_shares),
                 _maxAffected,
                 worst,
                 _firstSeconds,
                 _lastSeconds,
                 _presentSeconds,
-                Median(_falseAlarmProbabilities))
+                MedianOf(_falseAlarmProbabilities))
             {
                 Evidence = Evidence,
             };

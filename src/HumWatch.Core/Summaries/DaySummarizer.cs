@@ -1,11 +1,12 @@
 using System.Globalization;
-using HumWatch.Core.Alerts;
 using HumWatch.Core.Findings;
 
 namespace HumWatch.Core.Summaries;
 
 /// <summary>
-/// Builds a <see cref="DaySummary"/> from the stored minute ledger and alert events of one stream and local day.
+/// Builds a <see cref="DaySummary"/> from the stored minute ledger and alert events of one stream and local day: sorts
+/// the rows into one <see cref="DaySourceTally"/> per source and puts the parts together (verdict: <see cref="DayJudgement"/>,
+/// alerts: <see cref="DayAlertCounter"/>, frequencies and mains: <see cref="DayLineFigures"/>).
 /// Pure: the same rows always give the same summary (figures are rounded so the JSON is stable), which is what makes
 /// summaries restart-safe — they depend on the store only, never on what a process happened to hold in memory.
 /// </summary>
@@ -13,10 +14,6 @@ public static class DaySummarizer
 {
     /// <summary>Schema version of <see cref="DaySummary"/>.</summary>
     public const int Version = 1;
-
-    /// <summary>Kinds of source in the order they are listed and judged.</summary>
-    private static readonly FindingCategory[] CategoryOrder =
-        [FindingCategory.Mains, FindingCategory.Display, FindingCategory.SiteTone, FindingCategory.Unidentified, FindingCategory.ChannelFault];
 
     /// <summary>Summarises one stream's local day.</summary>
     /// <param name="streamId">Stream id.</param>
@@ -33,7 +30,7 @@ public static class DaySummarizer
         IReadOnlyList<LedgerMinute> minutes,
         IReadOnlyList<AlertRecord> alerts,
         DaySpectrum? spectrum,
-        SummaryOptions options)
+        DaySummaryRules options)
     {
         ArgumentException.ThrowIfNullOrWhiteSpace(streamId);
         ArgumentNullException.ThrowIfNull(zone);
@@ -48,9 +45,9 @@ public static class DaySummarizer
 
         var (fromUtc, toUtc) = LocalDay.RangeUtc(day, zone);
         var dayMinutes = (int)((toUtc - fromUtc).Ticks / TimeSpan.TicksPerMinute);
-        var all = new SourceTally(FindingKey.All, dayMinutes);
+        var all = new DaySourceTally(FindingKey.All, dayMinutes);
         // Keyed by the typed key, so the spellings a store holds for one finding (e.g. "site:" and "site-tone:") add up.
-        var tallies = new Dictionary<FindingKey, SourceTally>();
+        var tallies = new Dictionary<FindingKey, DaySourceTally>();
         var mainsHz = new double?[dayMinutes];
         var monitoredSeconds = 0.0;
 
@@ -62,7 +59,7 @@ public static class DaySummarizer
                 continue;
             }
 
-            SourceTally tally;
+            DaySourceTally tally;
             if (row.SourceKey == FindingKey.All)
             {
                 tally = all;
@@ -74,15 +71,15 @@ public static class DaySummarizer
             }
             else if (!tallies.TryGetValue(row.SourceKey, out tally!))
             {
-                tally = new SourceTally(row.SourceKey, dayMinutes);
+                tally = new DaySourceTally(row.SourceKey, dayMinutes);
                 tallies.Add(row.SourceKey, tally);
             }
 
             tally.Add(index, row);
         }
 
-        var frequencies = LineFrequencies(alerts, spectrum, fromUtc, toUtc);
-        var sources = new List<(SourceTally Tally, SourceSummary Summary)>(tallies.Count);
+        var frequencies = DayLineFigures.Frequencies(alerts, spectrum, fromUtc, toUtc);
+        var sources = new List<(DaySourceTally Tally, SourceSummary Summary)>(tallies.Count);
         foreach (var tally in tallies.Values)
         {
             frequencies.TryGetValue(tally.Key, out var hz);
@@ -96,10 +93,10 @@ public static class DaySummarizer
             return byMinutes != 0 ? byMinutes : FindingKey.TextOrder.Compare(a.Summary.Key, b.Summary.Key);
         });
 
-        var categories = Categories(tallies, options, dayMinutes);
+        var categories = DayJudgement.Categories(tallies.Values, options, dayMinutes);
         var allSummary = all.ToSummary(options, fromUtc, zone, 0);
         var hasData = monitoredSeconds > 0;
-        var (verdict, reasons) = Judge(categories, options, hasData);
+        var (verdict, reasons) = DayJudgement.Judge(categories, hasData);
         var hourStarts = new string[(dayMinutes + 59) / 60];
         for (var h = 0; h < hourStarts.Length; h++)
         {
@@ -120,7 +117,7 @@ public static class DaySummarizer
             fromUtc,
             toUtc,
             (int)Math.Round((toUtc - fromUtc).TotalHours),
-            Round(monitoredSeconds / 3600, 4),
+            SummaryRounding.Round(monitoredSeconds / 3600, 4),
             verdict,
             reasons,
             allSummary.AffectedMinutes,
@@ -130,361 +127,8 @@ public static class DaySummarizer
             allSummary.WorstChannels,
             categories,
             sources.ConvertAll(s => s.Summary),
-            TallyAlerts(alerts, fromUtc, toUtc, zone),
-            Track(mainsHz),
+            DayAlertCounter.Count(alerts, fromUtc, toUtc, zone),
+            DayLineFigures.Mains(mainsHz),
             new HourTimeline(hourStarts, rows));
-    }
-
-    /// <summary>Rounds for output so that the JSON does not carry floating-point noise; NaN stays NaN.</summary>
-    internal static double Round(double value, int digits) => double.IsFinite(value) ? Math.Round(value, digits, MidpointRounding.AwayFromZero) : value;
-
-    private static double? Round(double? value, int digits) => value is { } v ? Round(v, digits) : null;
-
-    private static Dictionary<FindingKey, double> LineFrequencies(IReadOnlyList<AlertRecord> alerts, DaySpectrum? spectrum, DateTimeOffset fromUtc, DateTimeOffset toUtc)
-    {
-        var result = new Dictionary<FindingKey, double>();
-        if (spectrum is not null)
-        {
-            foreach (var (key, hz) in spectrum.LineFrequenciesHz)
-            {
-                result[key] = hz;
-            }
-        }
-
-        // Alerts fill in lines the spectrum store does not know (older data); the mean of the events' frequencies.
-        var sums = new Dictionary<FindingKey, (double Sum, int Count)>();
-        foreach (var alert in alerts)
-        {
-            if (alert.Utc < fromUtc || alert.Utc >= toUtc || alert.FrequencyHz is not { } hz || !double.IsFinite(hz) || result.ContainsKey(alert.Key))
-            {
-                continue;
-            }
-
-            sums.TryGetValue(alert.Key, out var s);
-            sums[alert.Key] = (s.Sum + hz, s.Count + 1);
-        }
-
-        foreach (var (key, s) in sums)
-        {
-            result[key] = s.Sum / s.Count;
-        }
-
-        return result;
-    }
-
-    private static List<CategorySummary> Categories(Dictionary<FindingKey, SourceTally> tallies, SummaryOptions options, int dayMinutes)
-    {
-        var result = new List<CategorySummary>(CategoryOrder.Length);
-        var perMinute = new double[dayMinutes];
-        foreach (var category in CategoryOrder)
-        {
-            Array.Clear(perMinute);
-            foreach (var tally in tallies.Values)
-            {
-                if (tally.Key.Category == category)
-                {
-                    tally.MaxInto(perMinute);
-                }
-            }
-
-            var seconds = 0.0;
-            for (var i = 0; i < perMinute.Length; i++)
-            {
-                seconds += perMinute[i];
-            }
-
-            var minutes = Round(seconds / 60, 2);
-            var limit = options.LimitFor(category)!;
-            result.Add(new CategorySummary(category, minutes, limit.WarnMinutes, limit.FailMinutes, VerdictOf(minutes, limit)));
-        }
-
-        return result;
-    }
-
-    private static DayVerdict VerdictOf(double minutes, DailyLimit limit) =>
-        limit.FailMinutes is { } fail && minutes >= fail ? DayVerdict.Fail
-        : limit.WarnMinutes is { } warn && minutes >= warn ? DayVerdict.Warn
-        : DayVerdict.Pass;
-
-    private static (DayVerdict Verdict, List<string> Reasons) Judge(List<CategorySummary> categories, SummaryOptions options, bool hasData)
-    {
-        var reasons = new List<string>();
-        if (!hasData)
-        {
-            return (DayVerdict.NoData, reasons);
-        }
-
-        var verdict = DayVerdict.Pass;
-        foreach (var c in categories)
-        {
-            var key = $"Summaries:Day:{SummaryOptions.LimitKey(c.Category)}";
-            if (c.Verdict == DayVerdict.Fail)
-            {
-                verdict = DayVerdict.Fail;
-                reasons.Add(string.Create(CultureInfo.InvariantCulture, $"{c.Category.ToText()}: {c.AffectedMinutes:0.##} affected minutes reach the fail limit of {c.FailMinutes:0.##} ({key}:FailMinutes)."));
-            }
-            else if (c.Verdict == DayVerdict.Warn)
-            {
-                if (verdict == DayVerdict.Pass)
-                {
-                    verdict = DayVerdict.Warn;
-                }
-
-                reasons.Add(string.Create(CultureInfo.InvariantCulture, $"{c.Category.ToText()}: {c.AffectedMinutes:0.##} affected minutes reach the warn limit of {c.WarnMinutes:0.##} ({key}:WarnMinutes)."));
-            }
-        }
-
-        return (verdict, reasons);
-    }
-
-    private static AlertTally TallyAlerts(IReadOnlyList<AlertRecord> alerts, DateTimeOffset fromUtc, DateTimeOffset toUtc, TimeZoneInfo zone)
-    {
-        int raised = 0, cleared = 0, changes = 0, minor = 0, marked = 0, severe = 0;
-        // Ordered as the key texts, as the list has always been.
-        var byKey = new SortedDictionary<FindingKey, (int Raised, int Cleared, AlertSeverity Peak, DateTimeOffset? First)>(FindingKey.TextOrder);
-        foreach (var alert in alerts)
-        {
-            if (alert.Utc < fromUtc || alert.Utc >= toUtc)
-            {
-                continue;
-            }
-
-            byKey.TryGetValue(alert.Key, out var k);
-            if (alert.Severity > k.Peak)
-            {
-                k.Peak = alert.Severity;
-            }
-
-            switch (alert.Event)
-            {
-                case AlertEventKind.Raised:
-                    raised++;
-                    k.Raised++;
-                    k.First ??= alert.Utc;
-                    switch (alert.Severity)
-                    {
-                        case AlertSeverity.Minor:
-                            minor++;
-                            break;
-                        case AlertSeverity.Marked:
-                            marked++;
-                            break;
-                        case AlertSeverity.Severe:
-                            severe++;
-                            break;
-                        default:
-                            break;
-                    }
-
-                    break;
-                case AlertEventKind.Cleared:
-                    cleared++;
-                    k.Cleared++;
-                    break;
-                default:
-                    changes++;
-                    break;
-            }
-
-            byKey[alert.Key] = k;
-        }
-
-        var list = new List<AlertKeyTally>(byKey.Count);
-        foreach (var (key, k) in byKey)
-        {
-            list.Add(new AlertKeyTally(key, k.Raised, k.Cleared, k.Peak, k.First is { } first ? LocalDay.LocalText(first, zone) : null));
-        }
-
-        return new AlertTally(raised, cleared, changes, minor, marked, severe, list);
-    }
-
-    private static MainsTrack Track(double?[] hz)
-    {
-        var count = 0;
-        var sum = 0.0;
-        var min = double.PositiveInfinity;
-        var max = double.NegativeInfinity;
-        var series = new double?[hz.Length];
-        for (var i = 0; i < hz.Length; i++)
-        {
-            if (hz[i] is not { } value)
-            {
-                continue;
-            }
-
-            series[i] = Round(value, 4);
-            count++;
-            sum += value;
-            min = Math.Min(min, value);
-            max = Math.Max(max, value);
-        }
-
-        return count == 0
-            ? new MainsTrack(null, null, null, 0, 60, series)
-            : new MainsTrack(Round(sum / count, 4), Round(min, 4), Round(max, 4), count, 60, series);
-    }
-
-    internal static double? Median(List<double> values)
-    {
-        if (values.Count == 0)
-        {
-            return null;
-        }
-
-        values.Sort();
-        var mid = values.Count / 2;
-        return values.Count % 2 == 1 ? values[mid] : (values[mid - 1] + values[mid]) / 2;
-    }
-
-    /// <summary>One source key's minutes over the day.</summary>
-    private sealed class SourceTally(FindingKey key, int dayMinutes)
-    {
-        private readonly double[] _affectedSeconds = new double[dayMinutes];
-        private readonly List<double> _medians = [];
-        private readonly Dictionary<string, int> _channelMinutes = new(StringComparer.Ordinal);
-        private double _max = double.NaN;
-
-        public FindingKey Key { get; } = key;
-
-        public void Add(int index, LedgerMinute row)
-        {
-            _affectedSeconds[index] += row.AffectedSeconds;
-            if (row.MaxAmplitudeUvRms is { } max && !(_max >= max))
-            {
-                _max = max;
-            }
-
-            if (row.MedianAmplitudeUvRms is { } median && double.IsFinite(median) && row.AffectedSeconds > 0)
-            {
-                _medians.Add(median);
-            }
-
-            if (row.AffectedSeconds > 0)
-            {
-                foreach (var channel in row.WorstChannels)
-                {
-                    _channelMinutes[channel] = _channelMinutes.GetValueOrDefault(channel) + 1;
-                }
-            }
-        }
-
-        public void MaxInto(double[] perMinute)
-        {
-            for (var i = 0; i < perMinute.Length; i++)
-            {
-                if (_affectedSeconds[i] > perMinute[i])
-                {
-                    perMinute[i] = _affectedSeconds[i];
-                }
-            }
-        }
-
-        public double[] HourlyMinutes(int hours)
-        {
-            var result = new double[hours];
-            for (var i = 0; i < _affectedSeconds.Length; i++)
-            {
-                result[i / 60] += _affectedSeconds[i];
-            }
-
-            for (var h = 0; h < hours; h++)
-            {
-                result[h] = Round(result[h] / 60, 2);
-            }
-
-            return result;
-        }
-
-        public SourceSummary ToSummary(SummaryOptions options, DateTimeOffset fromUtc, TimeZoneInfo zone, double frequencyHz)
-        {
-            var total = 0.0;
-            for (var i = 0; i < _affectedSeconds.Length; i++)
-            {
-                total += _affectedSeconds[i];
-            }
-
-            var episodes = Episodes(options, fromUtc, zone);
-            var episodeCount = episodes.Count;
-            episodes.Sort(static (a, b) =>
-            {
-                var bySpan = b.SpanMinutes.CompareTo(a.SpanMinutes);
-                return bySpan != 0 ? bySpan : a.StartUtc.CompareTo(b.StartUtc);
-            });
-            if (episodes.Count > options.EpisodesListed)
-            {
-                episodes.RemoveRange(options.EpisodesListed, episodes.Count - options.EpisodesListed);
-            }
-
-            var channels = new List<KeyValuePair<string, int>>(_channelMinutes);
-            channels.Sort(static (a, b) =>
-            {
-                var byMinutes = b.Value.CompareTo(a.Value);
-                return byMinutes != 0 ? byMinutes : string.CompareOrdinal(a.Key, b.Key);
-            });
-            var worst = new List<ChannelMinutes>(Math.Min(channels.Count, options.WorstChannelCount));
-            for (var i = 0; i < channels.Count && i < options.WorstChannelCount; i++)
-            {
-                worst.Add(new ChannelMinutes(channels[i].Key, channels[i].Value));
-            }
-
-            double? hz = frequencyHz > 0 ? Round(frequencyHz, 3) : Key.FrequencyHz;
-            return new SourceSummary(
-                Key,
-                Key.Category,
-                Key.Label,
-                Key.Harmonic,
-                Key.Category == FindingCategory.ChannelFault ? null : hz,
-                Round(total / 60, 2),
-                episodeCount,
-                episodes,
-                double.IsFinite(_max) ? Round(_max, 3) : null,
-                Round(Median(_medians), 3),
-                worst);
-        }
-
-        private List<Episode> Episodes(SummaryOptions options, DateTimeOffset fromUtc, TimeZoneInfo zone)
-        {
-            var result = new List<Episode>();
-            var start = -1;
-            var lastOn = -1;
-            for (var i = 0; i <= _affectedSeconds.Length; i++)
-            {
-                var on = i < _affectedSeconds.Length && _affectedSeconds[i] >= options.EpisodeMinuteMinSeconds;
-                if (on)
-                {
-                    if (start < 0)
-                    {
-                        start = i;
-                    }
-                    else if (i - lastOn - 1 > options.EpisodeBridgeMinutes)
-                    {
-                        result.Add(MakeEpisode(start, lastOn + 1, fromUtc, zone));
-                        start = i;
-                    }
-
-                    lastOn = i;
-                }
-            }
-
-            if (start >= 0)
-            {
-                result.Add(MakeEpisode(start, lastOn + 1, fromUtc, zone));
-            }
-
-            return result;
-        }
-
-        private Episode MakeEpisode(int start, int end, DateTimeOffset fromUtc, TimeZoneInfo zone)
-        {
-            var seconds = 0.0;
-            for (var i = start; i < end; i++)
-            {
-                seconds += _affectedSeconds[i];
-            }
-
-            var startUtc = fromUtc.AddMinutes(start);
-            var endUtc = fromUtc.AddMinutes(end);
-            return new Episode(Key, startUtc, endUtc, LocalDay.LocalText(startUtc, zone), LocalDay.LocalText(endUtc, zone), end - start, Round(seconds / 60, 2));
-        }
     }
 }

@@ -1,6 +1,6 @@
 namespace HumWatch.Core.Summaries;
 
-/// <summary>A stream's day, or one kind of source over it, against <see cref="SummaryOptions"/> limits.</summary>
+/// <summary>A stream's day, or one kind of source over it, against <see cref="DaySummaryRules"/> limits.</summary>
 public enum DayVerdict
 {
     /// <summary>Nothing was monitored that day (a whole day only, never a kind of source).</summary>

@@ -1,5 +1,6 @@
 using HumWatch.Core.Analysis;
 using HumWatch.Core.Findings;
+using HumWatch.Core.Ledger;
 
 namespace HumWatch.Core.Summaries;
 
@@ -40,10 +41,18 @@ public interface ISpectrumPartSink
 /// A part is emitted when the UTC hour changes and at least every <c>flushEverySeconds</c> of stream time, so a
 /// kill loses at most that much spectrum. Pure and not thread-safe; steady state allocates only when a part is emitted.
 /// </summary>
-public sealed class HourlySpectrumAccumulator
+/// <param name="streamId">Stream.</param>
+/// <param name="sessionId">Session id; use the ledger's.</param>
+/// <param name="minAmplitudeUvRms">Lines at or above this amplitude are marked, µV RMS. The default is 1 µV (the ledger's level).</param>
+/// <param name="flushEverySeconds">Most stream time held before a part is emitted, s; 10 to 3600. The default is 300 s.</param>
+/// <remarks>Only lines the <see cref="Tracking.LineTracker"/> found persistent are marked, as for the ledger and alerts.</remarks>
+public sealed class HourlySpectrumAccumulator(string streamId, string sessionId, double minAmplitudeUvRms = 1.0, double flushEverySeconds = 300)
 {
-    private readonly double _minAmplitudeUvRms;
-    private readonly double _flushEverySeconds;
+    // First initialisers, so bad arguments throw before anything else is set up.
+    private readonly double _minAmplitudeUvRms = SessionArguments.CheckedLevel(streamId, sessionId, minAmplitudeUvRms);
+    private readonly double _flushEverySeconds = flushEverySeconds is >= 10 and <= 3600
+        ? flushEverySeconds
+        : throw new ArgumentOutOfRangeException(nameof(flushEverySeconds), flushEverySeconds, "Must be between 10 and 3600 s.");
     private readonly Dictionary<FindingKey, LineFrequencyTally> _lines = [];
     private double[] _sum = [];
     private double _binWidthHz;
@@ -51,37 +60,6 @@ public sealed class HourlySpectrumAccumulator
     private double _lastEndSeconds = double.NegativeInfinity;
     private long _openHourTicks = long.MinValue;
     private long _sequence;
-
-    /// <param name="streamId">Stream.</param>
-    /// <param name="sessionId">Session id; use the ledger's.</param>
-    /// <param name="minAmplitudeUvRms">Lines at or above this amplitude are marked, µV RMS. The default is 1 µV (the ledger's level).</param>
-    /// <param name="flushEverySeconds">Most stream time held before a part is emitted, s; 10 to 3600. The default is 300 s.</param>
-    /// <remarks>Only lines the <see cref="Tracking.LineTracker"/> found persistent are marked, as for the ledger and alerts.</remarks>
-    public HourlySpectrumAccumulator(string streamId, string sessionId, double minAmplitudeUvRms = 1.0, double flushEverySeconds = 300)
-    {
-        ArgumentException.ThrowIfNullOrWhiteSpace(streamId);
-        ArgumentException.ThrowIfNullOrWhiteSpace(sessionId);
-        if (!(minAmplitudeUvRms >= 0) || !double.IsFinite(minAmplitudeUvRms))
-        {
-            throw new ArgumentOutOfRangeException(nameof(minAmplitudeUvRms), minAmplitudeUvRms, "Level must be zero or a finite positive number of µV RMS.");
-        }
-
-        if (!(flushEverySeconds >= 10 && flushEverySeconds <= 3600))
-        {
-            throw new ArgumentOutOfRangeException(nameof(flushEverySeconds), flushEverySeconds, "Must be between 10 and 3600 s.");
-        }
-
-        StreamId = streamId;
-        SessionId = sessionId;
-        _minAmplitudeUvRms = minAmplitudeUvRms;
-        _flushEverySeconds = flushEverySeconds;
-    }
-
-    /// <summary>Stream the parts belong to.</summary>
-    public string StreamId { get; }
-
-    /// <summary>Session the parts belong to.</summary>
-    public string SessionId { get; }
 
     /// <summary>Feeds one frame; may emit the part it moves past.</summary>
     /// <param name="frame">The analyser's frame (nothing of it is kept).</param>
@@ -160,7 +138,7 @@ public sealed class HourlySpectrumAccumulator
         }
 
         var lines = new Dictionary<FindingKey, LineFrequencyTally>(_lines);
-        sink.OnSpectrumPart(new SpectrumPart(StreamId, SessionId, ++_sequence, new DateTimeOffset(_openHourTicks, TimeSpan.Zero), _binWidthHz, _seconds, mean, lines));
+        sink.OnSpectrumPart(new SpectrumPart(streamId, sessionId, ++_sequence, new DateTimeOffset(_openHourTicks, TimeSpan.Zero), _binWidthHz, _seconds, mean, lines));
         Array.Clear(_sum);
         _lines.Clear();
         _seconds = 0;

@@ -9,7 +9,10 @@ namespace HumWatch.Core.Summaries;
 /// <param name="MonitoredSeconds">Analysed stream time in the minute, s.</param>
 /// <param name="AffectedSeconds">Time the source was present, s.</param>
 /// <param name="MaxAmplitudeUvRms">Largest amplitude, µV RMS; null when none.</param>
-/// <param name="MedianAmplitudeUvRms">Median amplitude over the minute's frames, µV RMS; null when none.</param>
+/// <param name="MeanMedianAmplitudeUvRms">
+/// The sessions' per-minute medians weighted by their affected seconds, µV RMS (the median itself when one session
+/// covers the minute, the usual case); null when none.
+/// </param>
 /// <param name="WorstChannels">Channel labels, worst first.</param>
 /// <param name="MainsHz">Estimated mains frequency in the minute, Hz; null when not seen.</param>
 public sealed record LedgerMinute(
@@ -18,7 +21,7 @@ public sealed record LedgerMinute(
     double MonitoredSeconds,
     double AffectedSeconds,
     double? MaxAmplitudeUvRms,
-    double? MedianAmplitudeUvRms,
+    double? MeanMedianAmplitudeUvRms,
     IReadOnlyList<string> WorstChannels,
     double? MainsHz);
 

@@ -77,8 +77,8 @@ public static class HumWatchHost
         services.AddSingleton(Options.Create(bound.Inbox));
         services.AddSingleton(Options.Create(bound.Site));
         services.AddSingleton(sp => OpenStore(bound.Store, sp.GetRequiredService<TimeProvider>()));
-        services.AddSingleton<IAlertEventStore>(sp => sp.GetRequiredService<HumWatchStore>());
-        services.AddSingleton(sp => new LedgerWriter(sp.GetRequiredService<HumWatchStore>(), sp.GetRequiredService<ILogger<LedgerWriter>>(), sp.GetRequiredService<TimeProvider>()));
+        services.AddSingleton<IAlertEventStore>(sp => sp.GetRequiredService<HumWatchStore>().Alerts);
+        services.AddSingleton(sp => new LedgerWriter(sp.GetRequiredService<HumWatchStore>().Ledger, sp.GetRequiredService<ILogger<LedgerWriter>>(), sp.GetRequiredService<TimeProvider>()));
         services.AddSingleton<IMinuteRowSink>(sp => sp.GetRequiredService<LedgerWriter>());
         services.AddSingleton(sp => new ZmqPublisher(bound.Publish, sp.GetRequiredService<ILogger<ZmqPublisher>>()));
         services.AddSingleton<IMessagePublisher>(sp => sp.GetRequiredService<ZmqPublisher>());
@@ -95,7 +95,7 @@ public static class HumWatchHost
         services.AddSingleton<InboxService>();
         services.AddHostedService(sp => sp.GetRequiredService<InboxService>());
         services.AddHumWatchSummaries(bound.Summaries);
-        services.AddSingleton<ISpectrumPartSink>(sp => sp.GetRequiredService<SummaryStore>());
+        services.AddSingleton<ISpectrumPartSink>(sp => sp.GetRequiredService<HumWatchStore>().Spectra);
         settings.ConfigureServices?.Invoke(services, bound);
         services.AddHumWatchIngest(bound.Ingest);
         return builder.Build();

@@ -29,7 +29,7 @@ public sealed class BoundSettings
         SiteOptions site,
         LogOptions logs,
         IngestOptions ingest,
-        SummariesOptions summaries)
+        SummaryOutputOptions summaries)
     {
         Analysis = analysis;
         Check = check;
@@ -75,7 +75,7 @@ public sealed class BoundSettings
     public IngestOptions Ingest { get; }
 
     /// <summary>Section "Summaries".</summary>
-    public SummariesOptions Summaries { get; }
+    public SummaryOutputOptions Summaries { get; }
 
     /// <summary>Binds every section strictly (unknown keys are errors) and validates all of them.</summary>
     /// <exception cref="ConfigurationException">Every problem at once, one line each, each naming its key.</exception>
@@ -106,7 +106,7 @@ public sealed class BoundSettings
         var site = Section<SiteOptions>(configuration, nameof(Site), schema, errors, o => o.Validate());
         var logs = Section<LogOptions>(configuration, nameof(Logs), schema, errors, o => o.Validate());
         var ingest = Section<IngestOptions>(configuration, nameof(Ingest), schema, errors, o => new IngestOptionsValidator().Validate(null, o).Failures?.ToList() ?? []);
-        var summaries = Section<SummariesOptions>(configuration, nameof(Summaries), schema, errors, o => o.Validate());
+        var summaries = Section<SummaryOutputOptions>(configuration, nameof(Summaries), schema, errors, o => o.Validate());
         if (errors.Count > 0)
         {
             throw new ConfigurationException(string.Join(Environment.NewLine, errors));

@@ -173,7 +173,7 @@ internal sealed class InboxService : BackgroundService
         var streamId = StreamIdFor(file.FullName);
         var sha256 = HashOf(file.FullName);
         var modifiedUtc = new DateTimeOffset(file.LastWriteTimeUtc, TimeSpan.Zero);
-        if (!_store.TryBegin(file.FullName, file.Length, modifiedUtc, sha256, out var entry))
+        if (!_store.Files.TryBegin(file.FullName, file.Length, modifiedUtc, sha256, out var entry))
         {
             if (entry.State == FileJournalState.Received)
             {
@@ -216,7 +216,7 @@ internal sealed class InboxService : BackgroundService
         {
             var target = UniqueTarget(_options.RejectedFolder, file.Name, sha256);
             File.WriteAllText(target + ".reason.txt", report.Error + Environment.NewLine, Encoding.UTF8);
-            _store.Complete(sha256, file.Length, FileJournalState.Rejected, reason: report.Error);
+            _store.Files.Complete(sha256, file.Length, FileJournalState.Rejected, reason: report.Error);
             MoveFile(file.FullName, target);
             _logger.Rejected(file.FullName, report.Error);
             return;
@@ -244,7 +244,7 @@ internal sealed class InboxService : BackgroundService
         File.WriteAllText(reportPath, JsonSerializer.Serialize(archivedReport, CheckReportJsonContext.Default.CheckReport), Encoding.UTF8);
 
         // Journal first, then move: a stop in between leaves an archived entry whose file is simply moved next time.
-        _store.Complete(sha256, file.Length, FileJournalState.Archived, reportPath: reportPath);
+        _store.Files.Complete(sha256, file.Length, FileJournalState.Archived, reportPath: reportPath);
         MoveFile(file.FullName, archived);
         _logger.Archived(file.FullName, streamId, report.Verdict.ToText(), report.Lines.Count, report.ChannelFaults.Count, archived);
     }

@@ -33,6 +33,11 @@ internal sealed record StoredAlert(
 }
 
 /// <summary>One stream/minute/source row of the ledger, merged over every part delivered for it.</summary>
+/// <param name="MaxUvRms">Largest amplitude of any part, µV RMS; null when none (column max_uv_rms).</param>
+/// <param name="MeanMedianUvRms">
+/// The parts' medians, weighted by their affected seconds, µV RMS: the minute's median when one part covers it (the usual
+/// case), otherwise a weighted mean of medians; null when none (column mean_median_uv_rms, median_uv before schema 4).
+/// </param>
 internal sealed record StoredMinute(
     string Stream,
     DateTimeOffset MinuteUtc,
@@ -40,7 +45,7 @@ internal sealed record StoredMinute(
     double MonitoredSeconds,
     double AffectedSeconds,
     double? MaxUvRms,
-    double? MedianUvRms,
+    double? MeanMedianUvRms,
     IReadOnlyList<string> WorstChannels,
     double? MainsHz,
     int Parts);

@@ -1,3 +1,6 @@
+using System.Globalization;
+using Microsoft.Data.Sqlite;
+
 namespace HumWatch.Host.Store;
 
 /// <summary>
@@ -83,8 +86,49 @@ internal static class StoreSchema
 
         // Version 3: what decided a raised line's explanation, as JSON in the shape of a `check` line's "evidence".
         ["ALTER TABLE alerts ADD COLUMN evidence TEXT"],
+
+        // Version 4: the ledger's amplitude columns say their unit, and the merged one says it is a weighted mean of
+        // the parts' medians (the plain median only when one part covers the minute). RENAME COLUMN keeps every row.
+        [
+            "ALTER TABLE minute_ledger RENAME COLUMN max_uv TO max_uv_rms",
+            "ALTER TABLE minute_ledger RENAME COLUMN median_uv TO mean_median_uv_rms",
+        ],
     ];
 
     /// <summary>Newest schema version this build knows.</summary>
     internal static int LatestVersion => Migrations.Length;
+
+    /// <summary>Runs every migration the file lacks, each in its own transaction; returns the version reached.</summary>
+    /// <exception cref="InvalidOperationException">The file's schema is newer than this build.</exception>
+    internal static int Migrate(SqliteConnection connection, string fullPath, DateTimeOffset nowUtc)
+    {
+        Sql.Execute(connection, "CREATE TABLE IF NOT EXISTS schema_version (version INTEGER NOT NULL PRIMARY KEY, applied_utc_ms INTEGER NOT NULL)");
+        var current = Convert.ToInt32(Sql.Scalar(connection, "SELECT coalesce(max(version), 0) FROM schema_version"), CultureInfo.InvariantCulture);
+        if (current > LatestVersion)
+        {
+            throw new InvalidOperationException(
+                $"Store {fullPath} has schema version {current}, newer than this build knows ({LatestVersion}). Use a newer HumWatch, or point Store:Path at another file.");
+        }
+
+        for (var version = current + 1; version <= LatestVersion; version++)
+        {
+            using var transaction = connection.BeginTransaction();
+            foreach (var statement in Migrations[version - 1])
+            {
+                using var command = Sql.Command(connection, statement, transaction);
+                command.ExecuteNonQuery();
+            }
+
+            using (var record = Sql.Command(connection, "INSERT INTO schema_version (version, applied_utc_ms) VALUES ($version, $utc)", transaction))
+            {
+                Sql.Add(record, "$version", version);
+                Sql.Add(record, "$utc", nowUtc.ToUnixTimeMilliseconds());
+                record.ExecuteNonQuery();
+            }
+
+            transaction.Commit();
+        }
+
+        return LatestVersion;
+    }
 }

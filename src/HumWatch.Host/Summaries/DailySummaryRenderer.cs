@@ -18,7 +18,7 @@ internal sealed record RenderedStream(string Stream, DaySummary Summary, byte[] 
 internal sealed class DailySummaryRenderer
 {
     private readonly SummaryStore _store;
-    private readonly SummariesOptions _options;
+    private readonly SummaryOutputOptions _options;
     private readonly string _siteName;
     private readonly TimeZoneInfo _zone;
 
@@ -26,7 +26,7 @@ internal sealed class DailySummaryRenderer
     /// <param name="options">Validated options.</param>
     /// <param name="siteName">Shown on the day page.</param>
     /// <param name="zone">Site time zone.</param>
-    public DailySummaryRenderer(SummaryStore store, SummariesOptions options, string siteName, TimeZoneInfo zone)
+    public DailySummaryRenderer(SummaryStore store, SummaryOutputOptions options, string siteName, TimeZoneInfo zone)
     {
         ArgumentNullException.ThrowIfNull(store);
         ArgumentNullException.ThrowIfNull(options);

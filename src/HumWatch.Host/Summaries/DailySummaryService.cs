@@ -8,16 +8,16 @@ using Microsoft.Extensions.Options;
 namespace HumWatch.Host.Summaries;
 
 /// <summary>
-/// Writes each stream's daily summary after the site's local midnight (plus <see cref="SummariesOptions.SettleSeconds"/>),
+/// Writes each stream's daily summary after the site's local midnight (plus <see cref="SummaryOutputOptions.SettleSeconds"/>),
 /// publishes it as "summary/&lt;stream&gt;" and logs it. At start it renders days that ended while the service was down
-/// (up to <see cref="SummariesOptions.CatchUpDays"/> back). The store's rendered-day record keeps a day from being written twice.
+/// (up to <see cref="SummaryOutputOptions.CatchUpDays"/> back). The store's rendered-day record keeps a day from being written twice.
 /// </summary>
 internal sealed class DailySummaryService : BackgroundService
 {
     private readonly SummaryStore _store;
     private readonly DailySummaryRenderer _renderer;
     private readonly IMessagePublisher _publisher;
-    private readonly SummariesOptions _options;
+    private readonly SummaryOutputOptions _options;
     private readonly TimeZoneInfo _zone;
     private readonly ILogger<DailySummaryService> _logger;
     private readonly TimeProvider _timeProvider;
@@ -26,7 +26,7 @@ internal sealed class DailySummaryService : BackgroundService
     public DailySummaryService(
         SummaryStore store,
         IMessagePublisher publisher,
-        IOptions<SummariesOptions> options,
+        IOptions<SummaryOutputOptions> options,
         IOptions<SiteOptions> site,
         ILogger<DailySummaryService> logger,
         TimeProvider timeProvider)

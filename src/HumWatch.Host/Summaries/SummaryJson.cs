@@ -35,5 +35,4 @@ internal sealed record MainsPlot(string File, DateTimeOffset StartUtc, int StepS
     Converters = [typeof(FindingKeyJsonConverter), typeof(FindingCategoryJsonConverter), typeof(AlertSeverityJsonConverter), typeof(DayVerdictJsonConverter)])]
 [JsonSerializable(typeof(DaySummary))]
 [JsonSerializable(typeof(PlotData))]
-[JsonSerializable(typeof(Dictionary<string, double[]>))]
 internal sealed partial class SummaryJsonContext : JsonSerializerContext;

@@ -20,9 +20,9 @@ public static class SummaryOnDemand
     {
         ArgumentNullException.ThrowIfNull(zone);
         using var store = new HumWatchStore(storeOptions, TimeProvider.System);
-        using var summaries = new SummaryStore(store, TimeProvider.System);
+        var summaries = new SummaryStore(store);
         var result = new List<StoredDay>();
-        foreach (var day in store.ListDays(zone))
+        foreach (var day in store.Activity.Days(zone))
         {
             var (from, to) = LocalDay.RangeUtc(day, zone);
             result.Add(new StoredDay(day, (int)Math.Round((to - from).TotalHours), summaries.StreamsWithLedger(from, to), summaries.RenderedCount(day, zone.Id)));
@@ -38,13 +38,12 @@ public static class SummaryOnDemand
     /// <param name="zone">Site time zone.</param>
     /// <param name="day">Local date.</param>
     /// <param name="stream">Only this stream; null for all.</param>
-    /// <param name="folder">Output root; null for <see cref="SummariesOptions.Folder"/>.</param>
+    /// <param name="folder">Output root; null for <see cref="SummaryOutputOptions.Folder"/>.</param>
     /// <exception cref="InvalidOperationException">The store cannot be opened.</exception>
-    public static IReadOnlyList<DaySummary> Render(StoreOptions storeOptions, SummariesOptions options, string siteName, TimeZoneInfo zone, DateOnly day, string? stream, string? folder)
+    public static IReadOnlyList<DaySummary> Render(StoreOptions storeOptions, SummaryOutputOptions options, string siteName, TimeZoneInfo zone, DateOnly day, string? stream, string? folder)
     {
         using var store = new HumWatchStore(storeOptions, TimeProvider.System);
-        using var summaries = new SummaryStore(store, TimeProvider.System);
-        var renderer = new DailySummaryRenderer(summaries, options, siteName, zone);
+        var renderer = new DailySummaryRenderer(new SummaryStore(store), options, siteName, zone);
         var rendered = renderer.RenderDay(day, stream, folder, force: true);
         var result = new DaySummary[rendered.Count];
         for (var i = 0; i < result.Length; i++)

@@ -110,7 +110,7 @@ internal static class SummaryCommand
         return ExitCodes.Ok;
     }
 
-    private static int Render(StoreOptions storeOptions, SummariesOptions options, string siteName, TimeZoneInfo zone, DateOnly day, string? stream, string? output, TextWriter stdout, TextWriter stderr)
+    private static int Render(StoreOptions storeOptions, SummaryOutputOptions options, string siteName, TimeZoneInfo zone, DateOnly day, string? stream, string? output, TextWriter stdout, TextWriter stderr)
     {
         var rendered = SummaryOnDemand.Render(storeOptions, options, siteName, zone, day, stream, output);
         if (rendered.Count == 0)

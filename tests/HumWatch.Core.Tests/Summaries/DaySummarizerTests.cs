@@ -27,7 +27,7 @@ public sealed class DaySummarizerTests
         Assert.Equal(DateTimeOffset.Parse(fromUtc, System.Globalization.CultureInfo.InvariantCulture), from);
         Assert.Equal(DateTimeOffset.Parse(toUtc, System.Globalization.CultureInfo.InvariantCulture), to);
 
-        var summary = DaySummarizer.Summarize("room-a", DateOnly.Parse(day, System.Globalization.CultureInfo.InvariantCulture), zone, [], [], null, new SummaryOptions());
+        var summary = DaySummarizer.Summarize("room-a", DateOnly.Parse(day, System.Globalization.CultureInfo.InvariantCulture), zone, [], [], null, new DaySummaryRules());
         Assert.Equal(hours, summary.HoursInDay);
         Assert.Equal(hours, summary.Timeline.HourStartsLocal.Count);
         Assert.Equal(hours * 60, summary.Mains.Hz.Count);
@@ -38,7 +38,7 @@ public sealed class DaySummarizerTests
     public void The_hour_after_the_spring_gap_is_labelled_03_00_summer_time()
     {
         // IANA tz database: Europe/Berlin jumps from 02:00 CET to 03:00 CEST on 2026-03-29.
-        var summary = DaySummarizer.Summarize("room-a", new DateOnly(2026, 3, 29), Berlin, [], [], null, new SummaryOptions());
+        var summary = DaySummarizer.Summarize("room-a", new DateOnly(2026, 3, 29), Berlin, [], [], null, new DaySummaryRules());
         Assert.Equal("2026-03-29T01:00+01:00", summary.Timeline.HourStartsLocal[1]);
         Assert.Equal("2026-03-29T03:00+02:00", summary.Timeline.HourStartsLocal[2]);
     }
@@ -62,7 +62,7 @@ public sealed class DaySummarizerTests
             }
         }
 
-        var summary = DaySummarizer.Summarize("room-a", day, Berlin, rows, [], null, new SummaryOptions());
+        var summary = DaySummarizer.Summarize("room-a", day, Berlin, rows, [], null, new DaySummaryRules());
 
         Assert.Equal(25, summary.HoursMonitored, 6);
         var display = Assert.Single(summary.Sources);
@@ -109,7 +109,7 @@ public sealed class DaySummarizerTests
             rows.Add(new LedgerMinute(from.AddMinutes(m), FindingKey.Mains(3), 60, 60, 2, 2, ["Cz"], 60.0));
         }
 
-        var summary = DaySummarizer.Summarize("room-b", day, NewYork, rows, [], null, new SummaryOptions { EpisodeBridgeMinutes = 1 });
+        var summary = DaySummarizer.Summarize("room-b", day, NewYork, rows, [], null, new DaySummaryRules { EpisodeBridgeMinutes = 1 });
         var mains = Assert.Single(summary.Sources);
         Assert.Equal(2, mains.EpisodeCount);
         Assert.Equal(6, mains.Episodes[0].SpanMinutes); // 10–16 with minute 13 bridged
@@ -133,7 +133,7 @@ public sealed class DaySummarizerTests
             rows.Add(new LedgerMinute(from.AddMinutes(m), FindingKey.ChannelFault("Fp1", ChannelFaultKind.Flat), 60, m < 15 ? 60 : 0, null, null, ["Fp1"], 50.0));
         }
 
-        var summary = DaySummarizer.Summarize("room-c", day, Berlin, rows, [], null, new SummaryOptions());
+        var summary = DaySummarizer.Summarize("room-c", day, Berlin, rows, [], null, new DaySummaryRules());
         var mains = summary.Categories.Single(c => c.Category == FindingCategory.Mains);
         Assert.Equal(300, mains.AffectedMinutes, 6); // not 450
         Assert.Equal(DayVerdict.Fail, mains.Verdict); // ≥ 240 min
@@ -158,7 +158,7 @@ public sealed class DaySummarizerTests
             new(from.AddHours(4), FindingKey.Unidentified(37.25), AlertEventKind.Raised, AlertSeverity.Severe, 37.25),
             new(to, FindingKey.Mains(1), AlertEventKind.Raised, AlertSeverity.Severe, 60), // next day: ignored
         ];
-        var summary = DaySummarizer.Summarize("room-a", day, NewYork, [], alerts, null, new SummaryOptions());
+        var summary = DaySummarizer.Summarize("room-a", day, NewYork, [], alerts, null, new DaySummaryRules());
         Assert.Equal(2, summary.Alerts.Raised);
         Assert.Equal(1, summary.Alerts.Cleared);
         Assert.Equal(1, summary.Alerts.SeverityChanges);
@@ -172,7 +172,7 @@ public sealed class DaySummarizerTests
     [Fact]
     public void Invalid_limits_are_reported_with_their_configuration_keys()
     {
-        var options = new SummaryOptions
+        var options = new DaySummaryRules
         {
             Mains = new DailyLimit { WarnMinutes = 300, FailMinutes = 100 },
             EpisodeMinuteMinSeconds = 0,
@@ -217,7 +217,7 @@ public sealed class DaySummarizerTests
             }
         }
 
-        var summary = DaySummarizer.Summarize("room-d", day, Berlin, rows, [], null, new SummaryOptions());
+        var summary = DaySummarizer.Summarize("room-d", day, Berlin, rows, [], null, new DaySummaryRules());
 
         Assert.Equal(4, summary.Sources.Count);
         var tone = Assert.Single(summary.Sources, s => s.Category == FindingCategory.SiteTone);

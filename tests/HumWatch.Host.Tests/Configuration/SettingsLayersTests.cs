@@ -45,7 +45,7 @@ public sealed class SettingsLayersTests : IDisposable
         var bound = services.GetRequiredService<BoundSettings>();
         var store = services.GetRequiredService<IOptions<StoreOptions>>().Value;
         var inbox = services.GetRequiredService<IOptions<InboxOptions>>().Value;
-        var summaries = services.GetRequiredService<IOptions<SummariesOptions>>().Value;
+        var summaries = services.GetRequiredService<IOptions<SummaryOutputOptions>>().Value;
         string[] actual = [store.Path, bound.Logs.Folder, inbox.Folder, inbox.ArchiveFolder, inbox.RejectedFolder, summaries.Folder];
         Assert.Equal(Expected(), actual);
 

@@ -42,7 +42,7 @@ public sealed class ServiceEndToEndTests
         Assert.InRange(cleared.Body.GetProperty("streamSeconds").GetDouble(), 40, 70);
 
         // Committed to the store before it was published.
-        var stored = service.Store.AlertsBetween(Rooms.Start, Rooms.Start.AddHours(1), "room-e2e");
+        var stored = service.Store.Alerts.Between(Rooms.Start, Rooms.Start.AddHours(1), "room-e2e");
         Assert.Contains(stored, a => a.Event == AlertEventKind.Raised && a.Key.ToString() == Text(raised.Body, "key"));
         Assert.Contains(stored, a => a.Event == AlertEventKind.Cleared && a.Key.ToString() == Text(raised.Body, "key"));
     }
@@ -108,7 +108,7 @@ public sealed class ServiceEndToEndTests
         Assert.Equal("fail", Text(report.RootElement, "verdict"));
         var line = report.RootElement.GetProperty("lines").EnumerateArray().First(l => Text(l, "source") == "mains" && l.GetProperty("harmonic").GetInt32() == 1);
         Assert.Equal(50.0, line.GetProperty("frequencyHz").GetDouble(), 0.1);
-        var alerts = service.Store.AlertsBetween(Rooms.Start.AddYears(-30), Rooms.Start.AddYears(30), "lab-3");
+        var alerts = service.Store.Alerts.Between(Rooms.Start.AddYears(-30), Rooms.Start.AddYears(30), "lab-3");
         Assert.Contains(alerts, a => a.Event == AlertEventKind.Raised && a.Kind == FindingCategory.Mains);
         Assert.Contains(alerts, a => a.Event == AlertEventKind.Cleared && a.Reason == AlertClearReason.StreamEnded);
     }
@@ -156,7 +156,7 @@ public sealed class ServiceEndToEndTests
         }
 
         await using var second = await ServiceUnderTest.StartAsync(temp.Path);
-        var before = second.Store.AlertsBetween(Rooms.Start.AddYears(-30), Rooms.Start.AddYears(30));
+        var before = second.Store.Alerts.Between(Rooms.Start.AddYears(-30), Rooms.Start.AddYears(30));
 
         // Nothing raised before the restart is lost.
         Assert.Contains(before, a => a.Stream == "room-r" && a.Event == AlertEventKind.Raised && a.Key.ToString() == firstKey);
@@ -178,7 +178,7 @@ public sealed class ServiceEndToEndTests
             await messages.WaitForAsync((t, b) => t == "alert/room-r" && Text(b, "source") == "mains", "the alert after the restart");
         }
 
-        var after = second.Store.AlertsBetween(Rooms.Start.AddYears(-30), Rooms.Start.AddYears(30));
+        var after = second.Store.Alerts.Between(Rooms.Start.AddYears(-30), Rooms.Start.AddYears(30));
         Assert.Equal(fileRaises, after.Count(a => a.Stream == "ward-7" && a.Event == AlertEventKind.Raised));
     }
 

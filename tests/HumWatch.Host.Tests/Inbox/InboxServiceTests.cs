@@ -67,7 +67,7 @@ public sealed class InboxServiceTests : IDisposable
         Assert.Equal([RecordingStartUtc, RecordingStartUtc.AddMinutes(1), RecordingStartUtc.AddMinutes(2)], minutes.Select(r => r.MinuteUtc));
         Assert.Equal(150, minutes.Sum(r => r.MonitoredSeconds), 9); // 150 one-second records, no gap
         Assert.All(filed.Outputs.StoredRows, r => Assert.Equal($"file:{sha256}:0", r.SessionId));
-        Assert.Equal(FileJournalState.Archived, store.FindFile(sha256, new FileInfo(archived).Length)?.State);
+        Assert.Equal(FileJournalState.Archived, store.Files.Find(sha256, new FileInfo(archived).Length)?.State);
     }
 
     [Fact]

@@ -48,7 +48,7 @@ public sealed class PooledChunkOwnershipTests
         var raised = await messages.WaitForAsync((t, b) => t == "alert/pool-b" && b.TryGetProperty("source", out var s) && s.GetString() == "mains", "the mains alert of pool-b");
 
         Assert.InRange(raised.Body.GetProperty("amplitudeUvRms").GetDouble(), 8 * 0.85, 8 * 1.15); // simulated 8 µV RMS on every channel
-        var alerts = service.Store.AlertsBetween(Rooms.Start.AddYears(-30), Rooms.Start.AddYears(30));
+        var alerts = service.Store.Alerts.Between(Rooms.Start.AddYears(-30), Rooms.Start.AddYears(30));
         Assert.DoesNotContain(alerts, a => a.Key.Category == FindingCategory.ChannelFault); // NaN poison would show as non-finite samples
         Assert.True(pool.AllocatedCount < roundChunks, $"{pool.AllocatedCount} arrays allocated for {roundChunks} chunks: nothing was reused");
         Assert.Equal(0, counters.Snapshot().Sum(c => c.Dropped));

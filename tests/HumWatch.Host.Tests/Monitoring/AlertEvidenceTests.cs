@@ -48,8 +48,8 @@ public sealed class AlertEvidenceTests
         using var temp = new HumWatch.Host.Tests.Ingest.Support.TempFolder();
         using (var store = new HumWatch.Host.Store.HumWatchStore(new HumWatch.Host.Store.StoreOptions { Path = Path.Combine(temp.Path, "store.db") }, harness.Time))
         {
-            store.AppendAlert(display);
-            var stored = Assert.Single(store.AlertsBetween(display.Utc.AddMinutes(-1), display.Utc.AddMinutes(1)));
+            store.Alerts.AppendAlert(display);
+            var stored = Assert.Single(store.Alerts.Between(display.Utc.AddMinutes(-1), display.Utc.AddMinutes(1)));
             using var storedEvidence = JsonDocument.Parse(stored.EvidenceJson!);
             Assert.Equal(evidence.GetProperty("gridLock").GetString(), storedEvidence.RootElement.GetProperty("gridLock").GetString());
         }

@@ -71,12 +71,12 @@ public sealed class AlertDispatcherTests : IDisposable
     {
         using var store = new HumWatchStore(new StoreOptions { Path = _temp.File("a.db") }, new FakeTimeProvider(Some.Utc));
         var logger = new RecordingLogger<AlertDispatcher>();
-        var dispatcher = new AlertDispatcher(store, new ThrowingPublisher(), logger);
+        var dispatcher = new AlertDispatcher(store.Alerts, new ThrowingPublisher(), logger);
 
         var outcome = dispatcher.Dispatch(Some.Raised());
 
         Assert.Equal((true, false), outcome);
-        Assert.Single(store.AlertsBetween(Some.Utc.AddMinutes(-1), Some.Utc.AddMinutes(1)));
+        Assert.Single(store.Alerts.Between(Some.Utc.AddMinutes(-1), Some.Utc.AddMinutes(1)));
         Assert.Contains(logger.Entries, e => e.EventId.Id == 3000 && e.Level == LogLevel.Warning);
         Assert.Contains(logger.Entries, e => e.EventId.Id == 3013 && e.Exception is InvalidOperationException);
     }

@@ -45,13 +45,13 @@ public sealed class HumWatchStoreTests : IDisposable
     {
         using (var store = Open())
         {
-            store.AppendAlert(Some.Raised());
+            store.Alerts.AppendAlert(Some.Raised());
         }
 
         using (var store = Open())
         {
             Assert.Equal(StoreSchema.LatestVersion, store.SchemaVersion);
-            Assert.Single(store.AlertsBetween(Some.Utc.AddHours(-1), Some.Utc.AddHours(1)));
+            Assert.Single(store.Alerts.Between(Some.Utc.AddHours(-1), Some.Utc.AddHours(1)));
         }
 
         Assert.Equal((long)StoreSchema.LatestVersion, RawScalar("SELECT count(*) FROM schema_version"));
@@ -81,14 +81,14 @@ public sealed class HumWatchStoreTests : IDisposable
     public void Alert_events_round_trip_and_are_found_by_local_day()
     {
         using var store = Open();
-        store.AppendAlert(Some.Raised());
-        store.AppendAlert(Some.SeverityChanged());
-        store.AppendAlert(Some.Cleared());
-        store.AppendAlert(Some.Raised(utc: Some.Utc.AddDays(1)));
+        store.Alerts.AppendAlert(Some.Raised());
+        store.Alerts.AppendAlert(Some.SeverityChanged());
+        store.Alerts.AppendAlert(Some.Cleared());
+        store.Alerts.AppendAlert(Some.Raised(utc: Some.Utc.AddDays(1)));
 
         // A fixed +01:00 zone: 2026-03-02 local is [2026-03-01T23:00Z, 2026-03-02T23:00Z).
         var zone = TimeZoneInfo.CreateCustomTimeZone("Test+1", TimeSpan.FromHours(1), "Test+1", "Test+1");
-        var day = store.AlertsForDay(new DateOnly(2026, 3, 2), zone);
+        var day = store.Alerts.ForDay(new DateOnly(2026, 3, 2), zone);
         Assert.Equal([AlertEventKind.Raised, AlertEventKind.SeverityChanged, AlertEventKind.Cleared], day.Select(a => a.Event));
 
         var raised = day[0];
@@ -108,8 +108,8 @@ public sealed class HumWatchStoreTests : IDisposable
         Assert.Equal(22, cleared.PeakUvRms);
         Assert.Equal(AlertSeverity.Severe, cleared.PeakSeverity);
 
-        Assert.Equal([new DateOnly(2026, 3, 2), new DateOnly(2026, 3, 3)], store.ListDays(zone));
-        Assert.Equal(["room-a"], store.ListStreams());
+        Assert.Equal([new DateOnly(2026, 3, 2), new DateOnly(2026, 3, 3)], store.Activity.Days(zone));
+        Assert.Equal(["room-a"], store.Activity.Streams());
     }
 
     [Fact]
@@ -118,8 +118,8 @@ public sealed class HumWatchStoreTests : IDisposable
         using (var store = Open())
         {
             var tone = new Core.Attribution.SourceMatch(Core.Attribution.SourceKind.SiteTone, "pump room drive", 16.7, 1, false, 16.7, 0);
-            store.AppendAlert(Some.Raised() with { Key = FindingKey.ForLine(tone, 16.7), Source = tone });
-            store.AddMinuteRows([Some.Row("s", 1, 60, 60, 3, 2, key: FindingKey.SiteTone("pump room drive", 1))]);
+            store.Alerts.AppendAlert(Some.Raised() with { Key = FindingKey.ForLine(tone, 16.7), Source = tone });
+            store.Ledger.AddMinuteRows([Some.Row("s", 1, 60, 60, 3, 2, key: FindingKey.SiteTone("pump room drive", 1))]);
         }
 
         // docs/store.md: kind is mains/display/site-tone/unidentified/fault; keys as in docs/messages.md.
@@ -134,8 +134,8 @@ public sealed class HumWatchStoreTests : IDisposable
     [Fact]
     public void Rows_a_store_holds_in_the_older_site_tone_spelling_read_back_as_site_tones()
     {
-        Open().Dispose();
-        // Rows as earlier builds wrote them: kind "site", keys "site:<name>/h<n>".
+        // Rows as earlier builds wrote them: kind "site", keys "site:<name>/h<n>", in a schema-3 file (ledger columns max_uv, median_uv).
+        OlderStoreFile.Create(_temp.File("store.db"), version: 3);
         RawScalar("""
             INSERT INTO alerts (stream, key, kind, event, severity, source_name, harmonic, aliased, worst_channels, stream_seconds, utc_ms, peak_severity, reason)
             VALUES ('room-a', 'site:pump room drive/h1', 'site', 'cleared', 'minor', 'pump room drive', 1, 0, '["Cz"]', 40, 1772442930000, 'marked', 'stream ended')
@@ -146,14 +146,14 @@ public sealed class HumWatchStoreTests : IDisposable
             """);
 
         using var store = Open();
-        var alert = Assert.Single(store.AlertsBetween(Some.Utc.AddMinutes(-1), Some.Utc.AddMinutes(1)));
+        var alert = Assert.Single(store.Alerts.Between(Some.Utc.AddMinutes(-1), Some.Utc.AddMinutes(1)));
         Assert.Equal(FindingKey.SiteTone("pump room drive", 1), alert.Key);
         Assert.Equal(FindingCategory.SiteTone, alert.Kind);
         Assert.Equal(AlertEventKind.Cleared, alert.Event);
         Assert.Equal(AlertSeverity.Minor, alert.Severity);
         Assert.Equal(AlertSeverity.Marked, alert.PeakSeverity);
         Assert.Equal(AlertClearReason.StreamEnded, alert.Reason);
-        var row = Assert.Single(store.LedgerRows("room-a", Some.Utc.AddMinutes(-1), Some.Utc.AddMinutes(1)));
+        var row = Assert.Single(store.Ledger.Rows("room-a", Some.Utc.AddMinutes(-1), Some.Utc.AddMinutes(1)));
         Assert.Equal(FindingKey.SiteTone("pump room drive", 1), row.SourceKey);
         Assert.Equal(45, row.AffectedSeconds);
     }
@@ -164,8 +164,8 @@ public sealed class HumWatchStoreTests : IDisposable
         using var store = Open();
         var fault = new AlertCleared("room-a", FindingKey.ChannelFault("Cz", Core.Faults.ChannelFaultKind.Flat), AlertCategory.ChannelFault, Core.Attribution.SourceMatch.None,
             Core.Faults.ChannelFaultKind.Flat, 20, Some.Utc, double.NaN, AlertClearReason.StreamEnded, 12, double.NaN, AlertSeverity.Marked, AlertSeverity.Marked);
-        store.AppendAlert(fault);
-        var stored = Assert.Single(store.AlertsBetween(Some.Utc, Some.Utc.AddSeconds(1)));
+        store.Alerts.AppendAlert(fault);
+        var stored = Assert.Single(store.Alerts.Between(Some.Utc, Some.Utc.AddSeconds(1)));
         Assert.Equal(FindingCategory.ChannelFault, stored.Kind);
         Assert.Null(stored.FrequencyHz);
         Assert.Null(stored.PeakUvRms);
@@ -176,14 +176,14 @@ public sealed class HumWatchStoreTests : IDisposable
     public void Ledger_rows_of_two_sessions_add_seconds_and_keep_the_maximum()
     {
         using var store = Open();
-        Assert.Equal(1, store.AddMinuteRows([Some.Row("session-a", 1, 30, 20, maxUvRms: 8, medianUvRms: 4, mainsHz: 50.00)]));
-        Assert.Equal(1, store.AddMinuteRows([Some.Row("session-b", 1, 30, 10, maxUvRms: 5, medianUvRms: 1, mainsHz: 50.02)]));
+        Assert.Equal(1, store.Ledger.AddMinuteRows([Some.Row("session-a", 1, 30, 20, maxUvRms: 8, medianUvRms: 4, mainsHz: 50.00)]));
+        Assert.Equal(1, store.Ledger.AddMinuteRows([Some.Row("session-b", 1, 30, 10, maxUvRms: 5, medianUvRms: 1, mainsHz: 50.02)]));
 
-        var row = Assert.Single(store.LedgerRows("room-a", Some.Utc.AddMinutes(-5), Some.Utc.AddMinutes(5)));
+        var row = Assert.Single(store.Ledger.Rows("room-a", Some.Utc.AddMinutes(-5), Some.Utc.AddMinutes(5)));
         Assert.Equal(60, row.MonitoredSeconds, 9);
         Assert.Equal(30, row.AffectedSeconds, 9);
         Assert.Equal(8, row.MaxUvRms);
-        Assert.Equal(3, row.MedianUvRms!.Value, 9); // affected-time weighted: (4·20 + 1·10) / 30
+        Assert.Equal(3, row.MeanMedianUvRms!.Value, 9); // affected-time weighted: (4·20 + 1·10) / 30
         Assert.Equal(50.01, row.MainsHz!.Value, 9); // monitored-time weighted: (50.00·30 + 50.02·30) / 60
         Assert.Equal(2, row.Parts);
     }
@@ -194,15 +194,15 @@ public sealed class HumWatchStoreTests : IDisposable
         using (var store = Open())
         {
             MinuteRow[] rows = [Some.Row("file-ab12", 1, 60, 60, 3, 2), Some.Row("file-ab12", 2, 60, 0, double.NaN, double.NaN, key: MinuteLedger.AllSourcesKey)];
-            Assert.Equal(2, store.AddMinuteRows(rows));
-            Assert.Equal(0, store.AddMinuteRows(rows));
+            Assert.Equal(2, store.Ledger.AddMinuteRows(rows));
+            Assert.Equal(0, store.Ledger.AddMinuteRows(rows));
         }
 
         // After a restart the same file is processed again: same session and sequence numbers.
         using (var store = Open())
         {
-            Assert.Equal(0, store.AddMinuteRows([Some.Row("file-ab12", 1, 60, 60, 3, 2)]));
-            var rows = store.LedgerRows("room-a", Some.Utc.AddMinutes(-5), Some.Utc.AddMinutes(5));
+            Assert.Equal(0, store.Ledger.AddMinuteRows([Some.Row("file-ab12", 1, 60, 60, 3, 2)]));
+            var rows = store.Ledger.Rows("room-a", Some.Utc.AddMinutes(-5), Some.Utc.AddMinutes(5));
             Assert.Equal(2, rows.Count);
             Assert.Equal(60, rows.Single(r => r.SourceKey.ToString() == "mains/h1").MonitoredSeconds, 9);
             Assert.Null(rows.Single(r => r.SourceKey == MinuteLedger.AllSourcesKey).MaxUvRms);
@@ -213,11 +213,11 @@ public sealed class HumWatchStoreTests : IDisposable
     public void Ledger_query_selects_by_stream_and_utc_range()
     {
         using var store = Open();
-        store.AddMinuteRows([Some.Row("s", 1, 60, 0, 1, 1), Some.Row("s", 2, 60, 0, 1, 1, stream: "room-b")]);
+        store.Ledger.AddMinuteRows([Some.Row("s", 1, 60, 0, 1, 1), Some.Row("s", 2, 60, 0, 1, 1, stream: "room-b")]);
         var minute = new DateTimeOffset(2026, 3, 2, 9, 15, 0, TimeSpan.Zero);
-        Assert.Single(store.LedgerRows("room-a", minute, minute.AddMinutes(1)));
-        Assert.Empty(store.LedgerRows("room-a", minute.AddMinutes(1), minute.AddMinutes(2)));
-        Assert.Empty(store.LedgerRows("room-a", minute.AddMinutes(-1), minute));
+        Assert.Single(store.Ledger.Rows("room-a", minute, minute.AddMinutes(1)));
+        Assert.Empty(store.Ledger.Rows("room-a", minute.AddMinutes(1), minute.AddMinutes(2)));
+        Assert.Empty(store.Ledger.Rows("room-a", minute.AddMinutes(-1), minute));
     }
 
     [Fact]
@@ -227,13 +227,13 @@ public sealed class HumWatchStoreTests : IDisposable
         var mtime = new DateTimeOffset(2026, 3, 2, 8, 0, 0, TimeSpan.Zero);
         using (var store = Open())
         {
-            Assert.True(store.TryBegin("/in/a.edf", 1234, mtime, sha, out var first));
+            Assert.True(store.Files.TryBegin("/in/a.edf", 1234, mtime, sha, out var first));
             Assert.Equal(FileJournalState.Received, first.State);
             Assert.Equal(_time.GetUtcNow(), first.Utc);
             Assert.Equal(sha.ToLowerInvariant(), first.Sha256);
 
             // Same content again while the first is in progress (e.g. copied under another name).
-            Assert.False(store.TryBegin("/in/copy-of-a.edf", 1234, mtime, sha, out var busy));
+            Assert.False(store.Files.TryBegin("/in/copy-of-a.edf", 1234, mtime, sha, out var busy));
             Assert.Equal(FileJournalState.Received, busy.State);
         }
 
@@ -241,9 +241,9 @@ public sealed class HumWatchStoreTests : IDisposable
         _time.Advance(TimeSpan.FromMinutes(3));
         using (var store = Open())
         {
-            Assert.True(store.TryBegin("/in/a.edf", 1234, mtime, sha, out var retry));
+            Assert.True(store.Files.TryBegin("/in/a.edf", 1234, mtime, sha, out var retry));
             Assert.Equal(2, retry.Attempts);
-            var done = store.Complete(sha, 1234, FileJournalState.Archived, "/reports/a.json");
+            var done = store.Files.Complete(sha, 1234, FileJournalState.Archived, "/reports/a.json");
             Assert.Equal(FileJournalState.Archived, done.State);
             Assert.Equal("/reports/a.json", done.ReportPath);
             Assert.Equal(_time.GetUtcNow(), done.Utc);
@@ -251,14 +251,14 @@ public sealed class HumWatchStoreTests : IDisposable
 
         using (var store = Open())
         {
-            Assert.False(store.TryBegin("/in/a-again.edf", 1234, mtime, sha, out var again));
+            Assert.False(store.Files.TryBegin("/in/a-again.edf", 1234, mtime, sha, out var again));
             Assert.Equal(FileJournalState.Archived, again.State);
-            Assert.Throws<InvalidOperationException>(() => store.Complete(sha, 1234, FileJournalState.Rejected));
+            Assert.Throws<InvalidOperationException>(() => store.Files.Complete(sha, 1234, FileJournalState.Rejected));
 
-            Assert.True(store.TryBegin("/in/b.edf", 10, mtime, "00ff", out _));
-            var rejected = store.Complete("00FF", 10, FileJournalState.Rejected, reason: "not an EDF header");
+            Assert.True(store.Files.TryBegin("/in/b.edf", 10, mtime, "00ff", out _));
+            var rejected = store.Files.Complete("00FF", 10, FileJournalState.Rejected, reason: "not an EDF header");
             Assert.Equal("not an EDF header", rejected.Reason);
-            Assert.False(store.TryBegin("/in/b.edf", 10, mtime, "00ff", out _));
+            Assert.False(store.Files.TryBegin("/in/b.edf", 10, mtime, "00ff", out _));
         }
     }
 
@@ -278,7 +278,7 @@ public sealed class HumWatchStoreTests : IDisposable
         var wins = 0;
         Parallel.For(0, 8, i =>
         {
-            if (store.TryBegin("/in/c.edf", 99, Some.Utc, "abcdef", out _))
+            if (store.Files.TryBegin("/in/c.edf", 99, Some.Utc, "abcdef", out _))
             {
                 Interlocked.Increment(ref wins);
             }
@@ -293,12 +293,12 @@ public sealed class HumWatchStoreTests : IDisposable
         using var store = Open();
         Parallel.For(0, 40, i =>
         {
-            store.AppendAlert(Some.Raised(stream: $"room-{i % 4}"));
-            store.AddMinuteRows([Some.Row($"session-{i}", 1, 1, 1, i, i)]);
+            store.Alerts.AppendAlert(Some.Raised(stream: $"room-{i % 4}"));
+            store.Ledger.AddMinuteRows([Some.Row($"session-{i}", 1, 1, 1, i, i)]);
         });
 
-        Assert.Equal(40, store.AlertsBetween(Some.Utc, Some.Utc.AddSeconds(1)).Count);
-        var row = Assert.Single(store.LedgerRows("room-a", Some.Utc.AddMinutes(-1), Some.Utc.AddMinutes(1)));
+        Assert.Equal(40, store.Alerts.Between(Some.Utc, Some.Utc.AddSeconds(1)).Count);
+        var row = Assert.Single(store.Ledger.Rows("room-a", Some.Utc.AddMinutes(-1), Some.Utc.AddMinutes(1)));
         Assert.Equal(40, row.MonitoredSeconds, 9);
         Assert.Equal(39, row.MaxUvRms);
         Assert.Equal(40, row.Parts);

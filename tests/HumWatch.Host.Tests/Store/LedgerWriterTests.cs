@@ -33,7 +33,7 @@ public sealed class LedgerWriterTests : IDisposable
     {
         using var store = new HumWatchStore(new StoreOptions { Path = _temp.File("l.db") }, new FakeTimeProvider(Some.Utc));
         var logger = new RecordingLogger<LedgerWriter>();
-        var writer = new LedgerWriter(new FlakyLedgerStore(store, failures: 2), logger);
+        var writer = new LedgerWriter(new FlakyLedgerStore(store.Ledger, failures: 2), logger);
 
         writer.OnMinuteRow(Some.Row("s1", 1, 20, 10, 3, 2));
         Assert.False(writer.Flush());
@@ -45,7 +45,7 @@ public sealed class LedgerWriterTests : IDisposable
         Assert.Equal(0, writer.PendingCount);
         Assert.True(writer.Flush());
 
-        var rows = store.LedgerRows("room-a", Some.Utc.AddMinutes(-1), Some.Utc.AddMinutes(1));
+        var rows = store.Ledger.Rows("room-a", Some.Utc.AddMinutes(-1), Some.Utc.AddMinutes(1));
         Assert.Equal(2, rows.Count);
         Assert.All(rows, r => Assert.Equal(20, r.MonitoredSeconds, 9));
         Assert.Equal(2, logger.Entries.Count(e => e.EventId.Id == 3100));

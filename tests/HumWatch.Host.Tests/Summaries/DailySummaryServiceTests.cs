@@ -26,7 +26,7 @@ public sealed class DailySummaryServiceTests
         Assert.Equal(hours, (toUtc - fromUtc).TotalHours);
 
         using var h = new SummaryHarness(zoneId, fromUtc.AddHours(12));
-        h.Store.AddMinuteRows(SummaryHarness.Rows("room-a", "s1", fromUtc, toUtc, seed: 7));
+        h.Store.Ledger.AddMinuteRows(SummaryHarness.Rows("room-a", "s1", fromUtc, toUtc, seed: 7));
         var service = h.Service();
 
         // During the day, and until the settle time after midnight has passed, nothing is due.
@@ -65,8 +65,8 @@ public sealed class DailySummaryServiceTests
         var (d1From, d1To) = LocalDay.RangeUtc(new DateOnly(2026, 3, 28), zone);
         var (d2From, d2To) = LocalDay.RangeUtc(new DateOnly(2026, 3, 29), zone);
         using var h = new SummaryHarness("Europe/Berlin", d2To.AddDays(2));
-        h.Store.AddMinuteRows(SummaryHarness.Rows("room-a", "s1", d1From, d1To, seed: 1));
-        h.Store.AddMinuteRows(SummaryHarness.Rows("room-b", "s2", d2From, d2To.AddHours(-3), seed: 2));
+        h.Store.Ledger.AddMinuteRows(SummaryHarness.Rows("room-a", "s1", d1From, d1To, seed: 1));
+        h.Store.Ledger.AddMinuteRows(SummaryHarness.Rows("room-b", "s2", d2From, d2To.AddHours(-3), seed: 2));
 
         var written = h.Service().RenderDueDays();
         Assert.Equal(["2026-03-28/room-a", "2026-03-29/room-b"], written.Select(w => $"{w.Summary.Day}/{w.Stream}"));
@@ -84,7 +84,7 @@ public sealed class DailySummaryServiceTests
         var zone = TimeZoneInfo.FindSystemTimeZoneById("America/New_York");
         var (from, to) = LocalDay.RangeUtc(new DateOnly(2026, 11, 1), zone);
         using var h = new SummaryHarness("America/New_York", from.AddHours(20));
-        h.Store.AddMinuteRows(SummaryHarness.Rows("room-a", "s1", from, to, seed: 3));
+        h.Store.Ledger.AddMinuteRows(SummaryHarness.Rows("room-a", "s1", from, to, seed: 3));
         var service = h.Service();
         await service.StartAsync(CancellationToken.None);
         try
@@ -110,7 +110,7 @@ public sealed class DailySummaryServiceTests
     [Fact]
     public void Invalid_summary_options_name_their_keys()
     {
-        var options = new SummariesOptions { PlotWidthPx = 10, CatchUpDays = -1, Day = new SummaryOptions { Display = new DailyLimit { WarnMinutes = -5 } } };
+        var options = new SummaryOutputOptions { PlotWidthPx = 10, CatchUpDays = -1, Day = new DaySummaryRules { Display = new DailyLimit { WarnMinutes = -5 } } };
         var errors = options.Validate();
         Assert.Contains(errors, e => e.StartsWith("Summaries:PlotWidthPx", StringComparison.Ordinal));
         Assert.Contains(errors, e => e.StartsWith("Summaries:CatchUpDays", StringComparison.Ordinal));

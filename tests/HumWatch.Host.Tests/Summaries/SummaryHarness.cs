@@ -20,7 +20,7 @@ internal sealed class SummaryHarness : IDisposable
         Directory.CreateDirectory(Root);
         Time = new FakeTimeProvider(startUtc);
         Zone = TimeZoneInfo.FindSystemTimeZoneById(zoneId);
-        Options = new SummariesOptions { Folder = Path.Combine(Root, "summaries"), PlotWidthPx = 640, PlotHeightPx = 320, SettleSeconds = 120 };
+        Options = new SummaryOutputOptions { Folder = Path.Combine(Root, "summaries"), PlotWidthPx = 640, PlotHeightPx = 320, SettleSeconds = 120 };
         Open();
     }
 
@@ -30,7 +30,7 @@ internal sealed class SummaryHarness : IDisposable
 
     public TimeZoneInfo Zone { get; }
 
-    public SummariesOptions Options { get; }
+    public SummaryOutputOptions Options { get; }
 
     public HumWatchStore Store { get; private set; } = null!;
 
@@ -43,13 +43,12 @@ internal sealed class SummaryHarness : IDisposable
     public void Open()
     {
         Store = new HumWatchStore(new StoreOptions { Path = DbPath }, Time);
-        Summaries = new SummaryStore(Store, Time);
+        Summaries = new SummaryStore(Store);
     }
 
     /// <summary>Closes and reopens the store, as a process restart does.</summary>
     public void Reopen()
     {
-        Summaries.Dispose();
         Store.Dispose();
         Open();
     }
@@ -63,7 +62,7 @@ internal sealed class SummaryHarness : IDisposable
         Time);
 
     public DailySummaryRenderer Renderer(string? folder = null) =>
-        new(Summaries, folder is null ? Options : new SummariesOptions { Folder = folder, PlotWidthPx = Options.PlotWidthPx, PlotHeightPx = Options.PlotHeightPx }, "Test site", Zone);
+        new(Summaries, folder is null ? Options : new SummaryOutputOptions { Folder = folder, PlotWidthPx = Options.PlotWidthPx, PlotHeightPx = Options.PlotHeightPx }, "Test site", Zone);
 
     /// <summary>Seeded, made-up minute rows of one stream over [fromUtc, toUtc): mains all day, a display line in the afternoon.</summary>
     public static List<MinuteRow> Rows(string stream, string session, DateTimeOffset fromUtc, DateTimeOffset toUtc, int seed)
@@ -96,7 +95,6 @@ internal sealed class SummaryHarness : IDisposable
 
     public void Dispose()
     {
-        Summaries.Dispose();
         Store.Dispose();
         try
         {

@@ -30,17 +30,17 @@ public sealed class SummaryOutputTests
         var now = to.AddHours(1);
 
         using var once = new SummaryHarness("Europe/Berlin", now);
-        once.Store.AddMinuteRows(SummaryHarness.Rows("room-a", "live-1", from, to, seed: 11));
+        once.Store.Ledger.AddMinuteRows(SummaryHarness.Rows("room-a", "live-1", from, to, seed: 11));
         var expected = once.Renderer().RenderDay(Day).Single().Json;
 
         using var halves = new SummaryHarness("Europe/Berlin", now);
         var first = SummaryHarness.Rows("room-a", "live-1", from, split, seed: 11);
-        halves.Store.AddMinuteRows(first);
+        halves.Store.Ledger.AddMinuteRows(first);
         halves.Reopen();
         // After the restart: a re-delivery of the last rows of the first session adds nothing, then a new session continues.
-        halves.Store.AddMinuteRows(first.GetRange(first.Count - 5, 5));
+        halves.Store.Ledger.AddMinuteRows(first.GetRange(first.Count - 5, 5));
         var second = SummaryHarness.Rows("room-a", "live-2", from, to, seed: 11).Where(r => r.MinuteUtc >= split).ToList();
-        halves.Store.AddMinuteRows(second);
+        halves.Store.Ledger.AddMinuteRows(second);
         halves.Reopen();
         var actual = halves.Renderer().RenderDay(Day).Single().Json;
 
@@ -57,7 +57,7 @@ public sealed class SummaryOutputTests
         using (var connection = new Microsoft.Data.Sqlite.SqliteConnection($"Data Source={h.DbPath};Pooling=False"))
         {
             connection.Open();
-            // Rows as stores hold them today: a site tone first as "site:" (kind "site"), later as "site-tone:".
+            // Keys as stores hold them today: a site tone first as "site:" (kind "site"), later as "site-tone:".
             for (var m = 0; m < 40; m++)
             {
                 var minute = from.AddHours(9).AddMinutes(m).ToUnixTimeSeconds();
@@ -66,7 +66,7 @@ public sealed class SummaryOutputTests
                 {
                     using var insert = connection.CreateCommand();
                     insert.CommandText = """
-                        INSERT INTO minute_ledger (stream, minute_utc, source_key, monitored_s, affected_s, max_uv, median_uv, worst_channels, mains_hz, parts)
+                        INSERT INTO minute_ledger (stream, minute_utc, source_key, monitored_s, affected_s, max_uv_rms, mean_median_uv_rms, worst_channels, mains_hz, parts)
                         VALUES ('room-a', $minute, $key, 60, 60, 3, 2, '["Cz"]', 50.0, 1)
                         """;
                     insert.Parameters.AddWithValue("$minute", minute);
@@ -123,7 +123,7 @@ public sealed class SummaryOutputTests
         var zone = TimeZoneInfo.FindSystemTimeZoneById("Europe/Berlin");
         var (from, to) = LocalDay.RangeUtc(Day, zone);
         using var h = new SummaryHarness("Europe/Berlin", to.AddHours(1));
-        h.Store.AddMinuteRows(SummaryHarness.Rows("room-a", "s1", from, to, seed: 5));
+        h.Store.Ledger.AddMinuteRows(SummaryHarness.Rows("room-a", "s1", from, to, seed: 5));
 
         // Two spectrum parts of one hour: the day's mean is their seconds-weighted mean.
         var bins = 257;
@@ -135,7 +135,7 @@ public sealed class SummaryOutputTests
             b[k] = 4f;
         }
 
-        h.Summaries.AddSpectrumParts(
+        h.Store.Spectra.Add(
         [
             new SpectrumPart("room-a", "s1", 1, from.AddHours(12), 0.25, 100, a, new Dictionary<FindingKey, LineFrequencyTally> { [FindingKey.Display("display 75 Hz", 1)] = new(750.1, 10) }),
             new SpectrumPart("room-a", "s1", 2, from.AddHours(12), 0.25, 300, b, new Dictionary<FindingKey, LineFrequencyTally> { [FindingKey.Display("display 75 Hz", 1)] = new(225.0, 3), [FindingKey.Mains(1)] = new(150.03, 3) }),
@@ -202,10 +202,9 @@ public sealed class SummaryOutputTests
         var zone = TimeZoneInfo.FindSystemTimeZoneById("America/New_York");
         var (from, to) = LocalDay.RangeUtc(new DateOnly(2026, 3, 8), zone);
         using var h = new SummaryHarness("America/New_York", to.AddHours(1));
-        h.Store.AddMinuteRows(SummaryHarness.Rows("room-a", "s1", from, to, seed: 9));
-        h.Store.AddMinuteRows(SummaryHarness.Rows("room-b", "s1", from, from.AddHours(2), seed: 9));
+        h.Store.Ledger.AddMinuteRows(SummaryHarness.Rows("room-a", "s1", from, to, seed: 9));
+        h.Store.Ledger.AddMinuteRows(SummaryHarness.Rows("room-b", "s1", from, from.AddHours(2), seed: 9));
         h.Reopen();
-        h.Summaries.Dispose();
         h.Store.Dispose();
 
         var storeOptions = new HumWatch.Host.Store.StoreOptions { Path = h.DbPath };

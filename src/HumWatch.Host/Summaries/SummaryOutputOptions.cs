@@ -3,8 +3,11 @@ using HumWatch.Core.Summaries;
 
 namespace HumWatch.Host.Summaries;
 
-/// <summary>Daily summaries: where they go, plot size, catch-up and the day's limits. Bound from config section "Summaries".</summary>
-public sealed class SummariesOptions
+/// <summary>
+/// Where, when and how large the daily summary files are written (folder, plots, midnight schedule, catch-up), with the
+/// rules a day is judged by in <see cref="Day"/> (Core's <see cref="DaySummaryRules"/>). Bound from config section "Summaries".
+/// </summary>
+public sealed class SummaryOutputOptions
 {
     /// <summary>Config section name, "Summaries".</summary>
     public const string SectionName = "Summaries";
@@ -28,7 +31,7 @@ public sealed class SummariesOptions
     public double SettleSeconds { get; set; } = 120;
 
     /// <summary>Daily limits and episode rules.</summary>
-    public SummaryOptions Day { get; set; } = new();
+    public DaySummaryRules Day { get; set; } = new();
 
     /// <summary>One message per problem, each naming the configuration key; empty when valid.</summary>
     public IReadOnlyList<string> Validate(string prefix = SectionName)

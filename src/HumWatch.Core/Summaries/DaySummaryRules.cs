@@ -31,8 +31,11 @@ public sealed class DailyLimit
     }
 }
 
-/// <summary>How a stream's day is summarised and judged. Bound from config section "Summaries:Day".</summary>
-public sealed class SummaryOptions
+/// <summary>
+/// The rules a stream's day is summarised and judged by: daily limits per kind of source, episode rules, list lengths.
+/// Pure figures (what files are written, where and when is the Host's SummaryOutputOptions). Bound from config section "Summaries:Day".
+/// </summary>
+public sealed class DaySummaryRules
 {
     /// <summary>Mains and its harmonics. The defaults are warn at 60 and fail at 240 affected minutes.</summary>
     public DailyLimit Mains { get; set; } = new() { WarnMinutes = 60, FailMinutes = 240 };

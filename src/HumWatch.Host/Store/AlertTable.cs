@@ -1,0 +1,133 @@
+using HumWatch.Core.Alerts;
+using HumWatch.Core.Findings;
+using HumWatch.Core.Summaries;
+using Microsoft.Data.Sqlite;
+
+namespace HumWatch.Host.Store;
+
+/// <summary>The <c>alerts</c> table: one row per alert event, text columns in the spellings docs/store.md lists.</summary>
+internal sealed class AlertTable(StoreConnection connection) : IAlertEventStore
+{
+    private const string Columns = """
+        stream, key, kind, event, severity, source_name, harmonic, aliased, frequency_hz,
+        amplitude_uv_rms, channel_share, worst_channels, suggestion, stream_seconds, utc_ms, onset_utc_ms,
+        duration_s, peak_uv_rms, peak_severity, reason, evidence
+        """;
+
+    /// <summary>Stores one alert event; returns its row id.</summary>
+    public long AppendAlert(AlertEvent alertEvent)
+    {
+        ArgumentNullException.ThrowIfNull(alertEvent);
+        var row = AlertColumns.Of(alertEvent);
+        return connection.Run(c =>
+        {
+            using var command = Sql.Command(c, $"""
+                INSERT INTO alerts ({Columns})
+                VALUES ($stream, $key, $kind, $event, $severity, $sourceName, $harmonic, $aliased, $frequency,
+                    $amplitude, $share, $worst, $suggestion, $streamSeconds, $utc, $onset,
+                    $duration, $peak, $peakSeverity, $reason, $evidence);
+                SELECT last_insert_rowid();
+                """);
+            var identified = alertEvent.Source.IsIdentified;
+            Sql.Add(command, "$stream", alertEvent.StreamId);
+            Sql.Add(command, "$key", alertEvent.Key.ToString());
+            Sql.Add(command, "$kind", alertEvent.Key.Category.ToText());
+            Sql.Add(command, "$event", alertEvent.EventKind.ToText());
+            Sql.Add(command, "$severity", alertEvent.Severity.ToText());
+            Sql.Add(command, "$sourceName", identified ? alertEvent.Source.Name : null);
+            Sql.Add(command, "$harmonic", identified ? alertEvent.Source.Harmonic : null);
+            Sql.Add(command, "$aliased", alertEvent.Source.Aliased ? 1 : 0);
+            Sql.Add(command, "$frequency", row.FrequencyHz);
+            Sql.Add(command, "$amplitude", row.AmplitudeUvRms);
+            Sql.Add(command, "$share", row.ChannelShare);
+            Sql.Add(command, "$worst", Sql.LabelsJson(row.WorstChannels));
+            Sql.Add(command, "$suggestion", row.Suggestion);
+            Sql.Add(command, "$streamSeconds", alertEvent.StreamSeconds);
+            Sql.Add(command, "$utc", alertEvent.Utc.ToUnixTimeMilliseconds());
+            Sql.Add(command, "$onset", row.OnsetUtc?.ToUnixTimeMilliseconds());
+            Sql.Add(command, "$duration", row.DurationSeconds);
+            Sql.Add(command, "$peak", row.PeakUvRms);
+            Sql.Add(command, "$peakSeverity", row.PeakSeverity);
+            Sql.Add(command, "$reason", row.Reason);
+            Sql.Add(command, "$evidence", row.Evidence);
+            return (long)command.ExecuteScalar()!;
+        });
+    }
+
+    /// <summary>Alert events with UTC time in [fromUtc, toUtc), oldest first; all streams when <paramref name="stream"/> is null.</summary>
+    public IReadOnlyList<StoredAlert> Between(DateTimeOffset fromUtc, DateTimeOffset toUtc, string? stream = null) => connection.Run(c =>
+    {
+        using var command = Sql.Command(c, $"""
+            SELECT id, {Columns}
+            FROM alerts
+            WHERE utc_ms >= $from AND utc_ms < $to AND ($stream IS NULL OR stream = $stream)
+            ORDER BY utc_ms, id
+            """);
+        Sql.Add(command, "$from", fromUtc.ToUnixTimeMilliseconds());
+        Sql.Add(command, "$to", toUtc.ToUnixTimeMilliseconds());
+        Sql.Add(command, "$stream", stream);
+        return Sql.ReadAll(command, Read);
+    });
+
+    /// <summary>Alert events of one local day in <paramref name="zone"/>.</summary>
+    public IReadOnlyList<StoredAlert> ForDay(DateOnly day, TimeZoneInfo zone, string? stream = null)
+    {
+        var (from, to) = LocalDay.RangeUtc(day, zone);
+        return Between(from, to, stream);
+    }
+
+    private static StoredAlert Read(SqliteDataReader reader)
+    {
+        var key = FindingKey.Parse(reader.GetString(2));
+        return new StoredAlert(
+            reader.GetInt64(0), reader.GetString(1), key, KindOf(reader.GetString(3), key), EventOf(reader.GetString(4)),
+            SeverityOf(reader.GetString(5)), Sql.NullableString(reader, 6), reader.IsDBNull(7) ? null : reader.GetInt32(7),
+            reader.GetInt64(8) != 0, Sql.NullableDouble(reader, 9), Sql.NullableDouble(reader, 10), Sql.NullableDouble(reader, 11),
+            Sql.Labels(reader.GetString(12)), Sql.NullableString(reader, 13), reader.GetDouble(14),
+            DateTimeOffset.FromUnixTimeMilliseconds(reader.GetInt64(15)),
+            reader.IsDBNull(16) ? null : DateTimeOffset.FromUnixTimeMilliseconds(reader.GetInt64(16)),
+            Sql.NullableDouble(reader, 17), Sql.NullableDouble(reader, 18),
+            reader.IsDBNull(19) ? null : SeverityOf(reader.GetString(19)),
+            reader.IsDBNull(20) ? null : ReasonOf(reader.GetString(20)))
+        {
+            EvidenceJson = Sql.NullableString(reader, 21),
+        };
+    }
+
+    // Text columns are read leniently: a value this build does not know must not make a whole day unreadable.
+
+    /// <summary>The kind column; "site" (older stores) reads as a site tone; unknown text falls back to the key's category.</summary>
+    private static FindingCategory KindOf(string text, FindingKey key) => FindingCategoryText.TryParse(text, out var kind) ? kind : key.Category;
+
+    /// <summary>The event column; unknown text counts as a severity change, neither a raise nor a clear.</summary>
+    private static AlertEventKind EventOf(string text) => AlertEventKindText.TryParse(text, out var kind) ? kind : AlertEventKind.SeverityChanged;
+
+    /// <summary>A severity column; unknown text reads as none.</summary>
+    private static AlertSeverity SeverityOf(string text) => AlertSeverityText.TryParse(text, out var severity) ? severity : AlertSeverity.None;
+
+    /// <summary>The reason column; unknown text reads as no reason.</summary>
+    private static AlertClearReason? ReasonOf(string text) => AlertClearReasonText.TryParse(text, out var reason) ? reason : null;
+
+    /// <summary>The columns that depend on the kind of event; null where they do not apply.</summary>
+    private readonly record struct AlertColumns(
+        double? FrequencyHz, double? AmplitudeUvRms, double? ChannelShare, IReadOnlyList<string> WorstChannels, string? Suggestion,
+        DateTimeOffset? OnsetUtc, double? DurationSeconds, double? PeakUvRms, string? PeakSeverity, string? Reason, string? Evidence)
+    {
+        public static AlertColumns Of(AlertEvent alertEvent) => alertEvent switch
+        {
+            AlertRaised raised => new(
+                Sql.Finite(raised.FrequencyHz), Sql.Finite(raised.AmplitudeUvRms), Sql.Finite(raised.ChannelShare), raised.WorstChannels,
+                raised.Suggestion, raised.OnsetUtc, null, null, null, null,
+                raised.Category == AlertCategory.Line
+                    ? System.Text.Json.JsonSerializer.Serialize(Checking.CheckEvidence.From(raised), Checking.CheckReportJsonContext.Default.CheckEvidence)
+                    : null),
+            AlertSeverityChanged changed => new(
+                Sql.Finite(changed.FrequencyHz), Sql.Finite(changed.AmplitudeUvRms), Sql.Finite(changed.ChannelShare), changed.WorstChannels,
+                null, null, null, null, null, null, null),
+            AlertCleared cleared => new(
+                Sql.Finite(cleared.FrequencyHz), null, null, [], null, null,
+                Sql.Finite(cleared.DurationSeconds), Sql.Finite(cleared.PeakAmplitudeUvRms), cleared.PeakSeverity.ToText(), cleared.Reason.ToText(), null),
+            _ => new(null, null, null, [], null, null, null, null, null, null, null),
+        };
+    }
+}

@@ -1,0 +1,129 @@
+using Microsoft.Data.Sqlite;
+
+namespace HumWatch.Host.Store;
+
+/// <summary>
+/// The <c>file_journal</c> table: each dropped file's content (SHA-256 and size) is processed exactly once across
+/// restarts. Also remembers which contents a worker of this process holds right now.
+/// </summary>
+internal sealed class FileJournal(StoreConnection connection)
+{
+    // Touched only inside connection.Run, so the store's lock guards it too.
+    private readonly HashSet<(string Sha256, long SizeBytes)> _inProgress = [];
+
+    /// <summary>
+    /// Claims a file for processing, exactly once across restarts. True when the caller should process it: it is new,
+    /// or an earlier attempt was interrupted (state still received). False when it was already archived or rejected,
+    /// or another worker of this process holds it; <paramref name="entry"/> then tells the stored state.
+    /// </summary>
+    public bool TryBegin(string path, long sizeBytes, DateTimeOffset modifiedUtc, string sha256, out FileJournalEntry entry)
+    {
+        ArgumentException.ThrowIfNullOrWhiteSpace(path);
+        ArgumentOutOfRangeException.ThrowIfNegative(sizeBytes);
+        ArgumentException.ThrowIfNullOrWhiteSpace(sha256);
+        var hash = sha256.ToLowerInvariant();
+        var now = connection.TimeProvider.GetUtcNow().ToUnixTimeMilliseconds();
+        var (claimed, found) = connection.Run(c =>
+        {
+            var existing = Find(c, hash, sizeBytes);
+            if (existing is not null && (existing.State != FileJournalState.Received || _inProgress.Contains((hash, sizeBytes))))
+            {
+                return (false, existing);
+            }
+
+            using var command = Sql.Command(c, existing is null
+                ? """
+                  INSERT INTO file_journal (path, size_bytes, mtime_utc_ms, sha256, state, utc_ms, attempts)
+                  VALUES ($path, $size, $mtime, $sha, 'received', $utc, 1)
+                  """
+                : """
+                  UPDATE file_journal SET path = $path, mtime_utc_ms = $mtime, utc_ms = $utc, attempts = attempts + 1
+                  WHERE sha256 = $sha AND size_bytes = $size
+                  """);
+            Sql.Add(command, "$path", path);
+            Sql.Add(command, "$size", sizeBytes);
+            Sql.Add(command, "$mtime", modifiedUtc.ToUnixTimeMilliseconds());
+            Sql.Add(command, "$sha", hash);
+            Sql.Add(command, "$utc", now);
+            command.ExecuteNonQuery();
+            _inProgress.Add((hash, sizeBytes));
+            return (true, Find(c, hash, sizeBytes)!);
+        });
+        entry = found;
+        return claimed;
+    }
+
+    /// <summary>Records the outcome of a file claimed with <see cref="TryBegin"/>.</summary>
+    /// <exception cref="InvalidOperationException">The file was not claimed, or is already complete.</exception>
+    public FileJournalEntry Complete(string sha256, long sizeBytes, FileJournalState state, string? reportPath = null, string? reason = null)
+    {
+        ArgumentException.ThrowIfNullOrWhiteSpace(sha256);
+        if (state == FileJournalState.Received)
+        {
+            throw new ArgumentOutOfRangeException(nameof(state), state, "A file completes as archived or rejected.");
+        }
+
+        var hash = sha256.ToLowerInvariant();
+        return connection.Run(c =>
+        {
+            using var command = Sql.Command(c, """
+                UPDATE file_journal SET state = $state, report_path = $report, reason = $reason, utc_ms = $utc
+                WHERE sha256 = $sha AND size_bytes = $size AND state = 'received'
+                """);
+            Sql.Add(command, "$state", StateText(state));
+            Sql.Add(command, "$report", reportPath);
+            Sql.Add(command, "$reason", reason);
+            Sql.Add(command, "$utc", connection.TimeProvider.GetUtcNow().ToUnixTimeMilliseconds());
+            Sql.Add(command, "$sha", hash);
+            Sql.Add(command, "$size", sizeBytes);
+            if (command.ExecuteNonQuery() == 0)
+            {
+                throw new InvalidOperationException($"Store {connection.FullPath}: file {hash} ({sizeBytes} bytes) is not being processed; complete it only after TryBegin.");
+            }
+
+            _inProgress.Remove((hash, sizeBytes));
+            return Find(c, hash, sizeBytes)!;
+        });
+    }
+
+    /// <summary>The journal entry of a file's content, or null.</summary>
+    public FileJournalEntry? Find(string sha256, long sizeBytes)
+    {
+        ArgumentException.ThrowIfNullOrWhiteSpace(sha256);
+        return connection.Run(c => Find(c, sha256.ToLowerInvariant(), sizeBytes));
+    }
+
+    private static FileJournalEntry? Find(SqliteConnection c, string sha256, long sizeBytes)
+    {
+        using var command = Sql.Command(c, """
+            SELECT id, path, size_bytes, mtime_utc_ms, sha256, state, report_path, reason, utc_ms, attempts
+            FROM file_journal WHERE sha256 = $sha AND size_bytes = $size
+            """);
+        Sql.Add(command, "$sha", sha256);
+        Sql.Add(command, "$size", sizeBytes);
+        using var reader = command.ExecuteReader();
+        if (!reader.Read())
+        {
+            return null;
+        }
+
+        return new FileJournalEntry(
+            reader.GetInt64(0), reader.GetString(1), reader.GetInt64(2), DateTimeOffset.FromUnixTimeMilliseconds(reader.GetInt64(3)),
+            reader.GetString(4), ParseState(reader.GetString(5)), Sql.NullableString(reader, 6), Sql.NullableString(reader, 7),
+            DateTimeOffset.FromUnixTimeMilliseconds(reader.GetInt64(8)), reader.GetInt32(9));
+    }
+
+    private static string StateText(FileJournalState state) => state switch
+    {
+        FileJournalState.Archived => "archived",
+        FileJournalState.Rejected => "rejected",
+        _ => "received",
+    };
+
+    private static FileJournalState ParseState(string text) => text switch
+    {
+        "archived" => FileJournalState.Archived,
+        "rejected" => FileJournalState.Rejected,
+        _ => FileJournalState.Received,
+    };
+}
