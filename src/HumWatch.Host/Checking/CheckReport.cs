@@ -201,4 +201,8 @@ public sealed class CheckSkippedSignal
 [JsonSerializable(typeof(CheckReport))]
 [JsonSerializable(typeof(List<CheckReport>))]
 [JsonSerializable(typeof(CheckEvidence))]
-public sealed partial class CheckReportJsonContext : JsonSerializerContext;
+public sealed partial class CheckReportJsonContext : JsonSerializerContext
+{
+    /// <summary>The context every output uses (stdout, archived reports, the store): characters written as themselves.</summary>
+    public static CheckReportJsonContext Output => field ??= new(OutputText.JsonOptions(Default.Options));
+}

@@ -89,7 +89,11 @@ internal sealed record StatusMessage(
 [JsonSerializable(typeof(AlertMessage))]
 [JsonSerializable(typeof(ClearMessage))]
 [JsonSerializable(typeof(StatusMessage))]
-internal sealed partial class MessageJsonContext : JsonSerializerContext;
+internal sealed partial class MessageJsonContext : JsonSerializerContext
+{
+    /// <summary>The context message bodies are written with: characters as themselves.</summary>
+    public static MessageJsonContext Output => field ??= new(Serialization.OutputText.JsonOptions(Default.Options));
+}
 
 /// <summary>Builds message bodies: UTF-8 JSON, camelCase, "v": 1, non-finite numbers as null.</summary>
 internal static class Messages
@@ -123,7 +127,7 @@ internal static class Messages
                         Version, c.StreamId, key, kind, source, harmonic, c.Source.Aliased, fault, Finite(c.FrequencyHz),
                         c.Reason.ToText(), c.DurationSeconds, Finite(c.PeakAmplitudeUvRms), c.PeakSeverity.ToText(),
                         c.LastSeverity.ToText(), c.StreamSeconds, c.Utc),
-                    MessageJsonContext.Default.ClearMessage));
+                    MessageJsonContext.Output.ClearMessage));
             case AlertRaised r:
                 return (AlertKind, JsonSerializer.SerializeToUtf8Bytes(
                     new AlertMessage(
@@ -134,14 +138,14 @@ internal static class Messages
                         AlsoPossible = r.Category == AlertCategory.Line ? [.. r.AlsoPossible.Select(Core.Reporting.LineFinding.Describe)] : null,
                         Evidence = r.Category == AlertCategory.Line ? Checking.CheckEvidence.From(r) : null,
                     },
-                    MessageJsonContext.Default.AlertMessage));
+                    MessageJsonContext.Output.AlertMessage));
             case AlertSeverityChanged s:
                 return (AlertKind, JsonSerializer.SerializeToUtf8Bytes(
                     new AlertMessage(
                         Version, s.StreamId, key, s.EventKind.ToText(), kind, source, harmonic, s.Source.Aliased, fault,
                         Finite(s.FrequencyHz), Finite(s.AmplitudeUvRms), Finite(s.ChannelShare), s.WorstChannels,
                         s.Severity.ToText(), s.PreviousSeverity.ToText(), null, s.StreamSeconds, s.Utc, null, Finite(s.FalseAlarmProbability)),
-                    MessageJsonContext.Default.AlertMessage));
+                    MessageJsonContext.Output.AlertMessage));
             default:
                 throw new ArgumentOutOfRangeException(nameof(alertEvent), alertEvent.GetType().Name, "Unknown alert event type.");
         }
@@ -152,7 +156,7 @@ internal static class Messages
     {
         ArgumentNullException.ThrowIfNull(status);
         var safe = status.LagSeconds is { } lag && !double.IsFinite(lag) ? status with { LagSeconds = null } : status;
-        return JsonSerializer.SerializeToUtf8Bytes(safe, MessageJsonContext.Default.StatusMessage);
+        return JsonSerializer.SerializeToUtf8Bytes(safe, MessageJsonContext.Output.StatusMessage);
     }
 
     private static double? Finite(double value) => double.IsFinite(value) ? value : null;

@@ -33,7 +33,7 @@ public static class CurveKeyFile
         }
 
         using var stream = new MemoryStream();
-        using (var writer = new Utf8JsonWriter(stream, new JsonWriterOptions { Indented = true }))
+        using (var writer = new Utf8JsonWriter(stream, Serialization.OutputText.WriterOptions(indented: true)))
         {
             writer.WriteStartObject();
             writer.WriteString("publicKey"u8, certificate.PublicKeyZ85);

@@ -108,7 +108,7 @@ internal sealed class HumWatchStore : IAlertEventStore, ILedgerStore, IDisposabl
             case AlertRaised raised:
                 if (raised.Category == AlertCategory.Line)
                 {
-                    evidence = System.Text.Json.JsonSerializer.Serialize(Checking.CheckEvidence.From(raised), Checking.CheckReportJsonContext.Default.CheckEvidence);
+                    evidence = System.Text.Json.JsonSerializer.Serialize(Checking.CheckEvidence.From(raised), Checking.CheckReportJsonContext.Output.CheckEvidence);
                 }
 
                 (frequencyHz, amplitudeUvRms, share, worst, suggestion, onsetUtc) =
@@ -151,7 +151,7 @@ internal sealed class HumWatchStore : IAlertEventStore, ILedgerStore, IDisposabl
             Add(command, "$frequency", frequencyHz);
             Add(command, "$amplitude", amplitudeUvRms);
             Add(command, "$share", share);
-            Add(command, "$worst", JsonSerializer.Serialize([.. worst], StoreJsonContext.Default.StringArray));
+            Add(command, "$worst", JsonSerializer.Serialize([.. worst], StoreJsonContext.Output.StringArray));
             Add(command, "$suggestion", suggestion);
             Add(command, "$streamSeconds", alertEvent.StreamSeconds);
             Add(command, "$utc", alertEvent.Utc.ToUnixTimeMilliseconds());
@@ -231,7 +231,7 @@ internal sealed class HumWatchStore : IAlertEventStore, ILedgerStore, IDisposabl
                 Add(upsert, "$affected", row.AffectedSeconds);
                 Add(upsert, "$max", Finite(row.MaxAmplitudeUvRms));
                 Add(upsert, "$median", Finite(row.MedianAmplitudeUvRms));
-                Add(upsert, "$worst", JsonSerializer.Serialize([.. row.WorstChannels], StoreJsonContext.Default.StringArray));
+                Add(upsert, "$worst", JsonSerializer.Serialize([.. row.WorstChannels], StoreJsonContext.Output.StringArray));
                 Add(upsert, "$mains", Finite(row.MainsHz));
                 upsert.ExecuteNonQuery();
                 added++;

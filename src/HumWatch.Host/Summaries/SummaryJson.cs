@@ -36,4 +36,8 @@ internal sealed record MainsPlot(string File, DateTimeOffset StartUtc, int StepS
 [JsonSerializable(typeof(DaySummary))]
 [JsonSerializable(typeof(PlotData))]
 [JsonSerializable(typeof(Dictionary<string, double[]>))]
-internal sealed partial class SummaryJsonContext : JsonSerializerContext;
+internal sealed partial class SummaryJsonContext : JsonSerializerContext
+{
+    /// <summary>The context summary files, messages and store rows are written with: characters as themselves.</summary>
+    public static SummaryJsonContext Output => field ??= new(OutputText.JsonOptions(Default.Options));
+}

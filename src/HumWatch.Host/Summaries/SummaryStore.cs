@@ -93,7 +93,7 @@ internal sealed class SummaryStore : ISpectrumPartSink, IDisposable
                 command.Parameters.AddWithValue("$bin", part.BinWidthHz);
                 command.Parameters.AddWithValue("$seconds", part.Seconds);
                 command.Parameters.AddWithValue("$psd", blob);
-                command.Parameters.AddWithValue("$lines", JsonSerializer.Serialize(lines, SummaryJsonContext.Default.DictionaryStringDoubleArray));
+                command.Parameters.AddWithValue("$lines", JsonSerializer.Serialize(lines, SummaryJsonContext.Output.DictionaryStringDoubleArray));
                 added += command.ExecuteNonQuery();
             }
 
