@@ -230,6 +230,8 @@ internal sealed class InboxService : BackgroundService
         {
             File = archived,
             Verdict = report.Verdict,
+            VerdictReason = report.VerdictReason,
+            Limits = report.Limits,
             Format = report.Format,
             SampleRateHz = report.SampleRateHz,
             ChannelCount = report.ChannelCount,
