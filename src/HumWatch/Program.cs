@@ -16,6 +16,7 @@ internal static class Program
             DemoCommand.Create(),
             ListenCommand.Create(),
             SummaryCommand.Create(),
+            KeysCommand.Create(),
         };
 
         var parse = root.Parse(args);

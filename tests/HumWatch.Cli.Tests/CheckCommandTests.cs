@@ -82,6 +82,39 @@ public sealed class CheckCommandTests : IClassFixture<CheckCommandTests.Recordin
         Assert.Equal(1, CountOf(output, "Caution:"));
     }
 
+    [Fact]
+    public async Task The_readable_report_names_the_strongest_channels_RMS_and_the_limit_a_fail_or_warn_crossed()
+    {
+        var (code, output, _) = await CliRunner.RunAsync("check", _files.Mains);
+
+        Assert.Equal(1, code);
+        Assert.Contains("max ch µV RMS", output, StringComparison.Ordinal);
+        Assert.DoesNotContain("peak µV", output, StringComparison.Ordinal);
+
+        // Simulated 9 µV RMS of mains against the default limits (warn 1, fail 5 µV RMS).
+        Assert.Matches(@"result    FAIL — mains at (49\.9\d|50\.0\d) Hz: [89]\.\d\d µV RMS ≥ fail limit 5\.00 µV RMS \(Check:FailLineUvRms\)", output);
+
+        var (warnCode, warned, _) = await CliRunner.RunAsync("check", _files.Mains, "--set", "Check:FailLineUvRms=50");
+        Assert.Equal(0, warnCode);
+        Assert.Matches(@"result    WARN — mains at (49\.9\d|50\.0\d) Hz: [89]\.\d\d µV RMS ≥ warn limit 1\.00 µV RMS \(Check:WarnLineUvRms\)", warned);
+    }
+
+    [Fact]
+    public async Task The_JSON_report_writes_characters_as_themselves_and_carries_its_limits()
+    {
+        var (code, output, _) = await CliRunner.RunAsync("check", _files.Mains, "--json");
+
+        Assert.Equal(1, code);
+        Assert.Equal('{', output[0]);
+        Assert.Contains("\"format\": \"EDF+C\"", output, StringComparison.Ordinal);
+        Assert.Contains("µV RMS ≥ fail limit", output, StringComparison.Ordinal);
+        Assert.DoesNotContain("\\u", output, StringComparison.Ordinal);
+        using var json = JsonDocument.Parse(output);
+        var limits = json.RootElement.GetProperty("limits");
+        Assert.Equal(5, limits.GetProperty("failLineUvRms").GetDouble());
+        Assert.Equal(1, limits.GetProperty("warnLineUvRms").GetDouble());
+    }
+
     [Theory]
     [InlineData("--mains", "55")]
     [InlineData("--no-such-option", "1")]

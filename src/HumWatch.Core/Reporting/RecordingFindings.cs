@@ -83,10 +83,13 @@ public sealed record RecordingFindings(
     public GridFinding Grid { get; init; } = GridFinding.Unknown;
 
     /// <summary>Applies the limits: fail beats warn beats pass.</summary>
-    public Verdict Judge(CheckLimits limits, double recordingSeconds)
+    public Verdict Judge(CheckLimits limits, double recordingSeconds) => Decide(limits, recordingSeconds).Verdict;
+
+    /// <summary>Applies the limits and says what decided: the first line or fault (strongest first) at the verdict's level.</summary>
+    public VerdictDecision Decide(CheckLimits limits, double recordingSeconds)
     {
         ArgumentNullException.ThrowIfNull(limits);
-        var verdict = Verdict.Pass;
+        var decision = VerdictDecision.Pass;
         foreach (var line in Lines)
         {
             if (line.PresentSeconds < limits.MinLineSeconds || (!limits.CountUnidentifiedLines && !line.Source.IsIdentified))
@@ -96,12 +99,12 @@ public sealed record RecordingFindings(
 
             if (line.AmplitudeUvRms >= limits.FailLineUvRms)
             {
-                return Verdict.Fail;
+                return new VerdictDecision(Verdict.Fail, line, null, 0);
             }
 
-            if (line.AmplitudeUvRms >= limits.WarnLineUvRms)
+            if (line.AmplitudeUvRms >= limits.WarnLineUvRms && decision.Verdict == Verdict.Pass)
             {
-                verdict = Verdict.Warn;
+                decision = new VerdictDecision(Verdict.Warn, line, null, 0);
             }
         }
 
@@ -112,17 +115,27 @@ public sealed record RecordingFindings(
             faultSeconds[(fault.Channel, fault.Kind)] = faultSeconds.GetValueOrDefault((fault.Channel, fault.Kind)) + (fault.LastSeconds - fault.FirstSeconds);
         }
 
-        foreach (var seconds in faultSeconds.Values)
+        foreach (var ((channel, kind), seconds) in faultSeconds)
         {
             var fraction = recordingSeconds > 0 ? seconds / recordingSeconds : 1;
+            var fault = Faults.First(f => f.Channel == channel && f.Kind == kind);
             if (fraction >= limits.FailFaultFraction)
             {
-                return Verdict.Fail;
+                return new VerdictDecision(Verdict.Fail, null, fault, fraction);
             }
 
-            verdict = Verdict.Warn;
+            if (decision.Verdict == Verdict.Pass)
+            {
+                decision = new VerdictDecision(Verdict.Warn, null, fault, fraction);
+            }
         }
 
-        return verdict;
+        return decision;
     }
+}
+
+/// <summary>A verdict and what decided it: a line over a limit, or a channel fault and the share of the recording it covers.</summary>
+public sealed record VerdictDecision(Verdict Verdict, LineFinding? Line, FaultFinding? Fault, double FaultFraction)
+{
+    public static VerdictDecision Pass { get; } = new(Verdict.Pass, null, null, 0);
 }

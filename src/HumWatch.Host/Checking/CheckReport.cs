@@ -14,6 +14,12 @@ public sealed class CheckReport
 
     public string? Error { get; init; }
 
+    /// <summary>For warn and fail: what decided, with the limit crossed and its setting; null for pass and error.</summary>
+    public string? VerdictReason { get; init; }
+
+    /// <summary>The limits the verdict was judged against (settings Check:*); null for error reports.</summary>
+    public CheckReportLimits? Limits { get; init; }
+
     public string? Format { get; init; }
 
     public double? SampleRateHz { get; init; }
@@ -22,7 +28,7 @@ public sealed class CheckReport
 
     public double? DurationSeconds { get; init; }
 
-    /// <summary>Median mains frequency estimated from the fundamental, Hz, when it was seen.</summary>
+    /// <summary>The recording's measured grid fundamental, Hz: per signal group the median over its frames of the mains fundamental's frequency (averaged over groups); null when not seen.</summary>
     public double? MainsEstimateHz { get; init; }
 
     /// <summary>The grid's nominal frequency the lines were attributed against (50 or 60 Hz); null when neither configured nor seen.</summary>
@@ -54,6 +60,29 @@ public sealed class CheckReport
     };
 }
 
+/// <summary>The `Check:*` limits a report's verdict was judged against, as reported.</summary>
+public sealed class CheckReportLimits
+{
+    public double WarnLineUvRms { get; init; }
+
+    public double FailLineUvRms { get; init; }
+
+    public double MinLineSeconds { get; init; }
+
+    public double FailFaultFraction { get; init; }
+
+    public bool CountUnidentifiedLines { get; init; }
+
+    internal static CheckReportLimits From(CheckLimits limits) => new()
+    {
+        WarnLineUvRms = limits.WarnLineUvRms,
+        FailLineUvRms = limits.FailLineUvRms,
+        MinLineSeconds = limits.MinLineSeconds,
+        FailFaultFraction = limits.FailFaultFraction,
+        CountUnidentifiedLines = limits.CountUnidentifiedLines,
+    };
+}
+
 public sealed class CheckLine
 {
     public double FrequencyHz { get; init; }
@@ -64,7 +93,11 @@ public sealed class CheckLine
     /// <summary>Catalogue name, e.g. "mains", "display 75 Hz".</summary>
     public required string SourceName { get; init; }
 
-    /// <summary>The source's fundamental, Hz (estimated for mains when seen); null when unidentified.</summary>
+    /// <summary>
+    /// The fundamental of the source family the line is attributed to, Hz: for mains the recording's measured grid
+    /// fundamental (the same value as the report's mainsEstimateHz for a single-rate recording) when seen, else the
+    /// nominal grid; a display's or site tone's catalogued rate; null when unidentified.
+    /// </summary>
     public double? FundamentalHz { get; init; }
 
     /// <summary>1 = fundamental; 0 when unidentified.</summary>
@@ -160,16 +193,13 @@ public sealed class CheckEvidence
                 Core.Tracking.GridLock.ChannelsDiffer => "channels-differ",
                 _ => null,
             },
-            GridFollowRatio = Rounded(e.GridFollowRatio, 2),
-            ChannelOverlap = Rounded(e.ChannelOverlap, 2),
-            FrequencySpreadHz = Rounded(e.FrequencySpreadHz, 4),
-            GridSpreadHz = Rounded(e.GridSpreadHz, 4),
+            GridFollowRatio = Reported.Finite(Reported.Ratio(e.GridFollowRatio)),
+            ChannelOverlap = Reported.Finite(Reported.Ratio(e.ChannelOverlap)),
+            FrequencySpreadHz = Reported.Finite(Reported.SpreadHz(e.FrequencySpreadHz)),
+            GridSpreadHz = Reported.Finite(Reported.SpreadHz(e.GridSpreadHz)),
             SharedFrames = e.SharedFrames,
             Summary = Core.Reporting.EvidencePhrase.For(e, source, frequencyHz, alternatives),
         };
-
-    private static double? Rounded(double value, int digits) =>
-        double.IsFinite(value) ? Math.Round(value, digits, MidpointRounding.AwayFromZero) : null;
 }
 
 public sealed class CheckFault
@@ -201,4 +231,8 @@ public sealed class CheckSkippedSignal
 [JsonSerializable(typeof(CheckReport))]
 [JsonSerializable(typeof(List<CheckReport>))]
 [JsonSerializable(typeof(CheckEvidence))]
-public sealed partial class CheckReportJsonContext : JsonSerializerContext;
+public sealed partial class CheckReportJsonContext : JsonSerializerContext
+{
+    /// <summary>The context every output uses (stdout, archived reports, the store): characters written as themselves.</summary>
+    public static CheckReportJsonContext Output => field ??= new(OutputText.JsonOptions(Default.Options));
+}

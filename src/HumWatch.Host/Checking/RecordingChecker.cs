@@ -8,6 +8,7 @@ using HumWatch.Core.Spectra;
 using HumWatch.Core.Tracking;
 using HumWatch.Formats;
 using HumWatch.Host.Monitoring;
+using HumWatch.Host.Serialization;
 
 namespace HumWatch.Host.Checking;
 
@@ -96,7 +97,7 @@ public sealed class RecordingChecker
                 Verdict = Verdict.Error,
                 Error = $"{path}: no EEG signal to analyse (every signal was skipped).",
                 Format = info.Format,
-                DurationSeconds = Math.Round(info.DurationSeconds, 3),
+                DurationSeconds = Reported.ClockSeconds(info.DurationSeconds),
                 SkippedSignals = Skipped(info),
             };
         }
@@ -124,6 +125,7 @@ public sealed class RecordingChecker
         var lines = new List<CheckLine>();
         var faults = new List<CheckFault>();
         var verdict = Verdict.Pass;
+        string? verdictReason = null;
         var mainsEstimates = new List<double>();
         GridFinding? grid = null;
         for (var g = 0; g < groups.Count; g++)
@@ -138,6 +140,7 @@ public sealed class RecordingChecker
             if (findings.FrameCount == 0)
             {
                 notes.Add($"The {layout.SampleRateHz:0.###} Hz signals are shorter than one analysis span ({_analysis.Spectra.SpanSeconds:0.##} s): nothing was analysed.");
+                verdictReason ??= string.Create(CultureInfo.InvariantCulture, $"nothing was analysed in the {layout.SampleRateHz:0.###} Hz signals (shorter than one analysis span)");
                 verdict = Max(verdict, Verdict.Warn);
                 continue;
             }
@@ -158,10 +161,16 @@ public sealed class RecordingChecker
                 mainsEstimates.Add(mains);
             }
 
-            verdict = Max(verdict, findings.Judge(_limits, info.DurationSeconds));
+            var decision = findings.Decide(_limits, info.DurationSeconds);
+            if (decision.Verdict > verdict || (decision.Verdict == verdict && verdictReason is null))
+            {
+                verdictReason = Because(decision);
+            }
+
+            verdict = Max(verdict, decision.Verdict);
             foreach (var line in findings.Lines)
             {
-                lines.Add(ToCheckLine(line, layout.SampleRateHz));
+                lines.Add(ToCheckLine(line, layout.SampleRateHz, findings.MedianMainsHz));
             }
 
             foreach (var fault in findings.Faults)
@@ -170,8 +179,8 @@ public sealed class RecordingChecker
                 {
                     Channel = fault.ChannelLabel,
                     Kind = fault.Kind.ToText(),
-                    FirstSeconds = Round(fault.FirstSeconds, 1),
-                    LastSeconds = Round(fault.LastSeconds, 1),
+                    FirstSeconds = Reported.Seconds(fault.FirstSeconds),
+                    LastSeconds = Reported.Seconds(fault.LastSeconds),
                     SampleRateHz = layout.SampleRateHz,
                 });
             }
@@ -194,11 +203,13 @@ public sealed class RecordingChecker
         {
             File = path,
             Verdict = verdict,
+            VerdictReason = verdict == Verdict.Pass ? null : verdictReason,
+            Limits = CheckReportLimits.From(_limits),
             Format = info.Format,
             SampleRateHz = primary.SampleRateHz,
             ChannelCount = groups.Sum(g => g.Layout.ChannelCount),
-            DurationSeconds = Round(info.DurationSeconds, 3),
-            MainsEstimateHz = mainsEstimates.Count == 0 ? null : Round(mainsEstimates.Average(), 3),
+            DurationSeconds = Reported.ClockSeconds(info.DurationSeconds),
+            MainsEstimateHz = mainsEstimates.Count == 0 ? null : Reported.Hz(mainsEstimates.Average()),
             MainsHz = grid.NominalHz,
             MainsFrom = GridOriginName(grid.From),
             Prefiltering = string.IsNullOrWhiteSpace(info.Prefiltering) ? null : info.Prefiltering,
@@ -251,25 +262,26 @@ public sealed class RecordingChecker
     private static IReadOnlyList<CheckSkippedSignal> Skipped(RecordingInfo info) =>
         [.. info.Skipped.Select(s => new CheckSkippedSignal { Label = s.Label, Reason = s.Reason })];
 
-    internal static CheckLine ToCheckLine(LineFinding line, double sampleRateHz) => new()
+    /// <param name="gridFundamentalHz">The group's measured grid fundamental (median over its frames), when seen.</param>
+    internal static CheckLine ToCheckLine(LineFinding line, double sampleRateHz, double? gridFundamentalHz) => new()
     {
-        FrequencyHz = Round(line.FrequencyHz, 3),
+        FrequencyHz = Reported.Hz(line.FrequencyHz),
         Source = line.Source.Kind.ToText(),
         SourceName = line.Source.Name,
-        FundamentalHz = line.Source.IsIdentified ? Round(line.Source.FundamentalHz, 3) : null,
+        FundamentalHz = line.Source.IsIdentified ? Reported.Hz(FundamentalOf(line.Source, gridFundamentalHz)) : null,
         Harmonic = line.Source.Harmonic,
         Aliased = line.Source.Aliased,
         AlsoPossible = line.AlsoPossible,
-        AmplitudeUvRms = Round(line.AmplitudeUvRms, 3),
-        MaxAmplitudeUvRms = Round(line.MaxAmplitudeUvRms, 3),
-        ProminenceDb = Round(line.ProminenceDb, 1),
-        FalseAlarmProbability = SignificantDigits(line.FalseAlarmProbability, 3),
-        ChannelShare = Round(line.ChannelShare, 3),
+        AmplitudeUvRms = Reported.UvRms(line.AmplitudeUvRms),
+        MaxAmplitudeUvRms = Reported.UvRms(line.MaxAmplitudeUvRms),
+        ProminenceDb = Reported.Db(line.ProminenceDb),
+        FalseAlarmProbability = Reported.Probability(line.FalseAlarmProbability),
+        ChannelShare = Reported.Share(line.ChannelShare),
         AffectedChannels = line.AffectedChannelCount,
         WorstChannels = line.WorstChannels,
-        FirstSeconds = Round(line.FirstSeconds, 1),
-        LastSeconds = Round(line.LastSeconds, 1),
-        PresentSeconds = Round(line.PresentSeconds, 1),
+        FirstSeconds = Reported.Seconds(line.FirstSeconds),
+        LastSeconds = Reported.Seconds(line.LastSeconds),
+        PresentSeconds = Reported.Seconds(line.PresentSeconds),
         SampleRateHz = sampleRateHz,
         Suggestion = Suggestions.For(line.Source, line.ChannelShare, line.WorstChannels),
         Evidence = CheckEvidence.From(line),
@@ -285,16 +297,37 @@ public sealed class RecordingChecker
 
     private static Verdict Max(Verdict a, Verdict b) => (Verdict)Math.Max((int)a, (int)b);
 
-    private static double Round(double value, int digits) => Math.Round(value, digits, MidpointRounding.AwayFromZero);
+    /// <summary>
+    /// The fundamental of the family a line is attributed to. For mains it is the grid fundamental measured over the
+    /// whole recording (the median of the frames' estimates, as mainsEstimateHz), not the estimate of the episode's last
+    /// frame that the explanation carries: the grid wanders, so one frame's f̂₀ differs from the recording's by
+    /// hundredths of a hertz and the fundamental line would disagree with its own fundamentalHz.
+    /// </summary>
+    private static double FundamentalOf(SourceMatch source, double? gridFundamentalHz) =>
+        source.Kind == SourceKind.Mains && gridFundamentalHz is { } grid ? grid : source.FundamentalHz;
 
-    // Probabilities span hundreds of decades: keep significant digits, not decimals. Null when unknown.
-    private static double? SignificantDigits(double value, int digits)
+    /// <summary>What decided a warn or fail, with the limit it crossed and the setting that holds it.</summary>
+    private string? Because(VerdictDecision decision)
     {
-        if (double.IsNaN(value))
+        var c = CultureInfo.InvariantCulture;
+        var level = decision.Verdict == Verdict.Fail ? "fail" : "warn";
+        if (decision.Line is { } line)
         {
-            return null;
+            var (limit, key) = decision.Verdict == Verdict.Fail
+                ? (_limits.FailLineUvRms, "Check:FailLineUvRms")
+                : (_limits.WarnLineUvRms, "Check:WarnLineUvRms");
+            return string.Create(c, $"{line.SourceLabel} at {line.FrequencyHz:0.00} Hz: {line.AmplitudeUvRms:0.00} µV RMS ≥ {level} limit {limit:0.00} µV RMS ({key})");
         }
 
-        return value <= 0 ? 0 : double.Parse(value.ToString("G" + digits, CultureInfo.InvariantCulture), CultureInfo.InvariantCulture);
+        if (decision.Fault is { } fault)
+        {
+            var share = decision.FaultFraction * 100;
+            var limit = _limits.FailFaultFraction * 100;
+            return decision.Verdict == Verdict.Fail
+                ? string.Create(c, $"{fault.ChannelLabel} {fault.Kind.ToText()} for {share:0.#} % of the recording ≥ fail limit {limit:0.#} % (Check:FailFaultFraction)")
+                : string.Create(c, $"{fault.ChannelLabel} {fault.Kind.ToText()} for {share:0.#} % of the recording; any channel fault warns, below the fail limit {limit:0.#} % (Check:FailFaultFraction)");
+        }
+
+        return null;
     }
 }

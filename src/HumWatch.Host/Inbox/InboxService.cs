@@ -5,6 +5,7 @@ using HumWatch.Core.Reporting;
 using HumWatch.Host.Checking;
 using HumWatch.Host.Configuration;
 using HumWatch.Host.Monitoring;
+using HumWatch.Host.Serialization;
 using HumWatch.Host.Store;
 using Microsoft.Extensions.Hosting;
 using Microsoft.Extensions.Logging;
@@ -215,7 +216,7 @@ internal sealed class InboxService : BackgroundService
         if (report.Error is not null)
         {
             var target = UniqueTarget(_options.RejectedFolder, file.Name, sha256);
-            File.WriteAllText(target + ".reason.txt", report.Error + Environment.NewLine, Encoding.UTF8);
+            OutputText.WriteFile(target + ".reason.txt", report.Error + Environment.NewLine);
             _store.Files.Complete(sha256, file.Length, FileJournalState.Rejected, reason: report.Error);
             MoveFile(file.FullName, target);
             _logger.Rejected(file.FullName, report.Error);
@@ -229,11 +230,15 @@ internal sealed class InboxService : BackgroundService
         {
             File = archived,
             Verdict = report.Verdict,
+            VerdictReason = report.VerdictReason,
+            Limits = report.Limits,
             Format = report.Format,
             SampleRateHz = report.SampleRateHz,
             ChannelCount = report.ChannelCount,
             DurationSeconds = report.DurationSeconds,
             MainsEstimateHz = report.MainsEstimateHz,
+            MainsHz = report.MainsHz,
+            MainsFrom = report.MainsFrom,
             Prefiltering = report.Prefiltering,
             Lines = report.Lines,
             ChannelFaults = report.ChannelFaults,
@@ -241,7 +246,7 @@ internal sealed class InboxService : BackgroundService
             Notes = report.Notes,
             Caution = report.Caution,
         };
-        File.WriteAllText(reportPath, JsonSerializer.Serialize(archivedReport, CheckReportJsonContext.Default.CheckReport), Encoding.UTF8);
+        OutputText.WriteFile(reportPath, JsonSerializer.Serialize(archivedReport, CheckReportJsonContext.Output.CheckReport));
 
         // Journal first, then move: a stop in between leaves an archived entry whose file is simply moved next time.
         _store.Files.Complete(sha256, file.Length, FileJournalState.Archived, reportPath: reportPath);

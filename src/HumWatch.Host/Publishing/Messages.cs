@@ -3,6 +3,7 @@ using System.Text.Json.Serialization;
 using HumWatch.Core.Alerts;
 using HumWatch.Core.Faults;
 using HumWatch.Core.Findings;
+using HumWatch.Host.Serialization;
 
 namespace HumWatch.Host.Publishing;
 
@@ -89,9 +90,16 @@ internal sealed record StatusMessage(
 [JsonSerializable(typeof(AlertMessage))]
 [JsonSerializable(typeof(ClearMessage))]
 [JsonSerializable(typeof(StatusMessage))]
-internal sealed partial class MessageJsonContext : JsonSerializerContext;
+internal sealed partial class MessageJsonContext : JsonSerializerContext
+{
+    /// <summary>The context message bodies are written with: characters as themselves.</summary>
+    public static MessageJsonContext Output => field ??= new(Serialization.OutputText.JsonOptions(Default.Options));
+}
 
-/// <summary>Builds message bodies: UTF-8 JSON, camelCase, "v": 1, non-finite numbers as null.</summary>
+/// <summary>
+/// Builds message bodies: UTF-8 JSON, camelCase, "v": 1, non-finite numbers as null, every number rounded as in
+/// `check` reports (<see cref="Reported"/>; docs/messages.md lists the rounding per field).
+/// </summary>
 internal static class Messages
 {
     /// <summary>Schema version written into every body.</summary>
@@ -120,28 +128,28 @@ internal static class Messages
             case AlertCleared c:
                 return (ClearKind, JsonSerializer.SerializeToUtf8Bytes(
                     new ClearMessage(
-                        Version, c.StreamId, key, kind, source, harmonic, c.Source.Aliased, fault, Finite(c.FrequencyHz),
-                        c.Reason.ToText(), c.DurationSeconds, Finite(c.PeakAmplitudeUvRms), c.PeakSeverity.ToText(),
-                        c.LastSeverity.ToText(), c.StreamSeconds, c.Utc),
-                    MessageJsonContext.Default.ClearMessage));
+                        Version, c.StreamId, key, kind, source, harmonic, c.Source.Aliased, fault, Finite(Reported.Hz(c.FrequencyHz)),
+                        c.Reason.ToText(), Reported.Seconds(c.DurationSeconds), Finite(Reported.UvRms(c.PeakAmplitudeUvRms)), c.PeakSeverity.ToText(),
+                        c.LastSeverity.ToText(), Reported.ClockSeconds(c.StreamSeconds), c.Utc),
+                    MessageJsonContext.Output.ClearMessage));
             case AlertRaised r:
                 return (AlertKind, JsonSerializer.SerializeToUtf8Bytes(
                     new AlertMessage(
                         Version, r.StreamId, key, r.EventKind.ToText(), kind, source, harmonic, r.Source.Aliased, fault,
-                        Finite(r.FrequencyHz), Finite(r.AmplitudeUvRms), Finite(r.ChannelShare), r.WorstChannels,
-                        r.Severity.ToText(), null, r.Suggestion, r.StreamSeconds, r.Utc, r.OnsetUtc, Finite(r.FalseAlarmProbability))
+                        Finite(Reported.Hz(r.FrequencyHz)), Finite(Reported.UvRms(r.AmplitudeUvRms)), Finite(Reported.Share(r.ChannelShare)), r.WorstChannels,
+                        r.Severity.ToText(), null, r.Suggestion, Reported.ClockSeconds(r.StreamSeconds), r.Utc, r.OnsetUtc, Probability(r.FalseAlarmProbability))
                     {
                         AlsoPossible = r.Category == AlertCategory.Line ? [.. r.AlsoPossible.Select(Core.Reporting.LineFinding.Describe)] : null,
                         Evidence = r.Category == AlertCategory.Line ? Checking.CheckEvidence.From(r) : null,
                     },
-                    MessageJsonContext.Default.AlertMessage));
+                    MessageJsonContext.Output.AlertMessage));
             case AlertSeverityChanged s:
                 return (AlertKind, JsonSerializer.SerializeToUtf8Bytes(
                     new AlertMessage(
                         Version, s.StreamId, key, s.EventKind.ToText(), kind, source, harmonic, s.Source.Aliased, fault,
-                        Finite(s.FrequencyHz), Finite(s.AmplitudeUvRms), Finite(s.ChannelShare), s.WorstChannels,
-                        s.Severity.ToText(), s.PreviousSeverity.ToText(), null, s.StreamSeconds, s.Utc, null, Finite(s.FalseAlarmProbability)),
-                    MessageJsonContext.Default.AlertMessage));
+                        Finite(Reported.Hz(s.FrequencyHz)), Finite(Reported.UvRms(s.AmplitudeUvRms)), Finite(Reported.Share(s.ChannelShare)), s.WorstChannels,
+                        s.Severity.ToText(), s.PreviousSeverity.ToText(), null, Reported.ClockSeconds(s.StreamSeconds), s.Utc, null, Probability(s.FalseAlarmProbability)),
+                    MessageJsonContext.Output.AlertMessage));
             default:
                 throw new ArgumentOutOfRangeException(nameof(alertEvent), alertEvent.GetType().Name, "Unknown alert event type.");
         }
@@ -151,9 +159,16 @@ internal static class Messages
     public static byte[] For(StatusMessage status)
     {
         ArgumentNullException.ThrowIfNull(status);
-        var safe = status.LagSeconds is { } lag && !double.IsFinite(lag) ? status with { LagSeconds = null } : status;
-        return JsonSerializer.SerializeToUtf8Bytes(safe, MessageJsonContext.Default.StatusMessage);
+        var safe = status with
+        {
+            LagSeconds = status.LagSeconds is { } lag ? Finite(Reported.Seconds(lag)) : null,
+            MainsHz = status.MainsHz is { } mains ? Finite(Reported.Hz(mains)) : null,
+        };
+        return JsonSerializer.SerializeToUtf8Bytes(safe, MessageJsonContext.Output.StatusMessage);
     }
 
-    private static double? Finite(double value) => double.IsFinite(value) ? value : null;
+    private static double? Finite(double value) => Reported.Finite(value);
+
+    // Infinite probabilities cannot occur; NaN (unknown) is null, as in check reports.
+    private static double? Probability(double value) => double.IsFinite(value) ? Reported.Probability(value) : null;
 }

@@ -33,7 +33,7 @@ public static class CurveKeyFile
         }
 
         using var stream = new MemoryStream();
-        using (var writer = new Utf8JsonWriter(stream, new JsonWriterOptions { Indented = true }))
+        using (var writer = new Utf8JsonWriter(stream, Serialization.OutputText.WriterOptions(indented: true)))
         {
             writer.WriteStartObject();
             writer.WriteString("publicKey"u8, certificate.PublicKeyZ85);
@@ -51,6 +51,12 @@ public static class CurveKeyFile
             options.UnixCreateMode = includeSecretKey
                 ? UnixFileMode.UserRead | UnixFileMode.UserWrite
                 : UnixFileMode.UserRead | UnixFileMode.UserWrite | UnixFileMode.GroupRead | UnixFileMode.OtherRead;
+
+            // The create mode applies to new files only: a replaced file gets it before the secret goes in.
+            if (File.Exists(path))
+            {
+                File.SetUnixFileMode(path, options.UnixCreateMode.Value);
+            }
         }
 
         using var file = new FileStream(path, options);

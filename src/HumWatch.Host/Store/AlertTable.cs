@@ -119,7 +119,7 @@ internal sealed class AlertTable(StoreConnection connection) : IAlertEventStore
                 Sql.Finite(raised.FrequencyHz), Sql.Finite(raised.AmplitudeUvRms), Sql.Finite(raised.ChannelShare), raised.WorstChannels,
                 raised.Suggestion, raised.OnsetUtc, null, null, null, null,
                 raised.Category == AlertCategory.Line
-                    ? System.Text.Json.JsonSerializer.Serialize(Checking.CheckEvidence.From(raised), Checking.CheckReportJsonContext.Default.CheckEvidence)
+                    ? System.Text.Json.JsonSerializer.Serialize(Checking.CheckEvidence.From(raised), Checking.CheckReportJsonContext.Output.CheckEvidence)
                     : null),
             AlertSeverityChanged changed => new(
                 Sql.Finite(changed.FrequencyHz), Sql.Finite(changed.AmplitudeUvRms), Sql.Finite(changed.ChannelShare), changed.WorstChannels,

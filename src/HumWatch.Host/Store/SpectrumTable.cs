@@ -49,7 +49,7 @@ internal sealed class SpectrumTable(StoreConnection connection) : ISpectrumPartS
                 Sql.Add(command, "$bin", part.BinWidthHz);
                 Sql.Add(command, "$seconds", part.Seconds);
                 Sql.Add(command, "$psd", blob);
-                Sql.Add(command, "$lines", JsonSerializer.Serialize(lines, SpectrumLinesJsonContext.Default.DictionaryStringDoubleArray));
+                Sql.Add(command, "$lines", JsonSerializer.Serialize(lines, SpectrumLinesJsonContext.Output.DictionaryStringDoubleArray));
                 added += command.ExecuteNonQuery();
             }
 
@@ -104,4 +104,8 @@ internal sealed class SpectrumTable(StoreConnection connection) : ISpectrumPartS
 /// <summary>The lines column, indented as it has always been written.</summary>
 [JsonSourceGenerationOptions(WriteIndented = true)]
 [JsonSerializable(typeof(Dictionary<string, double[]>))]
-internal sealed partial class SpectrumLinesJsonContext : JsonSerializerContext;
+internal sealed partial class SpectrumLinesJsonContext : JsonSerializerContext
+{
+    /// <summary>The context the column is written with: source keys as themselves.</summary>
+    public static SpectrumLinesJsonContext Output => field ??= new(Serialization.OutputText.JsonOptions(Default.Options));
+}

@@ -62,7 +62,7 @@ internal static class Sql
     public static string? NullableString(SqliteDataReader reader, int ordinal) => reader.IsDBNull(ordinal) ? null : reader.GetString(ordinal);
 
     /// <summary>A channel list as its JSON column text.</summary>
-    public static string LabelsJson(IReadOnlyList<string> labels) => JsonSerializer.Serialize([.. labels], StoreJsonContext.Default.StringArray);
+    public static string LabelsJson(IReadOnlyList<string> labels) => JsonSerializer.Serialize([.. labels], StoreJsonContext.Output.StringArray);
 
     /// <summary>A channel list column read back.</summary>
     public static string[] Labels(string json) => JsonSerializer.Deserialize(json, StoreJsonContext.Default.StringArray) ?? [];

@@ -77,4 +77,8 @@ internal sealed record FileJournalEntry(
     int Attempts);
 
 [JsonSerializable(typeof(string[]))]
-internal sealed partial class StoreJsonContext : JsonSerializerContext;
+internal sealed partial class StoreJsonContext : JsonSerializerContext
+{
+    /// <summary>The context store columns are written with: channel labels as themselves.</summary>
+    public static StoreJsonContext Output => field ??= new(Serialization.OutputText.JsonOptions(Default.Options));
+}

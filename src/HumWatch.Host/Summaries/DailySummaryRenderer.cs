@@ -1,4 +1,3 @@
-using System.Text;
 using System.Text.Json;
 using HumWatch.Core.Summaries;
 
@@ -60,7 +59,7 @@ internal sealed class DailySummaryRenderer
     }
 
     /// <summary>Serialises a summary as written to its file.</summary>
-    public static byte[] ToJson(DaySummary summary) => JsonSerializer.SerializeToUtf8Bytes(summary, SummaryJsonContext.Default.DaySummary);
+    public static byte[] ToJson(DaySummary summary) => JsonSerializer.SerializeToUtf8Bytes(summary, SummaryJsonContext.Output.DaySummary);
 
     /// <summary>
     /// Renders a day. Streams already recorded as written are left alone unless <paramref name="force"/>; the day
@@ -93,7 +92,7 @@ internal sealed class DailySummaryRenderer
             if (write)
             {
                 AtomicFile.Write(Path.Combine(dayFolder, stream + ".json"), json);
-                AtomicFile.Write(Path.Combine(dayFolder, stream + ".plots.json"), JsonSerializer.SerializeToUtf8Bytes(plotData, SummaryJsonContext.Default.PlotData));
+                AtomicFile.Write(Path.Combine(dayFolder, stream + ".plots.json"), JsonSerializer.SerializeToUtf8Bytes(plotData, SummaryJsonContext.Output.PlotData));
                 SummaryPlots.Render(plotData, dayFolder);
                 _store.MarkRendered(day, _zone.Id, stream, summary.Verdict);
                 anyWritten = true;
@@ -108,7 +107,7 @@ internal sealed class DailySummaryRenderer
         if (summaries.Count > 0 && (anyWritten || !_store.IsRendered(day, _zone.Id, string.Empty)))
         {
             var page = SummaryMarkdown.Build(_siteName, day, _zone, summaries, plots);
-            AtomicFile.Write(Path.Combine(dayFolder, SummaryMarkdown.FileName), Encoding.UTF8.GetBytes(page));
+            AtomicFile.Write(Path.Combine(dayFolder, SummaryMarkdown.FileName), Serialization.OutputText.Utf8.GetBytes(page));
             _store.MarkRendered(day, _zone.Id, string.Empty, null);
         }
 

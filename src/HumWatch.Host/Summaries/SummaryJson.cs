@@ -35,4 +35,8 @@ internal sealed record MainsPlot(string File, DateTimeOffset StartUtc, int StepS
     Converters = [typeof(FindingKeyJsonConverter), typeof(FindingCategoryJsonConverter), typeof(AlertSeverityJsonConverter), typeof(DayVerdictJsonConverter)])]
 [JsonSerializable(typeof(DaySummary))]
 [JsonSerializable(typeof(PlotData))]
-internal sealed partial class SummaryJsonContext : JsonSerializerContext;
+internal sealed partial class SummaryJsonContext : JsonSerializerContext
+{
+    /// <summary>The context summary files, and messages are written with: characters as themselves.</summary>
+    public static SummaryJsonContext Output => field ??= new(OutputText.JsonOptions(Default.Options));
+}

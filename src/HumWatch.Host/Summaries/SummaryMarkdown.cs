@@ -23,6 +23,7 @@ internal static class SummaryMarkdown
         var fails = summaries.Count(s => s.Verdict == DayVerdict.Fail);
         var warns = summaries.Count(s => s.Verdict == DayVerdict.Warn);
         sb.Append(c, $"{summaries.Count} room(s): {fails} fail, {warns} warn, {summaries.Count(s => s.Verdict == DayVerdict.Pass)} pass, {summaries.Count(s => s.Verdict == DayVerdict.NoData)} without data.").AppendLine().AppendLine();
+        sb.AppendLine(DayLimitsLine(summaries[0])).AppendLine();
 
         sb.AppendLine("| Room | Verdict | Monitored h | Affected min | Longest run | Max µV RMS | Mains Hz (min–max) | Alerts raised / cleared |");
         sb.AppendLine("|---|---|---:|---:|---|---:|---|---:|");
@@ -87,6 +88,16 @@ internal static class SummaryMarkdown
         sb.AppendLine().AppendLine("---").AppendLine();
         sb.AppendLine("Figures come from the HumWatch minute ledger. Where a cause is suggested (cables, grounding, nearby equipment), treat it as a lead to check, not a diagnosis; HumWatch is not a medical device, and changes to mains wiring or medical electrical equipment are for qualified staff under local codes.");
         return sb.ToString();
+    }
+
+    /// <summary>
+    /// Why a file's `check` verdict and its day's verdict can differ (a file fails, its day passes): the day counts
+    /// affected minutes per kind of source against the day limits, the file judges line amplitudes.
+    /// </summary>
+    internal static string DayLimitsLine(DaySummary summary)
+    {
+        var limits = string.Join(", ", summary.Categories.Select(c => $"{c.Category.ToText()} {Num(c.WarnMinutes)} / {Num(c.FailMinutes)} min"));
+        return $"A day's verdict counts each kind of source's affected minutes against the day limits (Summaries:Day, warn / fail: {limits}), not line amplitudes: a file that fails `check` on µV RMS (Check:FailLineUvRms) can belong to a day that passes.";
     }
 
     /// <summary>"HH:mm–HH:mm" of two local ISO times; an end at the next day's midnight reads 24:00, not 00:00.</summary>

@@ -161,8 +161,8 @@ internal static class CheckCommand
     private static void WriteJson(List<CheckReport> reports)
     {
         var text = reports.Count == 1
-            ? JsonSerializer.Serialize(reports[0], CheckReportJsonContext.Default.CheckReport)
-            : JsonSerializer.Serialize(reports, CheckReportJsonContext.Default.ListCheckReport);
+            ? JsonSerializer.Serialize(reports[0], CheckReportJsonContext.Output.CheckReport)
+            : JsonSerializer.Serialize(reports, CheckReportJsonContext.Output.ListCheckReport);
         Console.Out.WriteLine(text);
     }
 

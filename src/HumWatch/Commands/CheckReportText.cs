@@ -26,7 +26,7 @@ internal static class CheckReportText
     {
         var c = CultureInfo.InvariantCulture;
         o.WriteLine(r.File);
-        o.WriteLine($"  result    {VerdictText(r.Verdict)}");
+        o.WriteLine($"  result    {VerdictText(r.Verdict, r.VerdictReason)}");
         if (r.Error is not null)
         {
             o.WriteLine($"  problem   {r.Error}");
@@ -42,13 +42,14 @@ internal static class CheckReportText
         else
         {
             o.WriteLine("  lines");
-            o.WriteLine("    Hz         explanation                   µV RMS   peak µV  channels   strongest on         seen (s)");
+            // µV RMS: the median over the channels that carry the line; max ch: the strongest single channel's RMS.
+            o.WriteLine("    Hz         explanation                   µV RMS  max ch µV RMS  channels   strongest on         seen (s)");
             foreach (var line in r.Lines)
             {
                 var what = Explain(line);
                 var channels = string.Create(c, $"{line.AffectedChannels} ({line.ChannelShare * 100:0}%)");
                 var strongest = string.Join(",", line.WorstChannels);
-                o.WriteLine(string.Create(c, $"    {line.FrequencyHz,-10:0.00} {what,-29} {line.AmplitudeUvRms,6:0.00}   {line.MaxAmplitudeUvRms,7:0.00}  {channels,-10} {strongest,-20} {line.FirstSeconds:0}–{line.LastSeconds:0}"));
+                o.WriteLine(string.Create(c, $"    {line.FrequencyHz,-10:0.00} {what,-29} {line.AmplitudeUvRms,6:0.00}  {line.MaxAmplitudeUvRms,13:0.00}  {channels,-10} {strongest,-20} {line.FirstSeconds:0}–{line.LastSeconds:0}"));
                 if (line.Evidence?.Summary is { } why)
                 {
                     o.WriteLine($"{"",15}why: {why}");
@@ -122,11 +123,14 @@ internal static class CheckReportText
         return $"{line.SourceName}{harmonic}{aliased}";
     }
 
-    private static string VerdictText(Verdict verdict) => verdict switch
+    /// <summary>The verdict, and for warn and fail what crossed which limit (the report's verdictReason).</summary>
+    private static string VerdictText(Verdict verdict, string? reason) => (verdict, reason) switch
     {
-        Verdict.Pass => "PASS — no contamination above the limits",
-        Verdict.Warn => "WARN — contamination or channel faults below the failure limits",
-        Verdict.Fail => "FAIL — contamination above the limits",
+        (Verdict.Pass, _) => "PASS — no contamination above the limits",
+        (Verdict.Warn, { } why) => $"WARN — {why}",
+        (Verdict.Warn, _) => "WARN — contamination or channel faults below the failure limits",
+        (Verdict.Fail, { } why) => $"FAIL — {why}",
+        (Verdict.Fail, _) => "FAIL — contamination above the limits",
         _ => "ERROR — the file could not be analysed",
     };
 }

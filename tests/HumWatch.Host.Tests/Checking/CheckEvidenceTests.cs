@@ -74,6 +74,31 @@ public sealed class CheckEvidenceTests : IDisposable
         Assert.Contains("display", line.Suggestion, StringComparison.Ordinal);
     }
 
+    [Fact]
+    public void The_fundamental_of_every_mains_line_is_the_recordings_measured_grid_not_its_last_frames()
+    {
+        // fundamentalHz, the fundamental line's frequencyHz and mainsEstimateHz speak of one grid and must agree. The
+        // grid runs at 49.97 Hz for 80 s, then at 50.03 Hz for 40 s: most frames (and their median) see 49.97 Hz, the
+        // last frame 50.03 Hz. Grandke's interpolation is exact for a steady tone, so each frame's estimate is the
+        // tone's frequency to well under 5 mHz at this amplitude.
+        var path = Write(
+            "stepped-grid.edf",
+            new SimulatedTone { Name = "grid before", FrequencyHz = 49.97, AmplitudeUvRms = 6, HarmonicAmplitudes = [0, 0.5], OffsetSeconds = 80 },
+            new SimulatedTone { Name = "grid after", FrequencyHz = 50.03, AmplitudeUvRms = 6, HarmonicAmplitudes = [0, 0.5], OnsetSeconds = 80 });
+
+        var report = new RecordingChecker(new AnalysisOptions(), new CheckLimits()).Check(path);
+
+        Assert.Equal(49.97, report.MainsEstimateHz!.Value, 0.005);
+        var fundamental = Assert.Single(report.Lines, l => l.Source == "mains" && l.Harmonic == 1);
+        Assert.Equal(49.97, fundamental.FrequencyHz, 0.005);
+        Assert.Equal(report.MainsEstimateHz, fundamental.FundamentalHz);
+        Assert.Equal(report.MainsEstimateHz.Value, fundamental.FrequencyHz, 0.001);
+
+        // A harmonic names the same fundamental: the grid's, not its own frequency over n.
+        var third = Assert.Single(report.Lines, l => l.Source == "mains" && l.Harmonic == 3);
+        Assert.Equal(report.MainsEstimateHz, third.FundamentalHz);
+    }
+
     private string Write(string name, params SimulatedTone[] tones)
     {
         var room = new SimulatedRoom { Name = "evidence-room", SampleRateHz = 500, Channels = SimulatedRoom.Montage(19), Tones = [.. tones] };

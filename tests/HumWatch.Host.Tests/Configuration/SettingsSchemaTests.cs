@@ -172,7 +172,7 @@ public sealed class SettingsSchemaTests : IDisposable
         // One source of truth: the keys come from the bound options classes; the shipped example must list the same.
         var example = Path.Combine(RepositoryRoot(), "appsettings.example.json");
         var exampleKeys = new SortedSet<string>(StringComparer.OrdinalIgnoreCase);
-        using (var document = JsonDocument.Parse(File.ReadAllText(example)))
+        using (var document = JsonDocument.Parse(File.ReadAllText(example), new JsonDocumentOptions { CommentHandling = JsonCommentHandling.Skip }))
         {
             Flatten(document.RootElement, "", exampleKeys);
         }

@@ -1,4 +1,5 @@
 using System.Security.Cryptography;
+using System.Text;
 using HumWatch.Core.Alerts;
 using HumWatch.Core.Ledger;
 using HumWatch.Core.Reporting;
@@ -10,6 +11,7 @@ using HumWatch.Host.Inbox;
 using HumWatch.Host.Monitoring;
 using HumWatch.Host.Store;
 using HumWatch.Host.Tests.EndToEnd;
+using HumWatch.Host.Tests.Ingest.Support;
 using HumWatch.Host.Tests.Monitoring;
 using HumWatch.Host.Tests.Publishing.Support;
 using HumWatch.Simulation;
@@ -162,6 +164,43 @@ public sealed class InboxServiceTests : IDisposable
         // Both groups carry the simulated mains tone, so each stream raises its own mains alert.
         Assert.Contains(outputs.Outputs.Alerts.OfType<AlertRaised>(), r => r.StreamId == "lab-9" && r.Source.Kind == Core.Attribution.SourceKind.Mains);
         Assert.Contains(outputs.Outputs.Alerts.OfType<AlertRaised>(), r => r.StreamId == "lab-9.500hz" && r.Source.Kind == Core.Attribution.SourceKind.Mains);
+    }
+
+    [Fact]
+    public async Task Archived_reports_and_reasons_are_UTF8_without_a_byte_order_mark_and_load_in_python()
+    {
+        using var store = OpenStore();
+        using var sessions = new SessionHarness();
+        var inbox = NewInbox(store, sessions);
+        var dropped = Path.Combine(Inbox, "ward-5", "visit.edf");
+        Directory.CreateDirectory(Path.GetDirectoryName(dropped)!);
+        ServiceEndToEndTests.WriteRecording(dropped, Rooms.WithMains("ward-5", onSeconds: 0, offSeconds: null), seconds: 30);
+        File.WriteAllText(Path.Combine(Inbox, "ward-5", "broken.edf"), "not an EDF header");
+
+        Assert.Equal(2, inbox.ScanOnce());
+
+        // RFC 8259 section 8.1: JSON text must not begin with a byte-order mark; Python's json module refuses one.
+        var reportPath = Path.Combine(Archive, "ward-5", "visit.edf.report.json");
+        var report = File.ReadAllBytes(reportPath);
+        Assert.Equal((byte)'{', report[0]);
+        Assert.Contains("\"EDF+C\"", Encoding.UTF8.GetString(report), StringComparison.Ordinal);
+        var reason = Assert.Single(Directory.GetFiles(_temp.File("rejected"), "*.reason.txt"));
+        Assert.NotEqual(0xEF, File.ReadAllBytes(reason)[0]);
+
+        if (File.Exists(PythonPeer.Python))
+        {
+            // Debian's python3 json.load, as a lab's script would read the report.
+            var info = new System.Diagnostics.ProcessStartInfo(PythonPeer.Python) { RedirectStandardOutput = true, RedirectStandardError = true };
+            info.ArgumentList.Add("-c");
+            info.ArgumentList.Add("import json, sys; r = json.load(open(sys.argv[1], encoding='utf-8')); print(r['format'], r['verdict'])");
+            info.ArgumentList.Add(reportPath);
+            using var python = System.Diagnostics.Process.Start(info)!;
+            var output = await python.StandardOutput.ReadToEndAsync();
+            var error = await python.StandardError.ReadToEndAsync();
+            await python.WaitForExitAsync();
+            Assert.True(python.ExitCode == 0, error);
+            Assert.StartsWith("EDF+C ", output, StringComparison.Ordinal);
+        }
     }
 
     private HumWatchStore OpenStore() => new(new StoreOptions { Path = _temp.File("inbox.db") }, new FakeTimeProvider(RecordingStartUtc));
