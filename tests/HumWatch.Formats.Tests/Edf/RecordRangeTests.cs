@@ -152,7 +152,7 @@ public sealed class RecordRangeTests
             // Range chunks reuse their buffer: copy before asking for the next.
             for (var c = 0; c < chunk.Layout.ChannelCount; c++)
             {
-                entry.Samples[c].AddRange(chunk.SamplesUv.AsSpan(c * chunk.SamplesPerChannel, chunk.SamplesPerChannel).ToArray());
+                entry.Samples[c].AddRange(chunk.SamplesUv.Slice(c * chunk.SamplesPerChannel, chunk.SamplesPerChannel).ToArray());
             }
         }
 
