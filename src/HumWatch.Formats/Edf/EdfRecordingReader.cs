@@ -22,11 +22,8 @@ internal sealed class EdfRecordingReader : IRecordingReader, IRecordRangeReader
 
     private EdfRecordingReader(FileStream stream, EdfHeader header, RecordingInfo info, EdfGroupPlan[] plans, EdfSignalHeader[] annotationSignals)
     {
-        _stream = stream;
-        _header = header;
+        (_stream, _header, _plans, _annotationSignals) = (stream, header, plans, annotationSignals);
         Info = info;
-        _plans = plans;
-        _annotationSignals = annotationSignals;
     }
 
     public RecordingInfo Info { get; }

@@ -13,6 +13,11 @@ internal static class WireHeaderReader
 
     private static readonly byte[][] FieldNamesUtf8 = [.. FieldNames.Select(Encoding.UTF8.GetBytes)];
 
+    /// <summary>The reader of each field's value, in <see cref="WireField"/> order.</summary>
+    private static readonly FieldReader[] FieldReaders = [ReadVersion, ReadStreamId, ReadRate, ReadChannels, ReadUnit, ReadIndex, ReadStartTime];
+
+    private delegate void FieldReader(ref Utf8JsonReader reader, ref WireHeaderFields fields);
+
     /// <summary>Reads the header; null when it is a well-formed JSON object without repeated fields, else what is wrong with it.</summary>
     public static string? Parse(ReadOnlySpan<byte> header, ref WireHeaderFields fields)
     {
@@ -74,37 +79,12 @@ internal static class WireHeaderReader
             return null;
         }
 
-        var field = (WireField)index;
-        if (!fields.TryMarkPresent(field))
+        if (!fields.TryMarkPresent((WireField)index))
         {
             return FieldNames[index];
         }
 
-        switch (field)
-        {
-            case WireField.Version:
-                ReadVersion(ref reader, ref fields);
-                break;
-            case WireField.Stream:
-                ReadStreamId(ref reader, ref fields);
-                break;
-            case WireField.Rate:
-                ReadRate(ref reader, ref fields);
-                break;
-            case WireField.Channels:
-                ReadChannels(ref reader, ref fields);
-                break;
-            case WireField.Unit:
-                ReadUnit(ref reader, ref fields);
-                break;
-            case WireField.Index:
-                ReadIndex(ref reader, ref fields);
-                break;
-            default:
-                ReadStartTime(ref reader, ref fields);
-                break;
-        }
-
+        FieldReaders[index](ref reader, ref fields);
         return null;
     }
 
