@@ -143,7 +143,7 @@ internal sealed class FrameSection : IBenchmarkSection
         var source = generated[index % generated.Length];
         var first = (long)index * chunkSamples;
         var startUtc = SimulatedStreams.StartUtc.AddTicks((long)Math.Round(first / source.Layout.SampleRateHz * TimeSpan.TicksPerSecond));
-        return new SampleChunk(source.Layout, first, chunkSamples, source.SamplesUv, startUtc);
+        return source.At(first, startUtc);
     }
 
     private static (double Analyzer, double WithBook) MemoryPerStream(StreamLayout layout, string name, int rate, SampleChunk[] chunks, int warmChunks, int n)

@@ -251,7 +251,7 @@ public sealed class CheckCommandTests : IClassFixture<CheckCommandTests.Recordin
             for (var second = 0; second < 60; second++)
             {
                 var chunk = simulator.Next(250);
-                writer.WriteRecord(chunk.SamplesUv.AsSpan(0, 250 * 8));
+                writer.WriteRecord(chunk.SamplesUv.Slice(0, 250 * 8));
             }
 
             return path;

@@ -147,13 +147,13 @@ public sealed class StreamAnalyzer
                 ReadOnlySpan<float> block;
                 if (take == n)
                 {
-                    block = chunk.SamplesUv.AsSpan(0, n * channels);
+                    block = chunk.SamplesUv;
                 }
                 else
                 {
                     for (var c = 0; c < channels; c++)
                     {
-                        chunk.SamplesUv.AsSpan((c * n) + offset, take).CopyTo(_slice.AsSpan(c * take, take));
+                        chunk.SamplesUv.Slice((c * n) + offset, take).CopyTo(_slice.AsSpan(c * take, take));
                     }
 
                     block = _slice.AsSpan(0, take * channels);

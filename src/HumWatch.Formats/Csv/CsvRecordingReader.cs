@@ -20,8 +20,6 @@ internal sealed class CsvRecordingReader : IRecordingReader
     /// <summary>Rows used to estimate the sample interval at open.</summary>
     private const int RateProbeRows = 1000;
 
-    private const double StepTolerance = 0.001;
-
     private readonly string _path;
     private readonly char _separator;
     private readonly int _columnCount;
@@ -52,7 +50,7 @@ internal sealed class CsvRecordingReader : IRecordingReader
     {
         try
         {
-            using var reader = OpenText(path);
+            using var reader = CsvText.OpenText(path);
             var headerLine = reader.ReadLine();
             var lineNumber = 1;
             while (headerLine is not null && headerLine.Trim().Length == 0)
@@ -67,7 +65,7 @@ internal sealed class CsvRecordingReader : IRecordingReader
             }
 
             var headerLineNumber = lineNumber;
-            var separator = DetectSeparator(path, headerLine, lineNumber);
+            var separator = CsvText.DetectSeparator(path, headerLine, lineNumber);
             var names = headerLine.Split(separator);
             if (names.Length < 2)
             {
@@ -75,7 +73,7 @@ internal sealed class CsvRecordingReader : IRecordingReader
             }
 
             // One pass at open: the first rows give the time column and its sample interval, the row count the duration.
-            var probe = new TimeProbe(Math.Min(RateProbeRows, 64));
+            var probe = new CsvTimeProbe(Math.Min(RateProbeRows, 64));
             long rows = 0;
             string? line;
             while ((line = reader.ReadLine()) is not null)
@@ -105,19 +103,19 @@ internal sealed class CsvRecordingReader : IRecordingReader
                 throw new RecordingFormatException(path, "only one data row: at least two are needed to derive the sample rate");
             }
 
-            var timeHeader = Unquote(names[0]);
-            var (timeName, timeUnit) = SplitUnit(timeHeader);
-            var timeFactor = TimeFactor(timeName, timeUnit);
+            var timeHeader = CsvText.Unquote(names[0]);
+            var (timeName, timeUnit) = CsvText.SplitUnit(timeHeader);
+            var timeFactor = CsvTimeColumn.TimeFactor(timeName, timeUnit);
             var byContent = false;
             if (timeFactor is null)
             {
                 // Exports name the time column in many languages, or not at all: a first column of steadily increasing
                 // numbers is the time, in seconds unless its unit says otherwise.
-                var unitFactor = timeUnit is null ? 1.0 : TimeUnitFactor(timeUnit);
+                var unitFactor = timeUnit is null ? 1.0 : CsvTimeColumn.TimeUnitFactor(timeUnit);
                 var why = unitFactor is null ? $"its unit '{timeUnit}' is not a time unit" : probe.WhyNotSteady();
                 if (why is not null || unitFactor is null)
                 {
-                    var seen = string.Join(", ", names.Select(n => $"'{Unquote(n)}'"));
+                    var seen = string.Join(", ", names.Select(n => $"'{CsvText.Unquote(n)}'"));
                     throw new RecordingFormatException(path, $"line {headerLineNumber}, column 1: '{timeHeader}' is not a time column: the first column must hold steadily increasing times in seconds, but {why}; headers seen: {seen}");
                 }
 
@@ -135,7 +133,7 @@ internal sealed class CsvRecordingReader : IRecordingReader
             var skipped = new List<SkippedSignal>();
             for (var i = 1; i < names.Length; i++)
             {
-                var (label, unit) = SplitUnit(Unquote(names[i]));
+                var (label, unit) = CsvText.SplitUnit(CsvText.Unquote(names[i]));
                 if (label.Length == 0)
                 {
                     throw new RecordingFormatException(path, $"line {headerLineNumber}, column {i + 1}: empty channel name");
@@ -217,7 +215,7 @@ internal sealed class CsvRecordingReader : IRecordingReader
         StreamReader reader;
         try
         {
-            reader = OpenText(_path);
+            reader = CsvText.OpenText(_path);
         }
         catch (Exception ex) when (ex is IOException or UnauthorizedAccessException)
         {
@@ -264,8 +262,8 @@ internal sealed class CsvRecordingReader : IRecordingReader
                     var field = span[range];
                     if (column == 0)
                     {
-                        var t = ParseNumber(_path, field, lineNumber, 1, Unquote(names[0]), _separator) * _timeFactorSeconds;
-                        var decimals = Decimals(field);
+                        var t = CsvText.ParseNumber(_path, field, lineNumber, 1, CsvText.Unquote(names[0]), _separator) * _timeFactorSeconds;
+                        var decimals = CsvText.Decimals(field);
                         if (rowIndex > 0)
                         {
                             CheckStep(t - previousTime, Math.Max(decimals, previousDecimals), lineNumber);
@@ -277,7 +275,7 @@ internal sealed class CsvRecordingReader : IRecordingReader
                     else if (columnToChannel[column] >= 0)
                     {
                         var c = columnToChannel[column];
-                        var value = ParseNumber(_path, field, lineNumber, column + 1, Unquote(names[column]), _separator);
+                        var value = CsvText.ParseNumber(_path, field, lineNumber, column + 1, CsvText.Unquote(names[column]), _separator);
                         buffer[(c * capacity) + filled] = (float)(value * _channelFactors[c]);
                     }
 
@@ -328,219 +326,11 @@ internal sealed class CsvRecordingReader : IRecordingReader
     {
         // Times printed with few decimals (0.0039 for 256 Hz) carry rounding of one unit in the last place.
         var quantum = Math.Pow(10, -decimals) * _timeFactorSeconds;
-        var tolerance = Math.Max(StepTolerance * _intervalSeconds, quantum * 1.000001);
+        var tolerance = Math.Max(CsvTimeColumn.StepTolerance * _intervalSeconds, quantum * 1.000001);
         if (Math.Abs(stepSeconds - _intervalSeconds) > tolerance)
         {
             throw new RecordingFormatException(_path, string.Create(CultureInfo.InvariantCulture,
                 $"line {lineNumber}, column 1: time step {stepSeconds:0.#########} s differs from the sample interval {_intervalSeconds:0.#########} s ({1 / _intervalSeconds:0.###} Hz) by more than 0.1 %; samples must be uniformly spaced"));
-        }
-    }
-
-    private static int Decimals(ReadOnlySpan<char> field)
-    {
-        var dot = field.IndexOfAny('.', ',');
-        if (dot < 0)
-        {
-            return 0;
-        }
-
-        var e = field.IndexOfAny('e', 'E');
-        var end = e < 0 ? field.Trim().Length : e;
-        return Math.Max(0, end - dot - 1);
-    }
-
-    private static StreamReader OpenText(string path) =>
-        new(new FileStream(path, FileMode.Open, FileAccess.Read, FileShare.ReadWrite | FileShare.Delete, 1 << 16, FileOptions.SequentialScan), Encoding.UTF8, detectEncodingFromByteOrderMarks: true);
-
-    private static char DetectSeparator(string path, string header, int lineNumber)
-    {
-        var commas = header.Count(ch => ch == ',');
-        var semicolons = header.Count(ch => ch == ';');
-        var tabs = header.Count(ch => ch == '\t');
-        var kinds = (commas > 0 ? 1 : 0) + (semicolons > 0 ? 1 : 0) + (tabs > 0 ? 1 : 0);
-        if (kinds > 1)
-        {
-            throw new RecordingFormatException(path, $"line {lineNumber}: header mixes separators ({commas} commas, {semicolons} semicolons, {tabs} tabs); use one of them");
-        }
-
-        return semicolons > 0 ? ';' : tabs > 0 ? '\t' : ',';
-    }
-
-    private static double ParseNumber(string path, ReadOnlySpan<char> field, int lineNumber, int column, string columnName, char separator)
-    {
-        if (TryParseNumber(field, separator, out var value))
-        {
-            return value;
-        }
-
-        throw new RecordingFormatException(path, $"line {lineNumber}, column {column} ('{columnName}'): '{Shown(field)}' is not a number");
-    }
-
-    private static bool TryParseNumber(ReadOnlySpan<char> field, char separator, out double value)
-    {
-        var text = field.Trim();
-        if (text.Length >= 2 && text[0] == '"' && text[^1] == '"')
-        {
-            text = text[1..^1].Trim();
-        }
-
-        if (double.TryParse(text, NumberStyles.Float, CultureInfo.InvariantCulture, out value) && !double.IsInfinity(value))
-        {
-            return true;
-        }
-
-        // Semicolon-separated files often come with decimal commas.
-        if (separator == ';' && text.Contains(','))
-        {
-            Span<char> copy = stackalloc char[Math.Min(text.Length, 128)];
-            if (text.Length <= copy.Length)
-            {
-                text.CopyTo(copy);
-                copy.Replace(',', '.');
-                if (double.TryParse(copy, NumberStyles.Float, CultureInfo.InvariantCulture, out value) && !double.IsInfinity(value))
-                {
-                    return true;
-                }
-            }
-        }
-
-        value = double.NaN;
-        return false;
-    }
-
-    private static string Shown(ReadOnlySpan<char> field)
-    {
-        var text = field.Trim();
-        return text.Length > 40 ? string.Concat(text[..40], "…") : text.ToString();
-    }
-
-    private static string Unquote(string name)
-    {
-        var t = name.Trim();
-        return t.Length >= 2 && t[0] == '"' && t[^1] == '"' ? t[1..^1].Trim() : t;
-    }
-
-    /// <summary>"Cz (mV)" → ("Cz", "mV"); "Fp1 [uV]" → ("Fp1", "uV"); "O1" → ("O1", null).</summary>
-    internal static (string Name, string? Unit) SplitUnit(string header)
-    {
-        var t = header.Trim();
-        if (t.Length > 2 && (t[^1] == ']' || t[^1] == ')'))
-        {
-            var open = t.LastIndexOf(t[^1] == ']' ? '[' : '(');
-            if (open > 0)
-            {
-                return (t[..open].Trim(), t[(open + 1)..^1].Trim());
-            }
-        }
-
-        return (t, null);
-    }
-
-    /// <summary>Seconds per unit for a time unit written after any column name ("Zeit (s)", "Время [мс]"), else null.</summary>
-    private static double? TimeUnitFactor(string unit) => unit.ToUpperInvariant() switch
-    {
-        "S" or "SEC" or "SECS" or "SECONDS" or "С" or "СЕК" => 1.0,
-        "MS" or "MSEC" or "МС" => 1e-3,
-        _ => null,
-    };
-
-    /// <summary>Seconds per unit of the time column, or null when the column is not a time column.</summary>
-    private static double? TimeFactor(string name, string? unit)
-    {
-        var n = name.ToUpperInvariant();
-        if (unit is not null)
-        {
-            if (n is not ("TIME" or "T"))
-            {
-                return null;
-            }
-
-            return unit.ToUpperInvariant() switch
-            {
-                "S" or "SEC" or "SECONDS" => 1.0,
-                "MS" => 1e-3,
-                _ => null,
-            };
-        }
-
-        return n switch
-        {
-            "TIME" or "T" or "TIME_S" or "TIME_SEC" or "SECONDS" or "SEC" or "S" => 1.0,
-            "TIME_MS" or "MS" => 1e-3,
-            _ => null,
-        };
-    }
-
-    /// <summary>The first column of the first rows, as read at open: its values, how they are written, where.</summary>
-    private sealed class TimeProbe(int capacity)
-    {
-        private readonly List<double> _values = new(capacity);
-        private readonly List<int> _decimals = new(capacity);
-        private readonly List<int> _lines = new(capacity);
-        private int _unparsedLine;
-        private string _unparsedText = "";
-
-        /// <summary>Mean step over the parsed rows, in the column's unit (NaN with fewer than two).</summary>
-        public double MeanStep => _values.Count >= 2 ? (_values[^1] - _values[0]) / (_values.Count - 1) : double.NaN;
-
-        public void Add(ReadOnlySpan<char> field, int lineNumber, char separator)
-        {
-            if (_unparsedLine > 0)
-            {
-                return;
-            }
-
-            if (!TryParseNumber(field, separator, out var value))
-            {
-                _unparsedLine = lineNumber;
-                _unparsedText = Shown(field);
-                return;
-            }
-
-            _values.Add(value);
-            _decimals.Add(Decimals(field));
-            _lines.Add(lineNumber);
-        }
-
-        /// <summary>For a column the header names as time: a value that is not a number is an error, as in any column.</summary>
-        public void ThrowIfUnparsed(string path, string header)
-        {
-            if (_unparsedLine > 0)
-            {
-                throw new RecordingFormatException(path, $"line {_unparsedLine}, column 1 ('{header}'): '{_unparsedText}' is not a number");
-            }
-        }
-
-        /// <summary>Null when the values rise in equal steps (within 0.1 % or one unit of their last printed decimal), else why not.</summary>
-        public string? WhyNotSteady()
-        {
-            if (_unparsedLine > 0)
-            {
-                return $"line {_unparsedLine} holds '{_unparsedText}', not a number";
-            }
-
-            if (_values.Count < 3)
-            {
-                return $"{_values.Count} rows are too few to show a steady step (3 needed)";
-            }
-
-            var mean = MeanStep;
-            for (var i = 1; i < _values.Count; i++)
-            {
-                var step = _values[i] - _values[i - 1];
-                if (!(step > 0))
-                {
-                    return string.Create(CultureInfo.InvariantCulture, $"line {_lines[i]} has {_values[i]:G10} after {_values[i - 1]:G10}");
-                }
-
-                var quantum = Math.Pow(10, -Math.Max(_decimals[i], _decimals[i - 1]));
-                if (Math.Abs(step - mean) > Math.Max(StepTolerance * mean, quantum * 1.000001))
-                {
-                    return string.Create(CultureInfo.InvariantCulture, $"line {_lines[i]} steps by {step:G10} where the first rows step by {mean:G10} on average");
-                }
-            }
-
-            return null;
         }
     }
 }

@@ -16,17 +16,14 @@ internal sealed class EdfRecordingReader : IRecordingReader, IRecordRangeReader
 
     private readonly FileStream _stream;
     private readonly EdfHeader _header;
-    private readonly GroupPlan[] _plans;
+    private readonly EdfGroupPlan[] _plans;
     private readonly EdfSignalHeader[] _annotationSignals;
     private readonly List<RecordingAnnotation> _annotations = [];
 
-    private EdfRecordingReader(FileStream stream, EdfHeader header, RecordingInfo info, GroupPlan[] plans, EdfSignalHeader[] annotationSignals)
+    private EdfRecordingReader(FileStream stream, EdfHeader header, RecordingInfo info, EdfGroupPlan[] plans, EdfSignalHeader[] annotationSignals)
     {
-        _stream = stream;
-        _header = header;
+        (_stream, _header, _plans, _annotationSignals) = (stream, header, plans, annotationSignals);
         Info = info;
-        _plans = plans;
-        _annotationSignals = annotationSignals;
     }
 
     public RecordingInfo Info { get; }
@@ -103,7 +100,7 @@ internal sealed class EdfRecordingReader : IRecordingReader, IRecordRangeReader
             }
 
             var groups = new SignalGroup[byRate.Count];
-            var plans = new GroupPlan[byRate.Count];
+            var plans = new EdfGroupPlan[byRate.Count];
             var prefilters = new List<string>();
             for (var g = 0; g < byRate.Count; g++)
             {
@@ -122,7 +119,7 @@ internal sealed class EdfRecordingReader : IRecordingReader, IRecordRangeReader
 
                 var layout = new StreamLayout(byRate[g].SamplesPerRecord / header.RecordDurationSeconds, channels);
                 groups[g] = new SignalGroup(g, layout, signals.Select(s => s.Index).ToArray());
-                plans[g] = new GroupPlan(layout, [.. signals]);
+                plans[g] = new EdfGroupPlan(layout, [.. signals]);
             }
 
             var info = new RecordingInfo(
@@ -206,10 +203,10 @@ internal sealed class EdfRecordingReader : IRecordingReader, IRecordRangeReader
         // Annotations of a range are parsed (a malformed one is still an error) into a list nobody reads.
         var annotations = collectAnnotations ? _annotations : [];
         annotations.Clear();
-        var batches = new Batch[_plans.Length];
+        var batches = new EdfRecordBatch[_plans.Length];
         for (var g = 0; g < _plans.Length; g++)
         {
-            batches[g] = new Batch(_plans[g], recordsPerChunk, reuseBuffers);
+            batches[g] = new EdfRecordBatch(_plans[g], recordsPerChunk, reuseBuffers);
         }
 
         var record = ArrayPool<byte>.Shared.Rent(recordBytes);
@@ -274,6 +271,10 @@ internal sealed class EdfRecordingReader : IRecordingReader, IRecordRangeReader
         finally
         {
             ArrayPool<byte>.Shared.Return(record);
+            foreach (var b in batches)
+            {
+                b.Dispose();
+            }
         }
     }
 
@@ -322,120 +323,5 @@ internal sealed class EdfRecordingReader : IRecordingReader, IRecordRangeReader
         || label.StartsWith("Trigger", StringComparison.OrdinalIgnoreCase)
         || label.Equals("TRIG", StringComparison.OrdinalIgnoreCase);
 
-    private static double UnitFactor(string dimension) => VoltageUnits.TryGetFactorToUv(dimension, out var f) ? f : 1.0;
-
-    /// <summary>Precomputed per-group decoding: where each channel sits in a record and its digital → µV line.</summary>
-    private sealed class GroupPlan
-    {
-        public GroupPlan(StreamLayout layout, EdfSignalHeader[] signals)
-        {
-            Layout = layout;
-            SamplesPerRecord = signals[0].SamplesPerRecord;
-            ByteOffsets = new int[signals.Length];
-            ScaleUv = new double[signals.Length];
-            OffsetUv = new double[signals.Length];
-            for (var c = 0; c < signals.Length; c++)
-            {
-                var s = signals[c];
-                var factor = s.PhysicalDimension.Length == 0 ? 1.0 : UnitFactor(s.PhysicalDimension);
-                var gain = s.Gain;
-                ByteOffsets[c] = (int)s.ByteOffsetInRecord;
-                ScaleUv[c] = gain * factor;
-                OffsetUv[c] = (s.PhysicalMin - (s.DigitalMin * gain)) * factor;
-            }
-        }
-
-        public StreamLayout Layout { get; }
-
-        public int SamplesPerRecord { get; }
-
-        public int[] ByteOffsets { get; }
-
-        public double[] ScaleUv { get; }
-
-        public double[] OffsetUv { get; }
-    }
-
-    /// <summary>Collects whole records of one group into a chunk buffer owned by the chunk it becomes, or reused for the next chunk when reading a range.</summary>
-    private sealed class Batch(GroupPlan plan, int recordsPerChunk, bool reuseBuffer)
-    {
-        private readonly int _capacityPerChannel = plan.SamplesPerRecord * recordsPerChunk;
-        private float[]? _buffer;
-        private long _firstIndex;
-
-        public GroupPlan Plan { get; } = plan;
-
-        public int Filled { get; private set; }
-
-        public long PendingStart { get; set; }
-
-        public long EndIndex => _firstIndex + Filled;
-
-        public bool IsFull => Filled >= _capacityPerChannel;
-
-        public void Append(byte[] record, bool isBdf)
-        {
-            if (Filled == 0)
-            {
-                _buffer ??= new float[_capacityPerChannel * Plan.Layout.ChannelCount];
-                _firstIndex = PendingStart;
-            }
-
-            var n = Plan.SamplesPerRecord;
-            for (var c = 0; c < Plan.ByteOffsets.Length; c++)
-            {
-                var dst = _buffer!.AsSpan((c * _capacityPerChannel) + Filled, n);
-                var scale = Plan.ScaleUv[c];
-                var offset = Plan.OffsetUv[c];
-                if (isBdf)
-                {
-                    var src = record.AsSpan(Plan.ByteOffsets[c], n * 3);
-                    for (var i = 0; i < dst.Length; i++)
-                    {
-                        var j = i * 3;
-                        var digital = src[j] | (src[j + 1] << 8) | ((sbyte)src[j + 2] << 16);
-                        dst[i] = (float)((digital * scale) + offset);
-                    }
-                }
-                else if (BitConverter.IsLittleEndian)
-                {
-                    Int16Decoder.Decode(MemoryMarshal.Cast<byte, short>(record.AsSpan(Plan.ByteOffsets[c], n * 2)), dst, scale, offset);
-                }
-                else
-                {
-                    var src = record.AsSpan(Plan.ByteOffsets[c], n * 2);
-                    for (var i = 0; i < dst.Length; i++)
-                    {
-                        var digital = BinaryPrimitives.ReadInt16LittleEndian(src.Slice(i * 2, 2));
-                        dst[i] = (float)((digital * scale) + offset);
-                    }
-                }
-            }
-
-            Filled += n;
-        }
-
-        public SampleChunk TakeChunk()
-        {
-            var buffer = _buffer!;
-            var filled = Filled;
-            if (filled < _capacityPerChannel)
-            {
-                // A short batch (end of file, EDF+D gap): close up the channel blocks so channel c starts at c·filled.
-                for (var c = 1; c < Plan.Layout.ChannelCount; c++)
-                {
-                    Array.Copy(buffer, c * _capacityPerChannel, buffer, c * filled, filled);
-                }
-            }
-
-            var chunk = new SampleChunk(Plan.Layout, _firstIndex, filled, buffer);
-            if (!reuseBuffer)
-            {
-                _buffer = null;
-            }
-
-            Filled = 0;
-            return chunk;
-        }
-    }
+    internal static double UnitFactor(string dimension) => VoltageUnits.TryGetFactorToUv(dimension, out var f) ? f : 1.0;
 }

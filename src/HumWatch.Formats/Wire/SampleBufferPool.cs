@@ -1,3 +1,5 @@
+using HumWatch.Core.Signals;
+
 namespace HumWatch.Formats.Wire;
 
 /// <summary>
@@ -6,11 +8,11 @@ namespace HumWatch.Formats.Wire;
 /// </summary>
 /// <remarks>
 /// Arrays are kept per exact length, so streams of the same shape share them and a chunk's array holds exactly its
-/// samples. Ownership: <see cref="TryRent"/> hands an array to one owner, who gives it back with <see cref="Return"/>
-/// exactly once, after the last read. A second return, or an array this pool did not hand out, throws
-/// <see cref="InvalidOperationException"/> rather than let two chunks share one array.
+/// samples. Ownership: <see cref="TryRent"/> hands an array to one <see cref="SampleChunkOwner"/>, whose disposal gives
+/// it back with <see cref="GiveBack"/> exactly once, after the last read. A second return, or an array this pool did not
+/// hand out, throws <see cref="InvalidOperationException"/> rather than let two chunks share one array.
 /// </remarks>
-public sealed class SampleBufferPool
+public sealed class SampleBufferPool : ISampleArrayPool
 {
     /// <summary>Smallest budget, 64 KiB.</summary>
     public const long MinBudgetBytes = 64L * 1024;
@@ -141,41 +143,41 @@ public sealed class SampleBufferPool
 
     /// <summary>Gives a rented array back; call exactly once per rental, after the last read of it.</summary>
     /// <exception cref="InvalidOperationException">The array is not rented from this pool (returned twice, or never rented here).</exception>
-    public void Return(float[] buffer)
+    public void GiveBack(float[] samplesUv)
     {
-        ArgumentNullException.ThrowIfNull(buffer);
+        ArgumentNullException.ThrowIfNull(samplesUv);
         if (_poisonReturned)
         {
             // Poison only arrays we handed out, so a wrong return cannot damage a caller's own data.
             lock (_lock)
             {
-                if (!_rented.Contains(buffer))
+                if (!_rented.Contains(samplesUv))
                 {
-                    throw NotRented(buffer);
+                    throw NotRented(samplesUv);
                 }
             }
 
-            buffer.AsSpan().Fill(float.NaN);
+            samplesUv.AsSpan().Fill(float.NaN);
         }
 
-        var bytes = 4L * buffer.Length;
+        var bytes = 4L * samplesUv.Length;
         lock (_lock)
         {
-            if (!_rented.Remove(buffer))
+            if (!_rented.Remove(samplesUv))
             {
-                throw NotRented(buffer);
+                throw NotRented(samplesUv);
             }
 
             _rentedBytes -= bytes;
             if (_rentedBytes + _idleBytes + bytes <= BudgetBytes)
             {
-                if (!_idle.TryGetValue(buffer.Length, out var stack))
+                if (!_idle.TryGetValue(samplesUv.Length, out var stack))
                 {
                     stack = new Stack<float[]>();
-                    _idle[buffer.Length] = stack;
+                    _idle[samplesUv.Length] = stack;
                 }
 
-                stack.Push(buffer);
+                stack.Push(samplesUv);
                 _idleBytes += bytes;
             }
         }

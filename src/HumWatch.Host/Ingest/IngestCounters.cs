@@ -100,30 +100,21 @@ public sealed class IngestCounters
         public readonly long[] Rejected = new long[ReasonCount];
         public readonly long[] DroppedFor = new long[DropReasonCount];
 
-        public Dictionary<WireRejectReason, long> RejectedByReason()
+        public Dictionary<WireRejectReason, long> RejectedByReason() => NonZero<WireRejectReason>(Rejected);
+
+        public Dictionary<IngestDropReason, long> DroppedByReason() => NonZero<IngestDropReason>(DroppedFor);
+
+        /// <summary>The counts above zero, keyed by the reason each index stands for.</summary>
+        private static Dictionary<TReason, long> NonZero<TReason>(long[] counts)
+            where TReason : struct, Enum
         {
-            var map = new Dictionary<WireRejectReason, long>();
-            for (var i = 0; i < Rejected.Length; i++)
+            var map = new Dictionary<TReason, long>();
+            for (var i = 0; i < counts.Length; i++)
             {
-                var count = Interlocked.Read(ref Rejected[i]);
+                var count = Interlocked.Read(ref counts[i]);
                 if (count > 0)
                 {
-                    map[(WireRejectReason)i] = count;
-                }
-            }
-
-            return map;
-        }
-
-        public Dictionary<IngestDropReason, long> DroppedByReason()
-        {
-            var map = new Dictionary<IngestDropReason, long>();
-            for (var i = 0; i < DroppedFor.Length; i++)
-            {
-                var count = Interlocked.Read(ref DroppedFor[i]);
-                if (count > 0)
-                {
-                    map[(IngestDropReason)i] = count;
+                    map[(TReason)Enum.ToObject(typeof(TReason), i)] = count;
                 }
             }
 

@@ -6,8 +6,8 @@ namespace HumWatch.Host.Ingest;
 
 /// <summary>
 /// Bounded hand-off from the ingest sockets to the analysis. A full queue never blocks a socket: the chunk is
-/// released, dropped, counted per stream in <see cref="IngestCounters"/>, and a rate-limited warning is logged.
-/// A chunk read from <see cref="Reader"/> belongs to the reader, who must pass it on or release it.
+/// disposed, dropped, counted per stream in <see cref="IngestCounters"/>, and a rate-limited warning is logged.
+/// A chunk read from <see cref="Reader"/> belongs to the reader, who must pass it on or dispose it.
 /// </summary>
 [SuppressMessage("Naming", "CA1711:Identifiers should not have incorrect suffix", Justification = "It is a queue; the name is part of the agreed host contract.")]
 public sealed class IngestQueue
@@ -57,7 +57,7 @@ public sealed class IngestQueue
     /// <summary>The consumer side; a chunk read from it belongs to the reader.</summary>
     public ChannelReader<StreamChunk> Reader => _channel.Reader;
 
-    /// <summary>Queues a chunk without waiting; when the queue is full (or completed) the chunk is released, dropped, counted and reported.</summary>
+    /// <summary>Takes the chunk: queues it without waiting, or, when the queue is full (or completed), disposes, counts and reports it.</summary>
     /// <returns>True when queued (the queue's reader now owns the chunk).</returns>
     public bool TryEnqueue(StreamChunk chunk)
     {
@@ -74,7 +74,7 @@ public sealed class IngestQueue
             return true;
         }
 
-        chunk.Release();
+        chunk.Dispose();
         var reason = _completed ? IngestDropReason.ShuttingDown : IngestDropReason.QueueFull;
         _counters.RecordDropped(chunk.StreamId, reason);
         if (_throttle.ShouldWarn(chunk.StreamId, out var suppressed))

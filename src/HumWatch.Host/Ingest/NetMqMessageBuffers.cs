@@ -7,7 +7,8 @@ namespace HumWatch.Host.Ingest;
 /// <summary>
 /// Lets NetMQ reuse message buffers instead of allocating one per frame (its default). At hundreds of streams a fresh
 /// 32 KiB+ array per received frame was most of the process's allocation and GC pause time. The setting is
-/// process-wide, so it is installed once and never undone.
+/// process-wide, so it is installed once and never undone; tests check a <see cref="PooledMessageBuffers"/> of their own
+/// instead of installing it.
 /// </summary>
 /// <remarks>
 /// A pool of its own rather than the shared one: after a pause the receive pipes hold up to their high-water mark of
@@ -25,7 +26,6 @@ internal static class NetMqMessageBuffers
     /// <summary>Arrays kept per power-of-two size class.</summary>
     private const int ArraysPerSize = 4096;
 
-    private static readonly ArrayPool<byte> Pool = ArrayPool<byte>.Create(MaxPooledBytes, ArraysPerSize);
     private static int _installed;
 
     /// <summary>Installs the pooled buffers for every NetMQ socket in the process; later calls do nothing.</summary>
@@ -37,10 +37,13 @@ internal static class NetMqMessageBuffers
         }
     }
 
-    private sealed class PooledMessageBuffers : IBufferPool
+    /// <summary>The buffers <see cref="Install"/> gives NetMQ; each instance has its own arrays.</summary>
+    internal sealed class PooledMessageBuffers : IBufferPool
     {
+        private readonly ArrayPool<byte> _pool = ArrayPool<byte>.Create(MaxPooledBytes, ArraysPerSize);
+
         // NetMQ keeps a message's size apart from its buffer, so a rounded-up array is fine.
-        public byte[] Take(int size) => Pool.Rent(size);
+        public byte[] Take(int size) => _pool.Rent(size);
 
         public void Return(byte[] buffer)
         {
@@ -48,7 +51,7 @@ internal static class NetMqMessageBuffers
             // own thread, ending the process) for a length it does not hand out; those are left to the GC.
             if (buffer.Length >= MinPooledBytes && buffer.Length <= MaxPooledBytes && BitOperations.IsPow2(buffer.Length))
             {
-                Pool.Return(buffer);
+                _pool.Return(buffer);
             }
         }
 

@@ -134,26 +134,17 @@ internal sealed class SocketIngestService : BackgroundService
             throw new InvalidOperationException("The decoder returned neither a chunk, a rejection nor a full buffer.");
         }
 
-        // From here this method owns the rented array until the queue takes the chunk (TryEnqueue releases it when not).
-        var chunk = result.Chunk;
-        var item = new StreamChunk(result.StreamId, chunk, origin, _pool);
-        try
-        {
-            if (result.StartsNewLayout)
-            {
-                _logger.NewSession(result.StreamId, origin, chunk.Layout.SampleRateHz, chunk.Layout.ChannelCount);
-            }
-        }
-        catch
-        {
-            item.Release();
-            throw;
-        }
-
-        var endSampleIndex = chunk.EndSampleIndex;
-        if (_queue.TryEnqueue(item))
+        // The queue takes the chunk either way (it disposes one it cannot hold), so nothing below can strand the array.
+        var layout = result.Chunk.Layout;
+        var endSampleIndex = result.Chunk.EndSampleIndex;
+        if (_queue.TryEnqueue(new StreamChunk(result.StreamId, result.Samples, origin)))
         {
             _counters.RecordAccepted(result.StreamId, endSampleIndex);
+        }
+
+        if (result.StartsNewLayout)
+        {
+            _logger.NewSession(result.StreamId, origin, layout.SampleRateHz, layout.ChannelCount);
         }
     }
 

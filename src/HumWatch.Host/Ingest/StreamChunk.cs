@@ -1,53 +1,40 @@
 using HumWatch.Core.Signals;
-using HumWatch.Formats.Wire;
 
 namespace HumWatch.Host.Ingest;
 
 /// <summary>
-/// A decoded chunk on its way to the stream's monitor. When its samples are rented from a <see cref="SampleBufferPool"/>,
-/// whoever holds the chunk last (the analysis, or the code that drops it) calls <see cref="Release"/> exactly once.
+/// A decoded chunk on its way to the stream's monitor, and the owner of its samples. It is handed on, never shared:
+/// whoever holds it last disposes it, once — the monitor after analysis, or the stage that drops it (the ingest queue
+/// when full, the router when no monitor takes it). Disposing gives a rented array back to its pool; a second dispose
+/// does nothing, and reading <see cref="Chunk"/>'s samples after it throws.
 /// </summary>
-public sealed class StreamChunk
+public sealed class StreamChunk : IDisposable
 {
-    private readonly SampleBufferPool? _pool;
-    private int _released;
+    private readonly SampleChunkOwner _samples;
 
     /// <param name="streamId">Stream id from the wire header.</param>
-    /// <param name="chunk">Samples in µV.</param>
+    /// <param name="samples">The samples, now owned by this chunk.</param>
     /// <param name="origin">Endpoint the chunk arrived on (for logs), e.g. "tcp://127.0.0.1:5710".</param>
-    /// <param name="pool">Pool the chunk's sample array is rented from; null when the chunk owns its array.</param>
-    public StreamChunk(string streamId, SampleChunk chunk, string origin, SampleBufferPool? pool = null)
+    public StreamChunk(string streamId, SampleChunkOwner samples, string origin)
     {
         ArgumentNullException.ThrowIfNull(streamId);
-        ArgumentNullException.ThrowIfNull(chunk);
+        ArgumentNullException.ThrowIfNull(samples);
         ArgumentNullException.ThrowIfNull(origin);
-        StreamId = streamId;
-        Chunk = chunk;
-        Origin = origin;
-        _pool = pool;
+        (StreamId, _samples, Origin) = (streamId, samples, origin);
     }
 
     /// <summary>Stream id from the wire header.</summary>
     public string StreamId { get; }
 
-    /// <summary>Samples in µV; do not read them after <see cref="Release"/>.</summary>
-    public SampleChunk Chunk { get; }
+    /// <summary>Samples in µV, borrowed from this chunk: do not keep them past <see cref="Dispose"/>.</summary>
+    public SampleChunk Chunk => _samples.Chunk;
 
     /// <summary>Endpoint the chunk arrived on.</summary>
     public string Origin { get; }
 
-    /// <summary>Bytes of the sample array.</summary>
-    public long SampleBytes => 4L * Chunk.SamplesUv.Length;
+    /// <summary>True once disposed.</summary>
+    public bool IsReleased => _samples.IsReleased;
 
-    /// <summary>Gives a rented sample array back to its pool (nothing to do for an owned one). Call once, after the last read.</summary>
-    /// <exception cref="InvalidOperationException">Called a second time: the array may already belong to another chunk.</exception>
-    public void Release()
-    {
-        if (Interlocked.Exchange(ref _released, 1) != 0)
-        {
-            throw new InvalidOperationException($"Chunk of stream '{StreamId}' at sample {Chunk.FirstSampleIndex} was released twice.");
-        }
-
-        _pool?.Return(Chunk.SamplesUv);
-    }
+    /// <summary>Gives the samples back (to their pool when rented); call after the last read. Later calls do nothing.</summary>
+    public void Dispose() => _samples.Dispose();
 }

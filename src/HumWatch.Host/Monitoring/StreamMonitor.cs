@@ -9,8 +9,8 @@ namespace HumWatch.Host.Monitoring;
 /// <summary>
 /// Runs one live stream: a bounded queue of chunks and one worker on the thread pool that feeds them to the stream's
 /// analyser, whose frames go to the current session. A change of rate or channels ends the session and starts a new one
-/// with a new analyser. The monitor owns every chunk posted to it and releases each exactly once: after the analyser
-/// consumed it, or when it cannot be queued.
+/// with a new analyser. A chunk the monitor accepts is its own, and <see cref="Process"/> disposes it once the analyser
+/// consumed it; a refused chunk stays with the caller.
 /// </summary>
 internal sealed class StreamMonitor : IAsyncDisposable
 {
@@ -69,7 +69,7 @@ internal sealed class StreamMonitor : IAsyncDisposable
     /// <summary>Seconds since the last chunk was offered.</summary>
     public double IdleSeconds => _time.GetElapsedTime(Interlocked.Read(ref _lastInputTicks)).TotalSeconds;
 
-    /// <summary>Takes the chunk: queues it, or releases it and returns false (with the reason) when the queue is full or closed.</summary>
+    /// <summary>Queues the chunk and takes it; or returns false (with the reason) when the queue is full or closed, and the caller keeps it.</summary>
     public bool TryPost(StreamChunk chunk, out IngestDropReason reason)
     {
         Interlocked.Exchange(ref _lastInputTicks, _time.GetTimestamp());
@@ -79,7 +79,6 @@ internal sealed class StreamMonitor : IAsyncDisposable
             return true;
         }
 
-        chunk.Release();
         if (_closed)
         {
             reason = IngestDropReason.ShuttingDown;
@@ -114,7 +113,7 @@ internal sealed class StreamMonitor : IAsyncDisposable
         EndSession("service stopping");
     }
 
-    /// <summary>Processes one item on the caller's thread and releases its chunk. The worker calls it; tests may too.</summary>
+    /// <summary>Processes one item on the caller's thread and disposes its chunk. The worker calls it; tests may too.</summary>
     internal void Process(MonitorItem item)
     {
         if (item.Chunk is null)
@@ -123,15 +122,9 @@ internal sealed class StreamMonitor : IAsyncDisposable
             return;
         }
 
-        try
-        {
-            Analyse(item.Chunk.Chunk);
-        }
-        finally
-        {
-            // The analyser copies what it keeps, so the samples are free once Append returns (also after a failure).
-            item.Chunk.Release();
-        }
+        // The analyser copies what it keeps, so the samples are free once Append returns (also after a failure).
+        using var chunk = item.Chunk;
+        Analyse(chunk.Chunk);
     }
 
     private void Analyse(SampleChunk chunk)

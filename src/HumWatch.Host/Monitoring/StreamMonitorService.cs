@@ -57,7 +57,7 @@ internal sealed class StreamMonitorService : BackgroundService
         _queue.Complete();
         await base.StopAsync(cancellationToken).ConfigureAwait(false);
 
-        // Chunks still in the ingest queue go to their streams (or are released and counted), so nothing is lost unseen.
+        // Chunks still in the ingest queue go to their streams (or are disposed and counted), so nothing is lost unseen.
         while (_queue.Reader.TryRead(out var item))
         {
             Route(item);
@@ -71,30 +71,37 @@ internal sealed class StreamMonitorService : BackgroundService
         _monitors.Clear();
     }
 
-    /// <summary>Hands one chunk to its stream's monitor, creating it on first sight; takes the chunk (a refused one is released and counted).</summary>
+    /// <summary>Takes one chunk: hands it to its stream's monitor, creating that on first sight, or disposes and counts it when no monitor takes it.</summary>
     internal void Route(StreamChunk item)
+    {
+        var refused = Post(item);
+        if (refused is { } reason)
+        {
+            // The one place a routed chunk ends unanalysed.
+            item.Dispose();
+            _counters.RecordDropped(item.StreamId, reason);
+        }
+    }
+
+    /// <summary>Null when the stream's monitor took the chunk; else why not (the chunk is still the caller's).</summary>
+    private IngestDropReason? Post(StreamChunk item)
     {
         if (!_monitors.TryGetValue(item.StreamId, out var monitor))
         {
             if (_monitors.Count >= _options.MaxStreams)
             {
-                item.Release();
-                _counters.RecordDropped(item.StreamId, IngestDropReason.TooManyStreams);
                 if (_tooManyThrottle.ShouldWarn(item.StreamId, out _))
                 {
                     _logger.TooManyStreams(item.StreamId, _options.MaxStreams);
                 }
 
-                return;
+                return IngestDropReason.TooManyStreams;
             }
 
             monitor = _monitors.GetOrAdd(item.StreamId, id => new StreamMonitor(id, _sessions, _loggerFactory.CreateLogger($"HumWatch.Stream.{id}")));
         }
 
-        if (!monitor.TryPost(item, out var reason))
-        {
-            _counters.RecordDropped(item.StreamId, reason);
-        }
+        return monitor.TryPost(item, out var reason) ? null : reason;
     }
 
     /// <summary>Publishes one status message per stream.</summary>

@@ -158,7 +158,7 @@ internal static class SimulateCommand
         for (var r = 0; r < records; r++)
         {
             var chunk = simulator.Next(perRecord);
-            writer.WriteRecord(chunk.SamplesUv.AsSpan(0, perRecord * chunk.Layout.ChannelCount));
+            writer.WriteRecord(chunk.SamplesUv);
         }
     }
 

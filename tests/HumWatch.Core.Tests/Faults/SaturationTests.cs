@@ -208,7 +208,7 @@ public sealed class SaturationTests
         for (var s = 0; s < seconds / 8; s++)
         {
             var chunk = simulator.Next(span);
-            var samples = chunk.SamplesUv;
+            var samples = chunk.SamplesUv.ToArray();
             for (var i = 0; i < samples.Length; i++)
             {
                 var digital = Math.Clamp(Math.Round(((samples[i] - physicalMin) / gain) + DigitalMin), DigitalMin, DigitalMax);

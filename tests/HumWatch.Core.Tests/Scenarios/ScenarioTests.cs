@@ -177,7 +177,7 @@ public sealed class ScenarioTests
         {
             var first = simulator.PositionSamples;
             simulator.Fill(buffer, 2560);
-            analyzer.Append(new Signals.SampleChunk(simulator.Layout, first, 2560, buffer), tracked);
+            analyzer.Append(new Core.Signals.SampleChunk(simulator.Layout, first, 2560, buffer), tracked);
         }
 
         Assert.Equal(1197, sink.Frames);

@@ -199,9 +199,9 @@ public sealed class CsvReaderTests : IDisposable
     [Fact]
     public void Unit_suffix_is_split_from_the_label()
     {
-        Assert.Equal(("Fp1", "uV"), HumWatch.Formats.Csv.CsvRecordingReader.SplitUnit("Fp1 [uV]"));
-        Assert.Equal(("Cz", "mV"), HumWatch.Formats.Csv.CsvRecordingReader.SplitUnit(" Cz (mV) "));
-        Assert.Equal(("O1", null), HumWatch.Formats.Csv.CsvRecordingReader.SplitUnit("O1"));
+        Assert.Equal(("Fp1", "uV"), HumWatch.Formats.Csv.CsvText.SplitUnit("Fp1 [uV]"));
+        Assert.Equal(("Cz", "mV"), HumWatch.Formats.Csv.CsvText.SplitUnit(" Cz (mV) "));
+        Assert.Equal(("O1", null), HumWatch.Formats.Csv.CsvText.SplitUnit("O1"));
     }
 }
 

@@ -58,6 +58,31 @@ public sealed class RecordRangeTests
     }
 
     [Fact]
+    public void A_range_chunk_is_lent_until_its_buffer_is_refilled_while_whole_file_chunks_stay_the_callers()
+    {
+        using var folder = new TempFolder();
+        var path = WriteTwoRateFile(folder.File("loan.edf"), records: 6);
+        using var reader = RecordingReader.Open(path);
+
+        // 0.5 s records in 1 s chunks: group 0 yields a chunk every second record, then the range reuses its buffer.
+        using var range = ((IRecordRangeReader)reader).ReadRecordRange(0, 6, 1.0).GetEnumerator();
+        Assert.True(range.MoveNext());
+        var lent = range.Current.Chunk;
+        var firstSample = lent.SamplesUv[0];
+        Assert.True(range.MoveNext()); // group 1 of the same records: group 0's buffer is not touched yet
+        Assert.Equal(firstSample, lent.SamplesUv[0]);
+        Assert.True(range.MoveNext()); // the next records went into the buffer first
+
+        Assert.True(lent.IsReleased);
+        Assert.Throws<ObjectDisposedException>(() => lent.SamplesUv[0]);
+        Assert.False(range.Current.Chunk.IsReleased);
+
+        var kept = reader.ReadChunks(1.0).Select(c => c.Chunk).ToList();
+        Assert.All(kept, c => Assert.False(c.IsReleased));
+        Assert.Equal(firstSample, kept[0].SamplesUv[0]);
+    }
+
+    [Fact]
     public void A_discontinuous_file_refuses_ranges_and_says_why()
     {
         using var folder = new TempFolder();
@@ -152,7 +177,7 @@ public sealed class RecordRangeTests
             // Range chunks reuse their buffer: copy before asking for the next.
             for (var c = 0; c < chunk.Layout.ChannelCount; c++)
             {
-                entry.Samples[c].AddRange(chunk.SamplesUv.AsSpan(c * chunk.SamplesPerChannel, chunk.SamplesPerChannel).ToArray());
+                entry.Samples[c].AddRange(chunk.SamplesUv.Slice(c * chunk.SamplesPerChannel, chunk.SamplesPerChannel).ToArray());
             }
         }
 

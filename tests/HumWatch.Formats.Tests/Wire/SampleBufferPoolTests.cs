@@ -28,7 +28,7 @@ public sealed class SampleBufferPoolTests
 
         var rented = Enumerable.Range(0, 4).Select(_ => pool.TryRent(quarter)!).ToList();
         var refused = pool.TryRent(1);
-        pool.Return(rented[0]);
+        pool.GiveBack(rented[0]);
         var again = pool.TryRent(quarter);
 
         Assert.All(rented, Assert.NotNull);
@@ -45,7 +45,7 @@ public sealed class SampleBufferPoolTests
         var pool = new SampleBufferPool(Budget);
 
         var a = pool.TryRent(1000)!;
-        pool.Return(a);
+        pool.GiveBack(a);
         var b = pool.TryRent(999)!;
         var c = pool.TryRent(1000)!;
 
@@ -59,10 +59,10 @@ public sealed class SampleBufferPoolTests
     {
         var pool = new SampleBufferPool(Budget);
         var a = pool.TryRent(100)!;
-        pool.Return(a);
+        pool.GiveBack(a);
 
-        Assert.Throws<InvalidOperationException>(() => pool.Return(a));
-        Assert.Throws<InvalidOperationException>(() => pool.Return(new float[100]));
+        Assert.Throws<InvalidOperationException>(() => pool.GiveBack(a));
+        Assert.Throws<InvalidOperationException>(() => pool.GiveBack(new float[100]));
         Assert.Equal(0, pool.RentedBytes);
         Assert.Equal(400, pool.IdleBytes);
     }
@@ -74,7 +74,7 @@ public sealed class SampleBufferPoolTests
         var a = pool.TryRent(50)!;
         a.AsSpan().Fill(1f);
 
-        pool.Return(a);
+        pool.GiveBack(a);
 
         Assert.All(a, v => Assert.True(float.IsNaN(v)));
         Assert.False(pool.IsRented(a));
@@ -87,8 +87,8 @@ public sealed class SampleBufferPoolTests
         var half = (int)(Budget / 2 / 4);
         var old1 = pool.TryRent(half)!;
         var old2 = pool.TryRent(half)!;
-        pool.Return(old1);
-        pool.Return(old2);
+        pool.GiveBack(old1);
+        pool.GiveBack(old2);
 
         var shape = pool.TryRent(half - 1);
 
@@ -119,7 +119,7 @@ public sealed class SampleBufferPoolTests
                 }
 
                 owners.TryRemove(a, out _);
-                pool.Return(a);
+                pool.GiveBack(a);
             }
         });
 
@@ -137,8 +137,14 @@ public sealed class SampleBufferPoolTests
         var result = ChunkWireCodec.Decode(message.Header, message.Samples, pool: pool);
 
         Assert.True(result.IsSuccess, result.Rejection?.Message);
-        Assert.True(pool.IsRented(result.Chunk.SamplesUv));
+        Assert.Equal(1, pool.RentedCount);
+        Assert.Equal(6 * 4, pool.RentedBytes); // exactly 2 channels × 3 samples of float32
         Assert.Equal([1f, 2, 3, 4, 5, 6], result.Chunk.SamplesUv);
+
+        result.Samples.Dispose();
+
+        Assert.Equal(0, pool.RentedCount);
+        Assert.Throws<ObjectDisposedException>(() => result.Chunk.SamplesUv[0]);
     }
 
     [Fact]

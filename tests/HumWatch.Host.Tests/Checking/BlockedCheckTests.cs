@@ -183,7 +183,7 @@ public sealed class BlockedCheckTests : IDisposable
         using var writer = new EdfWriter(path, options);
         for (var second = 0; second < seconds; second++)
         {
-            writer.WriteRecord(simulator.Next(rate).SamplesUv.AsSpan(0, rate * room.Channels.Count));
+            writer.WriteRecord(simulator.Next(rate).SamplesUv.Slice(0, rate * room.Channels.Count));
         }
 
         return path;

@@ -108,7 +108,7 @@ public sealed class CheckEvidenceTests : IDisposable
         using var writer = new EdfWriter(path, options);
         for (var second = 0; second < 120; second++)
         {
-            writer.WriteRecord(simulator.Next(500).SamplesUv.AsSpan(0, 500 * room.Channels.Count));
+            writer.WriteRecord(simulator.Next(500).SamplesUv.Slice(0, 500 * room.Channels.Count));
         }
 
         return path;

@@ -220,7 +220,7 @@ public sealed class ServiceEndToEndTests
             for (var r = 0; r < seconds; r++)
             {
                 var chunk = room.Next(perRecord);
-                writer.WriteRecord(chunk.SamplesUv.AsSpan(0, perRecord * room.Layout.ChannelCount));
+                writer.WriteRecord(chunk.SamplesUv.Slice(0, perRecord * room.Layout.ChannelCount));
             }
         }
 

@@ -223,7 +223,7 @@ public sealed class InboxServiceTests : IDisposable
         {
             var chunk = item.Chunk;
             var utc = startUtc.AddTicks((long)Math.Round(chunk.FirstSampleIndex / chunk.Layout.SampleRateHz * TimeSpan.TicksPerSecond));
-            yield return new SampleChunk(chunk.Layout, chunk.FirstSampleIndex, chunk.SamplesPerChannel, chunk.SamplesUv, utc);
+            yield return chunk.At(chunk.FirstSampleIndex, utc);
         }
     }
 
@@ -256,8 +256,8 @@ public sealed class InboxServiceTests : IDisposable
         {
             // A record holds each signal's samples in turn: channel-major, as the simulator makes them.
             var slowPart = slowPerRecord * slow.Layout.ChannelCount;
-            slow.Next(slowPerRecord).SamplesUv.AsSpan(0, slowPart).CopyTo(record);
-            fast.Next(fastPerRecord).SamplesUv.AsSpan().CopyTo(record.AsSpan(slowPart));
+            slow.Next(slowPerRecord).SamplesUv[..slowPart].CopyTo(record);
+            fast.Next(fastPerRecord).SamplesUv.CopyTo(record.AsSpan(slowPart));
             writer.WriteRecord(record);
         }
     }

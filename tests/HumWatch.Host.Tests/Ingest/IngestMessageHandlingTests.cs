@@ -83,7 +83,7 @@ public sealed class IngestMessageHandlingTests
         Handle(harness, ChunkWireCodec.Encode("big", Some.Chunk(layout, 100_000, 100_000, 0)));
         Handle(harness, ChunkWireCodec.Encode("big", Some.Chunk(layout, 200_000, 100_000, 0)));
         var first = (await harness.ReadAsync(1))[0];
-        first.Release();
+        first.Dispose();
         Handle(harness, ChunkWireCodec.Encode("big", Some.Chunk(layout, 300_000, 100_000, 0)));
 
         var counts = harness.Counters.Get("big")!;
@@ -94,22 +94,37 @@ public sealed class IngestMessageHandlingTests
         Assert.Contains("Ingest:BufferBytes", warning.Message, StringComparison.Ordinal);
         var second = (await harness.ReadAsync(1))[0];
         Assert.Equal(300_000, second.Chunk.FirstSampleIndex);
-        Assert.True(harness.Pool.IsRented(second.Chunk.SamplesUv));
+        Assert.False(second.IsReleased);
+        Assert.Equal(1, harness.Pool.RentedCount); // only the queued chunk's array is out
+        second.Dispose();
+        Assert.Equal(0, harness.Pool.RentedCount);
     }
 
     [Fact]
-    public async Task A_released_chunk_is_poisoned_and_a_second_release_throws()
+    public async Task A_disposed_chunk_refuses_reads_and_a_second_dispose_cannot_return_its_array_again()
     {
         await using var harness = new IngestHarness(IngestHarness.LoopbackOptions());
         Handle(harness, ChunkWireCodec.Encode("s", Some.Chunk(Some.Layout(250, "A"), 0, 10, 7)));
         var chunk = (await harness.ReadAsync(1))[0];
-        Assert.Equal(7f, chunk.Chunk.SamplesUv[0]);
+        var view = chunk.Chunk;
+        Assert.Equal(7f, view.SamplesUv[0]);
 
-        chunk.Release();
+        chunk.Dispose();
 
-        Assert.True(float.IsNaN(chunk.Chunk.SamplesUv[0]));
         Assert.Equal(0, harness.Pool.RentedCount);
-        Assert.Throws<InvalidOperationException>(chunk.Release);
+        Assert.True(chunk.IsReleased);
+        Assert.Throws<ObjectDisposedException>(() => view.SamplesUv[0]);
+        Assert.Throws<ObjectDisposedException>(() => view.Channel(0)[0]);
+
+        // The same shape again reuses the array; disposing the first chunk once more must not take it from the second.
+        Handle(harness, ChunkWireCodec.Encode("s", Some.Chunk(Some.Layout(250, "A"), 10, 10, 9)));
+        var next = (await harness.ReadAsync(1))[0];
+        Assert.Equal(1, harness.Pool.AllocatedCount);
+        chunk.Dispose();
+
+        Assert.Equal(1, harness.Pool.RentedCount);
+        Assert.Equal(9f + (10 * 0.5f), next.Chunk.SamplesUv[0]); // tag + index × 0.5, not the NaN of a returned array
+        next.Dispose();
     }
 
     private static void Handle(IngestHarness harness, WireMessage message) =>

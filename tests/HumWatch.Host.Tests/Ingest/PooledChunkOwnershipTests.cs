@@ -87,9 +87,7 @@ public sealed class PooledChunkOwnershipTests
     private static StreamChunk Pooled(SampleBufferPool pool, string streamId, StreamLayout layout, int k)
     {
         const int Samples = 125;
-        var data = pool.TryRent(Samples * layout.ChannelCount)!;
-        Some.Chunk(layout, k * Samples, Samples, 1).SamplesUv.CopyTo(data, 0);
-        return new StreamChunk(streamId, new SampleChunk(layout, k * Samples, Samples, data), "test", pool);
+        return new StreamChunk(streamId, SampleChunkOwner.CopyOf(Some.Chunk(layout, k * Samples, Samples, 1), pool), "test");
     }
 
     private static long Accepted(IngestCounters counters) => counters.Snapshot().Sum(c => c.Accepted);

@@ -85,7 +85,7 @@ internal sealed class SessionHarness : IDisposable
     {
         foreach (var chunk in chunks)
         {
-            monitor.Process(StreamMonitor.MonitorItem.ForChunk(new StreamChunk(monitor.StreamId, chunk, "test")));
+            monitor.Process(StreamMonitor.MonitorItem.ForChunk(new StreamChunk(monitor.StreamId, SampleChunkOwner.CopyOf(chunk), "test")));
         }
     }
 
