@@ -32,7 +32,7 @@ internal sealed class SettingsArguments
     public string[] Settings(ParseResult parse) => parse.GetValue(Set) ?? [];
 }
 
-/// <summary>The settings options every command takes (--config, --set) and one way of reporting bad settings.</summary>
+/// <summary>The settings options of the commands that read settings (run, demo, check, summary), and one way of reporting bad settings.</summary>
 internal static class CommandSettings
 {
     public static Option<string[]> ConfigOption(string description = "Configuration file(s) layered over the defaults and ./appsettings.json, later files winning (repeatable).") => new("--config")
