@@ -1,6 +1,7 @@
 using HumWatch.Core.Attribution;
 using HumWatch.Core.Faults;
 using HumWatch.Core.Findings;
+using HumWatch.Core.Text;
 
 namespace HumWatch.Core.Alerts;
 
@@ -27,15 +28,17 @@ public enum AlertClearReason
 /// <summary>Text forms of <see cref="AlertClearReason"/>.</summary>
 public static class AlertClearReasonText
 {
+    /// <summary>The table: "subsided", "stream ended" (an undefined value is written "subsided").</summary>
+    public static TextForms<AlertClearReason> Forms { get; } = new(
+        AlertClearReason.Subsided,
+        (AlertClearReason.Subsided, "subsided"),
+        (AlertClearReason.StreamEnded, "stream ended"));
+
     /// <summary>"subsided" or "stream ended".</summary>
-    public static string ToText(this AlertClearReason reason) => reason == AlertClearReason.StreamEnded ? "stream ended" : "subsided";
+    public static string ToText(this AlertClearReason reason) => Forms.ToText(reason);
 
     /// <summary>Parses the text form; unknown text gives false.</summary>
-    public static bool TryParse(string? text, out AlertClearReason reason)
-    {
-        reason = text == "stream ended" ? AlertClearReason.StreamEnded : AlertClearReason.Subsided;
-        return text is "stream ended" or "subsided";
-    }
+    public static bool TryParse(string? text, out AlertClearReason reason) => Forms.TryParse(text, out reason);
 }
 
 /// <summary>What happened to an alert.</summary>
@@ -54,25 +57,18 @@ public enum AlertEventKind
 /// <summary>Text forms of <see cref="AlertEventKind"/>: the message and store "event".</summary>
 public static class AlertEventKindText
 {
+    /// <summary>The table: "raised", "severity", "cleared" (an undefined value is written "raised").</summary>
+    public static TextForms<AlertEventKind> Forms { get; } = new(
+        AlertEventKind.Raised,
+        (AlertEventKind.Raised, "raised"),
+        (AlertEventKind.SeverityChanged, "severity"),
+        (AlertEventKind.Cleared, "cleared"));
+
     /// <summary>"raised", "severity" or "cleared".</summary>
-    public static string ToText(this AlertEventKind kind) => kind switch
-    {
-        AlertEventKind.SeverityChanged => "severity",
-        AlertEventKind.Cleared => "cleared",
-        _ => "raised",
-    };
+    public static string ToText(this AlertEventKind kind) => Forms.ToText(kind);
 
     /// <summary>Parses the text form; unknown text gives false.</summary>
-    public static bool TryParse(string? text, out AlertEventKind kind)
-    {
-        kind = text switch
-        {
-            "severity" => AlertEventKind.SeverityChanged,
-            "cleared" => AlertEventKind.Cleared,
-            _ => AlertEventKind.Raised,
-        };
-        return text is "raised" or "severity" or "cleared";
-    }
+    public static bool TryParse(string? text, out AlertEventKind kind) => Forms.TryParse(text, out kind);
 }
 
 /// <summary>

@@ -1,3 +1,5 @@
+using HumWatch.Core.Text;
+
 namespace HumWatch.Core.Alerts;
 
 /// <summary>How strong a finding is, from its amplitude against <see cref="AlertOptions"/> levels.</summary>
@@ -16,29 +18,20 @@ public enum AlertSeverity
     Severe,
 }
 
-/// <summary>Text forms used in logs, the store and messages.</summary>
+/// <summary>Text forms of <see cref="AlertSeverity"/> used in logs, the store and messages.</summary>
 public static class AlertSeverityText
 {
+    /// <summary>The table: "none", "minor", "marked", "severe" (an undefined value is written "none").</summary>
+    public static TextForms<AlertSeverity> Forms { get; } = new(
+        AlertSeverity.None,
+        (AlertSeverity.None, "none"),
+        (AlertSeverity.Minor, "minor"),
+        (AlertSeverity.Marked, "marked"),
+        (AlertSeverity.Severe, "severe"));
+
     /// <summary>"none", "minor", "marked" or "severe".</summary>
-    public static string ToText(this AlertSeverity severity) => severity switch
-    {
-        AlertSeverity.Minor => "minor",
-        AlertSeverity.Marked => "marked",
-        AlertSeverity.Severe => "severe",
-        _ => "none",
-    };
+    public static string ToText(this AlertSeverity severity) => Forms.ToText(severity);
 
     /// <summary>Parses the text form; unknown text gives false.</summary>
-    public static bool TryParse(string? text, out AlertSeverity severity)
-    {
-        severity = text switch
-        {
-            "minor" => AlertSeverity.Minor,
-            "marked" => AlertSeverity.Marked,
-            "severe" => AlertSeverity.Severe,
-            "none" => AlertSeverity.None,
-            _ => (AlertSeverity)(-1),
-        };
-        return severity >= AlertSeverity.None;
-    }
+    public static bool TryParse(string? text, out AlertSeverity severity) => Forms.TryParse(text, out severity);
 }

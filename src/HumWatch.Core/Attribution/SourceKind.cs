@@ -1,3 +1,5 @@
+using HumWatch.Core.Text;
+
 namespace HumWatch.Core.Attribution;
 
 /// <summary>What a narrowband line most likely comes from.</summary>
@@ -19,25 +21,17 @@ public enum SourceKind
 /// <summary>Text forms of <see cref="SourceKind"/>, the one spelling every output uses (JSON values, topics, logs, the store).</summary>
 public static class SourceKindText
 {
+    /// <summary>The table: "mains", "display", "site-tone", "unidentified" (an undefined value is written "unidentified").</summary>
+    public static TextForms<SourceKind> Forms { get; } = new(
+        SourceKind.Unidentified,
+        (SourceKind.Mains, "mains"),
+        (SourceKind.Display, "display"),
+        (SourceKind.SiteTone, "site-tone"),
+        (SourceKind.Unidentified, "unidentified"));
+
     /// <summary>"mains", "display", "site-tone" or "unidentified".</summary>
-    public static string ToText(this SourceKind kind) => kind switch
-    {
-        SourceKind.Mains => "mains",
-        SourceKind.Display => "display",
-        SourceKind.SiteTone => "site-tone",
-        _ => "unidentified",
-    };
+    public static string ToText(this SourceKind kind) => Forms.ToText(kind);
 
     /// <summary>Parses the text form; unknown text gives false.</summary>
-    public static bool TryParse(string? text, out SourceKind kind)
-    {
-        kind = text switch
-        {
-            "mains" => SourceKind.Mains,
-            "display" => SourceKind.Display,
-            "site-tone" => SourceKind.SiteTone,
-            _ => SourceKind.Unidentified,
-        };
-        return kind != SourceKind.Unidentified || text == "unidentified";
-    }
+    public static bool TryParse(string? text, out SourceKind kind) => Forms.TryParse(text, out kind);
 }

@@ -1,3 +1,5 @@
+using HumWatch.Core.Text;
+
 namespace HumWatch.Core.Reporting;
 
 /// <summary>Outcome of checking a recording: against <see cref="CheckLimits"/>, or an error when it could not be read. Worse outcomes compare greater.</summary>
@@ -19,25 +21,17 @@ public enum Verdict
 /// <summary>Text forms of <see cref="Verdict"/>: the `check` report's "verdict".</summary>
 public static class VerdictText
 {
+    /// <summary>The table: "pass", "warn", "fail", "error" (an undefined value is written "error").</summary>
+    public static TextForms<Verdict> Forms { get; } = new(
+        Verdict.Error,
+        (Verdict.Pass, "pass"),
+        (Verdict.Warn, "warn"),
+        (Verdict.Fail, "fail"),
+        (Verdict.Error, "error"));
+
     /// <summary>"pass", "warn", "fail" or "error".</summary>
-    public static string ToText(this Verdict verdict) => verdict switch
-    {
-        Verdict.Pass => "pass",
-        Verdict.Warn => "warn",
-        Verdict.Fail => "fail",
-        _ => "error",
-    };
+    public static string ToText(this Verdict verdict) => Forms.ToText(verdict);
 
     /// <summary>Parses the text form; unknown text gives false.</summary>
-    public static bool TryParse(string? text, out Verdict verdict)
-    {
-        verdict = text switch
-        {
-            "pass" => Verdict.Pass,
-            "warn" => Verdict.Warn,
-            "fail" => Verdict.Fail,
-            _ => Verdict.Error,
-        };
-        return verdict != Verdict.Error || text == "error";
-    }
+    public static bool TryParse(string? text, out Verdict verdict) => Forms.TryParse(text, out verdict);
 }

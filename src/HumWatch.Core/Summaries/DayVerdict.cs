@@ -1,3 +1,5 @@
+using HumWatch.Core.Text;
+
 namespace HumWatch.Core.Summaries;
 
 /// <summary>A stream's day, or one kind of source over it, against <see cref="DaySummaryRules"/> limits.</summary>
@@ -19,25 +21,17 @@ public enum DayVerdict
 /// <summary>Text forms of <see cref="DayVerdict"/> used in summary JSON, the day page, logs and the store.</summary>
 public static class DayVerdictText
 {
+    /// <summary>The table: "no data", "pass", "warn", "fail" (an undefined value is written "no data").</summary>
+    public static TextForms<DayVerdict> Forms { get; } = new(
+        DayVerdict.NoData,
+        (DayVerdict.NoData, "no data"),
+        (DayVerdict.Pass, "pass"),
+        (DayVerdict.Warn, "warn"),
+        (DayVerdict.Fail, "fail"));
+
     /// <summary>"no data", "pass", "warn" or "fail".</summary>
-    public static string ToText(this DayVerdict verdict) => verdict switch
-    {
-        DayVerdict.Pass => "pass",
-        DayVerdict.Warn => "warn",
-        DayVerdict.Fail => "fail",
-        _ => "no data",
-    };
+    public static string ToText(this DayVerdict verdict) => Forms.ToText(verdict);
 
     /// <summary>Parses the text form; unknown text gives false.</summary>
-    public static bool TryParse(string? text, out DayVerdict verdict)
-    {
-        verdict = text switch
-        {
-            "pass" => DayVerdict.Pass,
-            "warn" => DayVerdict.Warn,
-            "fail" => DayVerdict.Fail,
-            _ => DayVerdict.NoData,
-        };
-        return verdict != DayVerdict.NoData || text == "no data";
-    }
+    public static bool TryParse(string? text, out DayVerdict verdict) => Forms.TryParse(text, out verdict);
 }

@@ -59,7 +59,10 @@ public enum EvidenceBasis
 /// harmonic locked to the grid, near 0 for a source of its own; NaN when not computed.
 /// </param>
 /// <param name="ChannelOverlap">Mean Jaccard overlap of the line's channels with the fundamental's (0..1); NaN when not computed.</param>
-/// <param name="FrequencySpreadHz">Standard deviation of the line's frequency over the tracked frames, Hz; NaN with fewer than two.</param>
+/// <param name="FrequencySpreadHz">
+/// Standard deviation of the line's frequency, Hz: over the frames it shares with the fundamental (unfolded) when there
+/// are two or more, else over all its tracked frames; NaN with fewer than two.
+/// </param>
 /// <param name="GridSpreadHz">Standard deviation of n × the fundamental over the same frames, Hz; NaN when not computed.</param>
 /// <param name="SharedFrames">Frames in which both the line and the fundamental were seen (the evidence window).</param>
 public readonly record struct LineEvidence(

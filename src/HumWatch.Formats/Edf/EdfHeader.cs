@@ -284,21 +284,19 @@ internal sealed class EdfHeader
                 }
             }
 
-            result[i] = new EdfSignalHeader
-            {
-                Index = i,
-                Label = label,
-                Transducer = Get(1, i).Trim(),
-                PhysicalDimension = Get(2, i).Trim(),
-                PhysicalMin = physMin,
-                PhysicalMax = physMax,
-                DigitalMin = (int)Math.Clamp(digMin, int.MinValue, int.MaxValue),
-                DigitalMax = (int)Math.Clamp(digMax, int.MinValue, int.MaxValue),
-                Prefiltering = Get(7, i).Trim(),
-                SamplesPerRecord = (int)samples,
-                ByteOffsetInRecord = byteOffset,
-                IsAnnotation = isAnnotation,
-            };
+            result[i] = new EdfSignalHeader(
+                Index: i,
+                Label: label,
+                Transducer: Get(1, i).Trim(),
+                PhysicalDimension: Get(2, i).Trim(),
+                PhysicalMin: physMin,
+                PhysicalMax: physMax,
+                DigitalMin: (int)Math.Clamp(digMin, int.MinValue, int.MaxValue),
+                DigitalMax: (int)Math.Clamp(digMax, int.MinValue, int.MaxValue),
+                Prefiltering: Get(7, i).Trim(),
+                SamplesPerRecord: (int)samples,
+                ByteOffsetInRecord: byteOffset,
+                IsAnnotation: isAnnotation);
             byteOffset += samples * (isBdf ? 3 : 2);
         }
 

@@ -2,6 +2,7 @@ using Microsoft.Extensions.Logging;
 
 namespace HumWatch.Host.Inbox;
 
+/// <summary>Source-generated log messages of the folder inbox. Event ids 4000–4099.</summary>
 internal static partial class InboxLog
 {
     [LoggerMessage(EventId = 4001, Level = LogLevel.Information, Message = "Inbox: watching {Folder}")]

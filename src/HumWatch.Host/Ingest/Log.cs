@@ -3,8 +3,8 @@ using Microsoft.Extensions.Logging;
 
 namespace HumWatch.Host.Ingest;
 
-/// <summary>Source-generated log messages of the socket ingest (event ids 1100–1199).</summary>
-internal static partial class Log
+/// <summary>Source-generated log messages of the socket ingest. Event ids 1100–1199.</summary>
+internal static partial class IngestLog
 {
     [LoggerMessage(1100, LogLevel.Information, "Ingest {SocketType} socket {Mode} {Endpoint} (configured as Ingest:Endpoints:{EndpointIndex}, CURVE {CurveEnabled})")]
     public static partial void SocketOpened(this ILogger logger, IngestSocketType socketType, IngestSocketMode mode, string endpoint, int endpointIndex, bool curveEnabled);

@@ -2,6 +2,7 @@ using Microsoft.Extensions.Logging;
 
 namespace HumWatch.Host.Monitoring;
 
+/// <summary>Source-generated log messages of the stream monitors. Event ids 3200–3299.</summary>
 internal static partial class MonitoringLog
 {
     [LoggerMessage(EventId = 3201, Level = LogLevel.Information, Message = "Stream {Stream}: session started, {ChannelCount} channels at {SampleRateHz} Hz")]

@@ -8,7 +8,8 @@ namespace HumWatch.Host.Publishing;
 /// <summary>
 /// ZeroMQ PUB socket owned by one poller thread. Callers on any thread hand messages over through a
 /// <see cref="NetMQQueue{T}"/>; nothing here throws into callers after construction, failures are logged and counted.
-/// The host calls <c>NetMQConfig.Cleanup()</c> once at shutdown, after disposing every socket owner.
+/// The host never calls <c>NetMQConfig.Cleanup()</c> (process-wide; tests run several hosts at once): the process
+/// does, once every host and socket is disposed (the CLI's <c>ServiceRunner</c> and <c>listen</c>).
 /// </summary>
 internal sealed class ZmqPublisher : IMessagePublisher, IDisposable
 {

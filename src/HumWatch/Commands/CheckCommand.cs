@@ -29,23 +29,19 @@ internal static class CheckCommand
             }
         });
         var json = new Option<bool>("--json") { Description = "Print the report as JSON (an array when several files are given)." };
-        var config = CommandSettings.ConfigOption("Configuration file(s) layered over the defaults and ./appsettings.json, later files winning, e.g. config/site-60hz.json (repeatable).");
-        var set = CommandSettings.SetOption();
-
-        var command = new Command("check", "Checks recordings once and reports every narrowband line and channel fault; exit code 0 pass, 1 contaminated past the limits, 2 unreadable input or bad arguments.")
+        var settings = new SettingsArguments("Configuration file(s) layered over the defaults and ./appsettings.json, later files winning, e.g. config/site-60hz.json (repeatable).");
+        var command = settings.AddTo(new Command("check", "Checks recordings once and reports every narrowband line and channel fault; exit code 0 pass, 1 contaminated past the limits, 2 unreadable input or bad arguments.")
         {
             files,
             mains,
             json,
-            config,
-            set,
-        };
+        });
         command.SetAction(parse => Run(
             parse.GetValue(files) ?? [],
             ParseMains(parse.GetValue(mains)),
             parse.GetValue(json),
-            parse.GetValue(config) ?? [],
-            parse.GetValue(set) ?? []));
+            settings.ConfigFiles(parse),
+            settings.Settings(parse)));
         return command;
     }
 
@@ -83,21 +79,10 @@ internal static class CheckCommand
     }
 
     /// <summary>The layers check reads, as every command does; --mains is a command-line setting applied after --set.</summary>
-    internal static SettingsSources? Sources(string[] configFiles, string[] settings, int? mains, TextWriter stderr)
-    {
-        var overrides = new Dictionary<string, string?>(StringComparer.OrdinalIgnoreCase);
-        if (!CommandSettings.TryParseSettings("check", settings, overrides, stderr))
-        {
-            return null;
-        }
-
-        if (mains is { } hz)
-        {
-            overrides["Analysis:Sources:MainsHz"] = hz.ToString(System.Globalization.CultureInfo.InvariantCulture);
-        }
-
-        return new SettingsSources { ConfigFiles = configFiles, Overrides = overrides };
-    }
+    internal static SettingsSources? Sources(string[] configFiles, string[] settings, int? mains, TextWriter stderr) =>
+        CommandSettings.TrySources("check", configFiles, settings, stderr, after: mains is { } hz
+            ? new Dictionary<string, string?> { ["Analysis:Sources:MainsHz"] = hz.ToString(System.Globalization.CultureInfo.InvariantCulture) }
+            : null);
 
     private static int Run(string[] files, int? mains, bool asJson, string[] configFiles, string[] settings)
     {

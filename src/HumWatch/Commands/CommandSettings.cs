@@ -3,7 +3,36 @@ using HumWatch.Host.Configuration;
 
 namespace HumWatch.Cli.Commands;
 
-/// <summary>The settings options every command takes (--config, --set) and one way of reporting bad settings.</summary>
+/// <summary>The --config and --set options of one command: added to it, and read back, in one place.</summary>
+internal sealed class SettingsArguments
+{
+    public SettingsArguments(string? configDescription = null)
+    {
+        Config = configDescription is null ? CommandSettings.ConfigOption() : CommandSettings.ConfigOption(configDescription);
+        Set = CommandSettings.SetOption();
+    }
+
+    public Option<string[]> Config { get; }
+
+    public Option<string[]> Set { get; }
+
+    /// <summary>Adds both options, after the command's own (so its help lists them last).</summary>
+    public Command AddTo(Command command)
+    {
+        ArgumentNullException.ThrowIfNull(command);
+        command.Options.Add(Config);
+        command.Options.Add(Set);
+        return command;
+    }
+
+    /// <summary>The --config files given, in order.</summary>
+    public string[] ConfigFiles(ParseResult parse) => parse.GetValue(Config) ?? [];
+
+    /// <summary>The --set pairs given, in order.</summary>
+    public string[] Settings(ParseResult parse) => parse.GetValue(Set) ?? [];
+}
+
+/// <summary>The settings options of the commands that read settings (run, demo, check, summary), and one way of reporting bad settings.</summary>
 internal static class CommandSettings
 {
     public static Option<string[]> ConfigOption(string description = "Configuration file(s) layered over the defaults and ./appsettings.json, later files winning (repeatable).") => new("--config")
@@ -30,6 +59,41 @@ internal static class CommandSettings
         into["Inbox:ArchiveFolder"] = Path.Combine(folder, "archive");
         into["Inbox:RejectedFolder"] = Path.Combine(folder, "rejected");
         into["Summaries:Folder"] = Path.Combine(folder, "summaries");
+    }
+
+    /// <summary>
+    /// The layers a settings-reading command passes to <see cref="SettingsBuilder"/>, one way for every command: the
+    /// overrides are <paramref name="before"/>, then what --data DIR stands for, then each --set, then
+    /// <paramref name="after"/> (a command's own options, which win). A malformed --set is reported and gives null.
+    /// </summary>
+    public static SettingsSources? TrySources(
+        string command,
+        IReadOnlyList<string> configFiles,
+        IEnumerable<string> settings,
+        TextWriter stderr,
+        string? dataFolder = null,
+        IReadOnlyDictionary<string, string?>? before = null,
+        IReadOnlyDictionary<string, string?>? after = null)
+    {
+        var overrides = before is null
+            ? new Dictionary<string, string?>(StringComparer.OrdinalIgnoreCase)
+            : new Dictionary<string, string?>(before, StringComparer.OrdinalIgnoreCase);
+        if (dataFolder is not null)
+        {
+            AddDataFolder(dataFolder, overrides);
+        }
+
+        if (!TryParseSettings(command, settings, overrides, stderr))
+        {
+            return null;
+        }
+
+        foreach (var (key, value) in after ?? new Dictionary<string, string?>())
+        {
+            overrides[key] = value;
+        }
+
+        return new SettingsSources { ConfigFiles = configFiles, Overrides = overrides };
     }
 
     /// <summary>Parses repeated KEY=VALUE settings into <paramref name="into"/>; a malformed one is reported and gives false.</summary>

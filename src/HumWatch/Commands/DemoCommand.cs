@@ -21,26 +21,23 @@ internal static class DemoCommand
         var data = new Option<string>("--data") { Description = CommandSettings.DataDescription + " Default: humwatch-data.", DefaultValueFactory = _ => "humwatch-data" };
         var seconds = new Option<double?>("--seconds") { Description = "Stops by itself after this many wall-clock seconds." };
         var start = new Option<DateTimeOffset?>("--start") { Description = "UTC time of the rooms' first sample, e.g. 2026-12-01T00:00:00Z to replay a whole day fast (default: now)." };
-        var config = CommandSettings.ConfigOption();
-        var set = CommandSettings.SetOption();
-        var command = new Command("demo", "Runs the service with simulated recording rooms streaming to it, and prints each alert as it is raised and cleared.")
+        var settings = new SettingsArguments();
+        var command = settings.AddTo(new Command("demo", "Runs the service with simulated recording rooms streaming to it, and prints each alert as it is raised and cleared.")
         {
             speed,
             scenarios,
             data,
             seconds,
             start,
-            config,
-            set,
-        };
+        });
         command.SetAction(parse => Run(
             parse.GetValue(speed),
             parse.GetValue(scenarios),
             parse.GetValue(data)!,
             parse.GetValue(seconds),
             parse.GetValue(start),
-            parse.GetValue(config) ?? [],
-            parse.GetValue(set) ?? []));
+            settings.ConfigFiles(parse),
+            settings.Settings(parse)));
         return command;
     }
 
@@ -91,13 +88,9 @@ internal static class DemoCommand
             return ExitCodes.BadInput;
         }
 
-        var overrides = new Dictionary<string, string?>(StringComparer.OrdinalIgnoreCase)
-        {
-            // The demo prints alerts itself (alerts are logged as warnings); the console log keeps to errors, the files get everything.
-            ["Logs:ConsoleLevel"] = "Error",
-        };
-        CommandSettings.AddDataFolder(dataFolder, overrides);
-        if (!CommandSettings.TryParseSettings("demo", settings, overrides, Console.Error))
+        // The demo prints alerts itself (alerts are logged as warnings); the console log keeps to errors, the files get everything.
+        var quietConsole = new Dictionary<string, string?> { ["Logs:ConsoleLevel"] = "Error" };
+        if (CommandSettings.TrySources("demo", configFiles, settings, Console.Error, dataFolder, before: quietConsole) is not { } sources)
         {
             return ExitCodes.BadInput;
         }
@@ -106,7 +99,7 @@ internal static class DemoCommand
         string publishEndpoint = "tcp://127.0.0.1:5711";
         var hostSettings = new HumWatchHostSettings
         {
-            Sources = new SettingsSources { ConfigFiles = configFiles, Overrides = overrides },
+            Sources = sources,
             ConfigureServices = (services, bound) =>
             {
                 ingestEndpoint = bound.Ingest.Endpoints.Count > 0 ? bound.Ingest.Endpoints[0].Address : IngestOptions.DefaultAddress;

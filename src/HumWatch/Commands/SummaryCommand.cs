@@ -16,27 +16,23 @@ internal static class SummaryCommand
         var output = new Option<string?>("--out") { Description = "Output folder (default: Summaries:Folder from configuration)." };
         var list = new Option<bool>("--list") { Description = "List the local days the store holds, with their streams and whether their summaries were written." };
         var data = new Option<string?>("--data") { Description = "The data folder a 'run --data' or 'demo --data' used: reads its store and writes under its summaries folder." };
-        var config = CommandSettings.ConfigOption();
-        var set = CommandSettings.SetOption();
-
-        var command = new Command("summary", "Re-renders a day's summaries (JSON, Markdown page, PNG plots) from the store, or lists the days it holds.")
+        var settings = new SettingsArguments();
+        var command = settings.AddTo(new Command("summary", "Re-renders a day's summaries (JSON, Markdown page, PNG plots) from the store, or lists the days it holds.")
         {
             day,
             stream,
             output,
             list,
             data,
-            config,
-            set,
-        };
+        });
         command.SetAction(parse => Run(
             parse.GetValue(day),
             parse.GetValue(stream),
             parse.GetValue(output),
             parse.GetValue(list),
             parse.GetValue(data),
-            parse.GetValue(config) ?? [],
-            parse.GetValue(set) ?? [],
+            settings.ConfigFiles(parse),
+            settings.Settings(parse),
             Console.Out,
             Console.Error));
         return command;
@@ -58,14 +54,8 @@ internal static class SummaryCommand
             return ExitCodes.BadInput;
         }
 
-        var overrides = new Dictionary<string, string?>(StringComparer.OrdinalIgnoreCase);
-        if (dataFolder is not null)
-        {
-            CommandSettings.AddDataFolder(dataFolder, overrides);
-        }
-
-        if (!CommandSettings.TryParseSettings("summary", settings, overrides, stderr)
-            || CommandSettings.TryBuild("summary", new SettingsSources { ConfigFiles = configFiles, Overrides = overrides }, stderr) is not { } bound)
+        if (CommandSettings.TrySources("summary", configFiles, settings, stderr, dataFolder) is not { } sources
+            || CommandSettings.TryBuild("summary", sources, stderr) is not { } bound)
         {
             return ExitCodes.BadInput;
         }
