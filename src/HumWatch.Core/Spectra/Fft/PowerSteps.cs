@@ -4,7 +4,7 @@ using System.Runtime.CompilerServices;
 namespace HumWatch.Core.Spectra.Fft;
 
 /// <summary>
-/// The steps both FFT kernels (float64 and float32) share around the complex FFT: the Hann window, density scale and
+/// The steps around the complex FFT for every precision (float64 and float32): the Hann window, density scale and
 /// split-step twiddles (made once in float64), and the scaled one-sided power per bin, generic over lane width and precision.
 /// </summary>
 internal static class PowerSteps
@@ -59,13 +59,14 @@ internal static class PowerSteps
         return twiddles;
     }
 
-    /// <summary>The values of <paramref name="values"/> rounded to float32.</summary>
-    public static float[] ToSingle(ReadOnlySpan<double> values)
+    /// <summary>The values of <paramref name="values"/> in <typeparamref name="TScalar"/> (rounded once for float32).</summary>
+    public static TScalar[] Round<TScalar>(ReadOnlySpan<double> values)
+        where TScalar : unmanaged, IFloatingPointIeee754<TScalar>
     {
-        var result = new float[values.Length];
+        var result = new TScalar[values.Length];
         for (var i = 0; i < values.Length; i++)
         {
-            result[i] = (float)values[i];
+            result[i] = TScalar.CreateTruncating(values[i]);
         }
 
         return result;
