@@ -122,7 +122,7 @@ internal readonly struct ScalarLanes<T> : ILaneOps<T, T>
 }
 
 /// <summary>One channel per lane of a Vector256 (four float64 or eight float32 channels per pack).</summary>
-internal readonly struct Vector256Lanes<T> : ILaneOps<Vector256<T>, T>
+internal readonly partial struct Vector256Lanes<T> : ILaneOps<Vector256<T>, T>
     where T : unmanaged, IFloatingPointIeee754<T>
 {
     public static int Lanes => Vector256<T>.Count;
@@ -214,7 +214,7 @@ internal readonly struct Vector256Lanes<T> : ILaneOps<Vector256<T>, T>
 /// One channel per lane of a Vector512, built from two <see cref="Vector256Lanes{T}"/> halves for the interleaves, so it
 /// runs (slowly) without AVX-512 too: tests check the 512-bit data flow on any AVX machine.
 /// </summary>
-internal readonly struct Vector512Lanes<T> : ILaneOps<Vector512<T>, T>
+internal readonly partial struct Vector512Lanes<T> : ILaneOps<Vector512<T>, T>
     where T : unmanaged, IFloatingPointIeee754<T>
 {
     public static int Lanes => Vector512<T>.Count;
