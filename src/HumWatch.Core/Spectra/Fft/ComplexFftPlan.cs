@@ -221,17 +221,28 @@ internal sealed class ComplexFftPlan
         return radices.ToArray();
     }
 
+    // Element i of the stage input, times twiddle (wr, wi) = twiddles[t], twiddles[t + 1] unless this is the first stage
+    // (sub-transforms of length 1 need none).
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
-    private static void Twiddle<TOps, TVec, TScalar>(ref TVec xr, ref TVec xi, TScalar wr, TScalar wi)
+    private static void Load<TOps, TVec, TScalar>(Span<TVec> re, Span<TVec> im, int i, ReadOnlySpan<TScalar> twiddles, int t, out TVec xr, out TVec xi)
         where TOps : struct, ILaneOps<TVec, TScalar>
         where TVec : struct
         where TScalar : unmanaged, IFloatingPointIeee754<TScalar>
     {
-        var vr = TOps.Splat(wr);
-        var vi = TOps.Splat(wi);
-        var r = TOps.NegMulAdd(xi, vi, TOps.Mul(xr, vr));
-        xi = TOps.MulAdd(xi, vr, TOps.Mul(xr, vi));
-        xr = r;
+        xr = re[i];
+        xi = im[i];
+        if (twiddles.Length > 0)
+        {
+            LanePacks.MultiplyByTwiddle<TOps, TVec, TScalar>(ref xr, ref xi, twiddles[t], twiddles[t + 1]);
+        }
+    }
+
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    private static void Store<TVec>(Span<TVec> re, Span<TVec> im, int i, TVec xr, TVec xi)
+        where TVec : struct
+    {
+        re[i] = xr;
+        im[i] = xi;
     }
 
     [MethodImpl(MethodImplOptions.AggressiveOptimization)]
@@ -242,25 +253,18 @@ internal sealed class ComplexFftPlan
     {
         var n = re.Length;
         var l = subLength * 2;
+        twiddles = subLength > 1 ? twiddles : default;
         for (var b = 0; b < n; b += l)
         {
             for (var j = 0; j < subLength; j++)
             {
                 var i0 = b + j;
                 var i1 = i0 + subLength;
-                var a1r = re[i1];
-                var a1i = im[i1];
-                if (subLength > 1)
-                {
-                    Twiddle<TOps, TVec, TScalar>(ref a1r, ref a1i, twiddles[2 * j], twiddles[(2 * j) + 1]);
-                }
-
+                Load<TOps, TVec, TScalar>(re, im, i1, twiddles, 2 * j, out var a1r, out var a1i);
                 var a0r = re[i0];
                 var a0i = im[i0];
-                re[i0] = TOps.Add(a0r, a1r);
-                im[i0] = TOps.Add(a0i, a1i);
-                re[i1] = TOps.Sub(a0r, a1r);
-                im[i1] = TOps.Sub(a0i, a1i);
+                Store(re, im, i0, TOps.Add(a0r, a1r), TOps.Add(a0i, a1i));
+                Store(re, im, i1, TOps.Sub(a0r, a1r), TOps.Sub(a0i, a1i));
             }
         }
     }
@@ -273,6 +277,7 @@ internal sealed class ComplexFftPlan
     {
         var n = re.Length;
         var l = subLength * 4;
+        twiddles = subLength > 1 ? twiddles : default;
         for (var b = 0; b < n; b += l)
         {
             for (var j = 0; j < subLength; j++)
@@ -281,22 +286,12 @@ internal sealed class ComplexFftPlan
                 var i1 = i0 + subLength;
                 var i2 = i1 + subLength;
                 var i3 = i2 + subLength;
+                var t = 6 * j;
                 var a0r = re[i0];
                 var a0i = im[i0];
-                var a1r = re[i1];
-                var a1i = im[i1];
-                var a2r = re[i2];
-                var a2i = im[i2];
-                var a3r = re[i3];
-                var a3i = im[i3];
-                if (subLength > 1)
-                {
-                    var t = 6 * j;
-                    Twiddle<TOps, TVec, TScalar>(ref a1r, ref a1i, twiddles[t], twiddles[t + 1]);
-                    Twiddle<TOps, TVec, TScalar>(ref a2r, ref a2i, twiddles[t + 2], twiddles[t + 3]);
-                    Twiddle<TOps, TVec, TScalar>(ref a3r, ref a3i, twiddles[t + 4], twiddles[t + 5]);
-                }
-
+                Load<TOps, TVec, TScalar>(re, im, i1, twiddles, t, out var a1r, out var a1i);
+                Load<TOps, TVec, TScalar>(re, im, i2, twiddles, t + 2, out var a2r, out var a2i);
+                Load<TOps, TVec, TScalar>(re, im, i3, twiddles, t + 4, out var a3r, out var a3i);
                 var t0r = TOps.Add(a0r, a2r);
                 var t0i = TOps.Add(a0i, a2i);
                 var t1r = TOps.Sub(a0r, a2r);
@@ -307,14 +302,10 @@ internal sealed class ComplexFftPlan
                 var t3i = TOps.Sub(a1i, a3i);
 
                 // X1 = t1 − i·t3, X3 = t1 + i·t3 (forward transform, W = e^(−2πi/4) = −i).
-                re[i0] = TOps.Add(t0r, t2r);
-                im[i0] = TOps.Add(t0i, t2i);
-                re[i2] = TOps.Sub(t0r, t2r);
-                im[i2] = TOps.Sub(t0i, t2i);
-                re[i1] = TOps.Add(t1r, t3i);
-                im[i1] = TOps.Sub(t1i, t3r);
-                re[i3] = TOps.Sub(t1r, t3i);
-                im[i3] = TOps.Add(t1i, t3r);
+                Store(re, im, i0, TOps.Add(t0r, t2r), TOps.Add(t0i, t2i));
+                Store(re, im, i2, TOps.Sub(t0r, t2r), TOps.Sub(t0i, t2i));
+                Store(re, im, i1, TOps.Add(t1r, t3i), TOps.Sub(t1i, t3r));
+                Store(re, im, i3, TOps.Sub(t1r, t3i), TOps.Add(t1i, t3r));
             }
         }
     }
@@ -329,6 +320,7 @@ internal sealed class ComplexFftPlan
         var l = subLength * 3;
         var half = TOps.Splat(TScalar.CreateTruncating(0.5));
         var s = TOps.Splat(TScalar.CreateTruncating(HalfSqrt3));
+        twiddles = subLength > 1 ? twiddles : default;
         for (var b = 0; b < n; b += l)
         {
             for (var j = 0; j < subLength; j++)
@@ -336,17 +328,8 @@ internal sealed class ComplexFftPlan
                 var i0 = b + j;
                 var i1 = i0 + subLength;
                 var i2 = i1 + subLength;
-                var a1r = re[i1];
-                var a1i = im[i1];
-                var a2r = re[i2];
-                var a2i = im[i2];
-                if (subLength > 1)
-                {
-                    var t = 4 * j;
-                    Twiddle<TOps, TVec, TScalar>(ref a1r, ref a1i, twiddles[t], twiddles[t + 1]);
-                    Twiddle<TOps, TVec, TScalar>(ref a2r, ref a2i, twiddles[t + 2], twiddles[t + 3]);
-                }
-
+                Load<TOps, TVec, TScalar>(re, im, i1, twiddles, 4 * j, out var a1r, out var a1i);
+                Load<TOps, TVec, TScalar>(re, im, i2, twiddles, (4 * j) + 2, out var a2r, out var a2i);
                 var a0r = re[i0];
                 var a0i = im[i0];
                 var t1r = TOps.Add(a1r, a2r);
@@ -359,12 +342,9 @@ internal sealed class ComplexFftPlan
                 var mi = TOps.NegMulAdd(t1i, half, a0i);
                 var sr = TOps.Mul(s, t2i);
                 var si = TOps.Mul(s, t2r);
-                re[i0] = TOps.Add(a0r, t1r);
-                im[i0] = TOps.Add(a0i, t1i);
-                re[i1] = TOps.Add(mr, sr);
-                im[i1] = TOps.Sub(mi, si);
-                re[i2] = TOps.Sub(mr, sr);
-                im[i2] = TOps.Add(mi, si);
+                Store(re, im, i0, TOps.Add(a0r, t1r), TOps.Add(a0i, t1i));
+                Store(re, im, i1, TOps.Add(mr, sr), TOps.Sub(mi, si));
+                Store(re, im, i2, TOps.Sub(mr, sr), TOps.Add(mi, si));
             }
         }
     }
@@ -381,32 +361,17 @@ internal sealed class ComplexFftPlan
         var c2 = TOps.Splat(TScalar.CreateTruncating(Cos4Pi5));
         var s1 = TOps.Splat(TScalar.CreateTruncating(Sin2Pi5));
         var s2 = TOps.Splat(TScalar.CreateTruncating(Sin4Pi5));
+        twiddles = subLength > 1 ? twiddles : default;
         for (var b = 0; b < n; b += l)
         {
             for (var j = 0; j < subLength; j++)
             {
                 var i0 = b + j;
-                var i1 = i0 + subLength;
-                var i2 = i1 + subLength;
-                var i3 = i2 + subLength;
-                var i4 = i3 + subLength;
-                var a1r = re[i1];
-                var a1i = im[i1];
-                var a2r = re[i2];
-                var a2i = im[i2];
-                var a3r = re[i3];
-                var a3i = im[i3];
-                var a4r = re[i4];
-                var a4i = im[i4];
-                if (subLength > 1)
-                {
-                    var t = 8 * j;
-                    Twiddle<TOps, TVec, TScalar>(ref a1r, ref a1i, twiddles[t], twiddles[t + 1]);
-                    Twiddle<TOps, TVec, TScalar>(ref a2r, ref a2i, twiddles[t + 2], twiddles[t + 3]);
-                    Twiddle<TOps, TVec, TScalar>(ref a3r, ref a3i, twiddles[t + 4], twiddles[t + 5]);
-                    Twiddle<TOps, TVec, TScalar>(ref a4r, ref a4i, twiddles[t + 6], twiddles[t + 7]);
-                }
-
+                var t = 8 * j;
+                Load<TOps, TVec, TScalar>(re, im, i0 + subLength, twiddles, t, out var a1r, out var a1i);
+                Load<TOps, TVec, TScalar>(re, im, i0 + (2 * subLength), twiddles, t + 2, out var a2r, out var a2i);
+                Load<TOps, TVec, TScalar>(re, im, i0 + (3 * subLength), twiddles, t + 4, out var a3r, out var a3i);
+                Load<TOps, TVec, TScalar>(re, im, i0 + (4 * subLength), twiddles, t + 6, out var a4r, out var a4i);
                 var a0r = re[i0];
                 var a0i = im[i0];
                 var t1r = TOps.Add(a1r, a4r);
@@ -428,16 +393,11 @@ internal sealed class ComplexFftPlan
                 var d1i = TOps.MulAdd(s2, t4i, TOps.Mul(s1, t3i));
                 var d2r = TOps.NegMulAdd(s1, t4r, TOps.Mul(s2, t3r));
                 var d2i = TOps.NegMulAdd(s1, t4i, TOps.Mul(s2, t3i));
-                re[i0] = TOps.Add(a0r, TOps.Add(t1r, t2r));
-                im[i0] = TOps.Add(a0i, TOps.Add(t1i, t2i));
-                re[i1] = TOps.Add(b1r, d1i);
-                im[i1] = TOps.Sub(b1i, d1r);
-                re[i4] = TOps.Sub(b1r, d1i);
-                im[i4] = TOps.Add(b1i, d1r);
-                re[i2] = TOps.Add(b2r, d2i);
-                im[i2] = TOps.Sub(b2i, d2r);
-                re[i3] = TOps.Sub(b2r, d2i);
-                im[i3] = TOps.Add(b2i, d2r);
+                Store(re, im, i0, TOps.Add(a0r, TOps.Add(t1r, t2r)), TOps.Add(a0i, TOps.Add(t1i, t2i)));
+                Store(re, im, i0 + subLength, TOps.Add(b1r, d1i), TOps.Sub(b1i, d1r));
+                Store(re, im, i0 + (4 * subLength), TOps.Sub(b1r, d1i), TOps.Add(b1i, d1r));
+                Store(re, im, i0 + (2 * subLength), TOps.Add(b2r, d2i), TOps.Sub(b2i, d2r));
+                Store(re, im, i0 + (3 * subLength), TOps.Sub(b2r, d2i), TOps.Add(b2i, d2r));
             }
         }
     }

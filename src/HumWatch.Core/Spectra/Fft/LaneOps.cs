@@ -77,6 +77,20 @@ internal static class LanePacks
         }
     }
 
+    /// <summary>(xr + i·xi)·(wr + i·wi) with every lane times the same twiddle (the FFT stages' and the split step's one product).</summary>
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    public static void MultiplyByTwiddle<TOps, TVec, TScalar>(ref TVec xr, ref TVec xi, TScalar wr, TScalar wi)
+        where TOps : struct, ILaneOps<TVec, TScalar>
+        where TVec : struct
+        where TScalar : unmanaged, IFloatingPointIeee754<TScalar>
+    {
+        var vr = TOps.Splat(wr);
+        var vi = TOps.Splat(wi);
+        var r = TOps.NegMulAdd(xi, vi, TOps.Mul(xr, vr));
+        xi = TOps.MulAdd(xi, vr, TOps.Mul(xr, vi));
+        xr = r;
+    }
+
     /// <summary>Lane <paramref name="lane"/> of <paramref name="value"/>.</summary>
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
     public static TScalar Get<TVec, TScalar>(in TVec value, int lane)

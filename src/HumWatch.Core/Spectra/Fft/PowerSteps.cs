@@ -101,12 +101,9 @@ internal static class PowerSteps
             var bi = im[mk];
             var er = TOps.Add(ar, br);
             var ei = TOps.Sub(ai, bi);
-            var or = TOps.Add(ai, bi);
-            var oi = TOps.Sub(br, ar);
-            var wr = TOps.Splat(twiddles[2 * k]);
-            var wi = TOps.Splat(twiddles[(2 * k) + 1]);
-            var wor = TOps.NegMulAdd(wi, oi, TOps.Mul(wr, or));
-            var woi = TOps.MulAdd(wi, or, TOps.Mul(wr, oi));
+            var wor = TOps.Add(ai, bi);
+            var woi = TOps.Sub(br, ar);
+            LanePacks.MultiplyByTwiddle<TOps, TVec, TScalar>(ref wor, ref woi, twiddles[2 * k], twiddles[(2 * k) + 1]);
             var xr = TOps.Add(er, wor);
             var xi = TOps.Add(ei, woi);
             var yr = TOps.Sub(er, wor);
