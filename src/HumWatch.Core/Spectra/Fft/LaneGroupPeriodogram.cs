@@ -122,8 +122,10 @@ internal sealed class LaneGroupPeriodogram<TOps, TVec, TScalar> : ILanePeriodogr
         var starts = _laneStarts.AsSpan();
         ref var origin = ref MemoryMarshal.GetReference(samples);
 
-        // Pass 1, sequential: one pack of each lane's consecutive samples per square, transposed in place.
+        // Pass 1, sequential: one pack of each lane's consecutive samples per square, transposed in place; the float64
+        // sum runs along (in sample order), so its chain of additions overlaps the loads.
         var squares = n / lanes * lanes;
+        var sum = TOps.Splat(TScalar.Zero);
         for (var at = 0; at < squares; at += lanes)
         {
             var square = raw.Slice(at, lanes);
@@ -133,6 +135,10 @@ internal sealed class LaneGroupPeriodogram<TOps, TVec, TScalar> : ILanePeriodogr
             }
 
             LanePacks.Transpose<TOps, TVec, TScalar>(square);
+            for (var lane = 0; lane < lanes && !IsSingle; lane++)
+            {
+                sum = TOps.Add(sum, square[lane]);
+            }
         }
 
         for (var at = squares; at < n; at++)
@@ -141,9 +147,11 @@ internal sealed class LaneGroupPeriodogram<TOps, TVec, TScalar> : ILanePeriodogr
             {
                 rawValues[(at * lanes) + lane] = samples[starts[lane] + at];
             }
+
+            sum = IsSingle ? sum : TOps.Add(sum, raw[at]);
         }
 
-        Means(raw);
+        Means(raw, sum);
 
         // Pass 2: detrend and window into digit-reversed order (whole-pack reads, sequential writes).
         var re = MemoryMarshal.Cast<TScalar, TVec>(_re.Span);
@@ -152,20 +160,24 @@ internal sealed class LaneGroupPeriodogram<TOps, TVec, TScalar> : ILanePeriodogr
         var permutation = _plan.Permutation;
         var high = TOps.Load(in _meanHigh[0]);
         var low = TOps.Load(in _meanLow[0]);
-        for (var p = 0; p < permutation.Length; p++)
+        if (!_even)
         {
-            if (_even)
-            {
-                var e = 2 * permutation[p];
-                re[p] = Detrend(raw[e], high, low, window[e]);
-                im[p] = Detrend(raw[e + 1], high, low, window[e + 1]);
-            }
-            else
+            // Odd N: the real samples alone, imaginary parts zero.
+            for (var p = 0; p < permutation.Length; p++)
             {
                 var e = permutation[p];
                 re[p] = Detrend(raw[e], high, low, window[e]);
                 im[p] = TOps.Splat(TScalar.Zero);
             }
+
+            return;
+        }
+
+        for (var p = 0; p < permutation.Length; p++)
+        {
+            var e = 2 * permutation[p];
+            re[p] = Detrend(raw[e], high, low, window[e]);
+            im[p] = Detrend(raw[e + 1], high, low, window[e + 1]);
         }
     }
 
@@ -177,19 +189,13 @@ internal sealed class LaneGroupPeriodogram<TOps, TVec, TScalar> : ILanePeriodogr
         return TOps.Mul(centred, TOps.Splat(window));
     }
 
-    // Per-lane segment means into _meanHigh/_meanLow from the transposed raw samples.
-    private void Means(ReadOnlySpan<TVec> raw)
+    // Per-lane segment means into _meanHigh/_meanLow: float64 from the sum of pass 1, float32 from the transposed raw samples.
+    private void Means(ReadOnlySpan<TVec> raw, TVec sum)
     {
         var lanes = TOps.Lanes;
         var n = _segmentLength;
         if (!IsSingle)
         {
-            var sum = raw[0];
-            for (var i = 1; i < n; i++)
-            {
-                sum = TOps.Add(sum, raw[i]);
-            }
-
             var divisor = TOps.Splat(TScalar.CreateTruncating(n));
             TOps.Store(DivideLanes(sum, divisor), ref _meanHigh[0]);
             Array.Clear(_meanLow);

@@ -65,6 +65,29 @@ internal static class LanePacks
         where TScalar : unmanaged, IFloatingPointIeee754<TScalar>
     {
         var lanes = TOps.Lanes;
+        if (lanes == 4 || lanes == 8)
+        {
+            // The rounds in registers for the common widths (Lanes is a JIT constant, so one branch survives);
+            // bit b of the row index meets bit b of the lane index in round b, and the rounds commute.
+            var quad = square[..4];
+            var (r0, r1, r2, r3) = (quad[0], quad[1], quad[2], quad[3]);
+            if (lanes == 8)
+            {
+                var high = square.Slice(4, 4);
+                var (r4, r5, r6, r7) = (high[0], high[1], high[2], high[3]);
+                TOps.InterleaveBlocks(ref r0, ref r4, 4);
+                TOps.InterleaveBlocks(ref r1, ref r5, 4);
+                TOps.InterleaveBlocks(ref r2, ref r6, 4);
+                TOps.InterleaveBlocks(ref r3, ref r7, 4);
+                Quad<TOps, TVec, TScalar>(ref r4, ref r5, ref r6, ref r7);
+                (high[0], high[1], high[2], high[3]) = (r4, r5, r6, r7);
+            }
+
+            Quad<TOps, TVec, TScalar>(ref r0, ref r1, ref r2, ref r3);
+            (quad[0], quad[1], quad[2], quad[3]) = (r0, r1, r2, r3);
+            return;
+        }
+
         for (var block = 1; block < lanes; block *= 2)
         {
             for (var i = 0; i < lanes; i++)
@@ -75,6 +98,19 @@ internal static class LanePacks
                 }
             }
         }
+    }
+
+    // Rounds of blocks 1 and 2 on four packs.
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    private static void Quad<TOps, TVec, TScalar>(ref TVec r0, ref TVec r1, ref TVec r2, ref TVec r3)
+        where TOps : struct, ILaneOps<TVec, TScalar>
+        where TVec : struct
+        where TScalar : unmanaged, IFloatingPointIeee754<TScalar>
+    {
+        TOps.InterleaveBlocks(ref r0, ref r1, 1);
+        TOps.InterleaveBlocks(ref r2, ref r3, 1);
+        TOps.InterleaveBlocks(ref r0, ref r2, 2);
+        TOps.InterleaveBlocks(ref r1, ref r3, 2);
     }
 
     /// <summary>(xr + i·xi)·(wr + i·wi) with every lane times the same twiddle (the FFT stages' and the split step's one product).</summary>
