@@ -137,7 +137,7 @@ internal sealed class BlockStatisticsRing
     }
 
     /// <summary>The raw statistics of <paramref name="cell"/> (for tests).</summary>
-    public FaultDetector.BlockStatistics Statistics(int cell) => new(
+    public BlockStatistics Statistics(int cell) => new(
         Reference[cell], Sum[cell], SumSquares[cell], Finite[cell], Clipped[cell], NonFinite[cell],
         Max[cell], Min[cell], AtMax[cell], AtMin[cell], Last[cell], MinStep[cell]);
 
@@ -327,3 +327,18 @@ internal sealed class BlockStatisticsRing
         return result;
     }
 }
+
+/// <summary>One ring cell's raw statistics (for tests).</summary>
+internal readonly record struct BlockStatistics(
+    double Reference,
+    double Sum,
+    double SumSquares,
+    int Finite,
+    int Clipped,
+    int NonFinite,
+    double Max,
+    double Min,
+    int AtMax,
+    int AtMin,
+    double Last,
+    double MinStep);

@@ -410,19 +410,4 @@ internal sealed class FaultDetector
 
         return a;
     }
-
-    /// <summary>One ring cell's raw statistics (for tests).</summary>
-    internal readonly record struct BlockStatistics(
-        double Reference,
-        double Sum,
-        double SumSquares,
-        int Finite,
-        int Clipped,
-        int NonFinite,
-        double Max,
-        double Min,
-        int AtMax,
-        int AtMin,
-        double Last,
-        double MinStep);
 }
