@@ -1,5 +1,6 @@
 using System.Diagnostics;
 using System.Globalization;
+using HumWatch.Bench.Float32;
 using HumWatch.Core.Spectra;
 using HumWatch.Core.Spectra.Fft;
 

@@ -1,7 +1,3 @@
-using System.Runtime.CompilerServices;
-using System.Runtime.InteropServices;
-using System.Runtime.Intrinsics;
-using System.Runtime.Intrinsics.X86;
 using HumWatch.Core.Signals;
 
 namespace HumWatch.Core.Faults;
@@ -9,7 +5,7 @@ namespace HumWatch.Core.Faults;
 /// <summary>
 /// Time-domain channel checks over each analysis span: flat, clipped, non-finite. Keeps per-block statistics per
 /// channel in a ring (block = gcd(span, hop) samples, one hop in the default settings) so each span's verdict is a sum
-/// over whole blocks. Allocation-free after construction. Not thread-safe.
+/// over whole blocks (<see cref="BlockStatisticsRing"/>). Allocation-free after construction. Not thread-safe.
 /// </summary>
 /// <remarks>
 /// <para>
@@ -40,7 +36,6 @@ namespace HumWatch.Core.Faults;
 /// </remarks>
 internal sealed class FaultDetector
 {
-    // Sums are kept relative to the block's first finite sample so a large DC offset does not cancel the variance.
     private readonly int _channelCount;
     private readonly int _blockSamples;
     private readonly int _ringBlocks;
@@ -51,10 +46,9 @@ internal sealed class FaultDetector
     private readonly double _repeatedExtremeFraction;
     private readonly int _repeatedExtremeMinSamples;
     private readonly double _coarseStepSd;
-    private readonly double[] _lowLimit;
-    private readonly double[] _highLimit;
+    private readonly BlockStatisticsRing _ring;
 
-    // Per ring cell (block × channel).
+    // Per ring cell (block × channel): the ring's arrays (see BlockStatisticsRing).
     private readonly double[] _reference;
     private readonly double[] _sum;
     private readonly double[] _sumSquares;
@@ -84,6 +78,12 @@ internal sealed class FaultDetector
     /// <param name="spanSamples">Samples per analysis span.</param>
     /// <param name="hopSamples">Samples between spans; also the largest block the caller appends between evaluations.</param>
     public FaultDetector(StreamLayout layout, FaultOptions options, int spanSamples, int hopSamples)
+        : this(layout, options, spanSamples, hopSamples, BlockStatisticsRing.WidestAccelerated)
+    {
+    }
+
+    /// <summary>As the public constructor, with the channel group width in bits (512, 256 or 0 = one channel at a time), for tests.</summary>
+    internal FaultDetector(StreamLayout layout, FaultOptions options, int spanSamples, int hopSamples, int vectorBits)
     {
         ArgumentNullException.ThrowIfNull(layout);
         ArgumentNullException.ThrowIfNull(options);
@@ -99,40 +99,19 @@ internal sealed class FaultDetector
         _repeatedExtremeFraction = options.RepeatedExtremeFraction;
         _repeatedExtremeMinSamples = options.RepeatedExtremeMinSamples;
         _coarseStepSd = options.CoarseStepSd;
-        _lowLimit = new double[_channelCount];
-        _highLimit = new double[_channelCount];
-        for (var c = 0; c < _channelCount; c++)
-        {
-            var info = layout.Channels[c];
-            _lowLimit[c] = double.NegativeInfinity;
-            _highLimit[c] = double.PositiveInfinity;
-            if (info.RangeMinUv is { } min && info.RangeMaxUv is { } max && max > min)
-            {
-                // About one LSB of slack: values that round-tripped through float32 still count as at the limit.
-                var slack = 1e-6 * (max - min);
-                _lowLimit[c] = min + slack;
-                _highLimit[c] = max - slack;
-            }
-            else if (options.FallbackClipLevelUv > 0)
-            {
-                _lowLimit[c] = -options.FallbackClipLevelUv;
-                _highLimit[c] = options.FallbackClipLevelUv;
-            }
-        }
-
-        var cells = _ringBlocks * _channelCount;
-        _reference = new double[cells];
-        _sum = new double[cells];
-        _sumSquares = new double[cells];
-        _finite = new int[cells];
-        _clipped = new int[cells];
-        _nonFinite = new int[cells];
-        _max = new double[cells];
-        _min = new double[cells];
-        _atMax = new int[cells];
-        _atMin = new int[cells];
-        _last = new double[cells];
-        _minStep = new double[cells];
+        _ring = new BlockStatisticsRing(layout, options.FallbackClipLevelUv, _ringBlocks, vectorBits);
+        _reference = _ring.Reference;
+        _sum = _ring.Sum;
+        _sumSquares = _ring.SumSquares;
+        _finite = _ring.Finite;
+        _clipped = _ring.Clipped;
+        _nonFinite = _ring.NonFinite;
+        _max = _ring.Max;
+        _min = _ring.Min;
+        _atMax = _ring.AtMax;
+        _atMin = _ring.AtMin;
+        _last = _ring.Last;
+        _minStep = _ring.MinStep;
         _movingCount = new long[_channelCount];
         _movingMean = new double[_channelCount];
         _movingSd = new double[_channelCount];
@@ -167,31 +146,10 @@ internal sealed class FaultDetector
             var baseCell = slot * _channelCount;
             if (inBlock == 0)
             {
-                ClearSlot(baseCell);
+                _ring.ClearSlot(baseCell);
             }
 
-            var c = 0;
-            if (Avx512F.IsSupported && Avx2.IsSupported)
-            {
-                for (; c + Vector512<double>.Count <= _channelCount; c += Vector512<double>.Count)
-                {
-                    AccumulateEight(channelMajor, (c * samplesPerChannel) + offset, samplesPerChannel, take, baseCell + c, c);
-                }
-            }
-
-            if (Vector256.IsHardwareAccelerated)
-            {
-                for (; c + Vector256<double>.Count <= _channelCount; c += Vector256<double>.Count)
-                {
-                    AccumulateFour(channelMajor, (c * samplesPerChannel) + offset, samplesPerChannel, take, baseCell + c, c);
-                }
-            }
-
-            for (; c < _channelCount; c++)
-            {
-                Accumulate(channelMajor.Slice((c * samplesPerChannel) + offset, take), baseCell + c, _lowLimit[c], _highLimit[c]);
-            }
-
+            _ring.Add(channelMajor, offset, samplesPerChannel, take, baseCell);
             offset += take;
         }
 
@@ -204,10 +162,7 @@ internal sealed class FaultDetector
     /// <summary>The raw statistics held in ring slot <paramref name="slot"/> for <paramref name="channel"/> (for tests).</summary>
     internal BlockStatistics SlotStatistics(int slot, int channel)
     {
-        var cell = (slot * _channelCount) + channel;
-        return new BlockStatistics(
-            _reference[cell], _sum[cell], _sumSquares[cell], _finite[cell], _clipped[cell], _nonFinite[cell],
-            _max[cell], _min[cell], _atMax[cell], _atMin[cell], _last[cell], _minStep[cell]);
+        return _ring.Statistics((slot * _channelCount) + channel);
     }
 
     /// <summary>Forgets everything; sample indices restart at 0.</summary>
@@ -446,282 +401,6 @@ internal sealed class FaultDetector
         _movingStep[c] = step;
     }
 
-    private void ClearSlot(int baseCell)
-    {
-        for (var c = 0; c < _channelCount; c++)
-        {
-            var cell = baseCell + c;
-            _reference[cell] = double.NaN;
-            _sum[cell] = 0;
-            _sumSquares[cell] = 0;
-            _finite[cell] = 0;
-            _clipped[cell] = 0;
-            _nonFinite[cell] = 0;
-            _max[cell] = double.NegativeInfinity;
-            _min[cell] = double.PositiveInfinity;
-            _atMax[cell] = 0;
-            _atMin[cell] = 0;
-            _last[cell] = double.NaN;
-            _minStep[cell] = double.PositiveInfinity;
-        }
-    }
-
-    // The reference for the vector paths: one channel, one block (or the next part of it).
-    private void Accumulate(ReadOnlySpan<float> samples, int cell, double low, double high)
-    {
-        var reference = _reference[cell];
-        var sum = 0.0;
-        var squares = 0.0;
-        var finite = 0;
-        var clipped = 0;
-        var nonFinite = 0;
-        var max = _max[cell];
-        var min = _min[cell];
-        var atMax = _atMax[cell];
-        var atMin = _atMin[cell];
-        var last = _last[cell];
-        var minStep = _minStep[cell];
-        for (var i = 0; i < samples.Length; i++)
-        {
-            double v = samples[i];
-            if (!double.IsFinite(v))
-            {
-                nonFinite++;
-                continue;
-            }
-
-            if (double.IsNaN(reference))
-            {
-                reference = v;
-            }
-
-            var d = v - reference;
-            sum += d;
-            squares += d * d;
-            finite++;
-            if (v <= low || v >= high)
-            {
-                clipped++;
-            }
-
-            if (v > max)
-            {
-                max = v;
-                atMax = 1;
-            }
-            else if (v == max)
-            {
-                atMax++;
-            }
-
-            if (v < min)
-            {
-                min = v;
-                atMin = 1;
-            }
-            else if (v == min)
-            {
-                atMin++;
-            }
-
-            // The block's first finite sample has no predecessor (last is NaN, so step is NaN and compares false).
-            var step = Math.Abs(v - last);
-            if (step > 0 && step < minStep)
-            {
-                minStep = step;
-            }
-
-            last = v;
-        }
-
-        _reference[cell] = reference;
-        _sum[cell] += sum;
-        _sumSquares[cell] += squares;
-        _finite[cell] += finite;
-        _clipped[cell] += clipped;
-        _nonFinite[cell] += nonFinite;
-        _max[cell] = max;
-        _min[cell] = min;
-        _atMax[cell] = atMax;
-        _atMin[cell] = atMin;
-        _last[cell] = last;
-        _minStep[cell] = minStep;
-    }
-
-    // Accumulate for four channels at once, one channel per lane: each lane runs exactly the scalar sequence (same
-    // reference, same additions in sample order, the same comparisons for extremes and steps; a skipped non-finite
-    // sample adds +0, which changes no sum because a sum that starts at +0 is never −0, and is masked out of every
-    // comparison), so the statistics are bit-identical to four Accumulate calls. Channel c + j's samples start at
-    // first + j·stride.
-    private void AccumulateFour(ReadOnlySpan<float> channelMajor, int first, int stride, int count, int cell, int channel)
-    {
-        ref var s0 = ref Unsafe.Add(ref MemoryMarshal.GetReference(channelMajor), first);
-        ref var s1 = ref Unsafe.Add(ref s0, stride);
-        ref var s2 = ref Unsafe.Add(ref s1, stride);
-        ref var s3 = ref Unsafe.Add(ref s2, stride);
-        var low = Vector256.LoadUnsafe(ref MemoryMarshal.GetArrayDataReference(_lowLimit), (nuint)channel);
-        var high = Vector256.LoadUnsafe(ref MemoryMarshal.GetArrayDataReference(_highLimit), (nuint)channel);
-        ref var referenceAt = ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(_reference), cell);
-        ref var maxAt = ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(_max), cell);
-        ref var minAt = ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(_min), cell);
-        ref var lastAt = ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(_last), cell);
-        ref var minStepAt = ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(_minStep), cell);
-        var reference = Vector256.LoadUnsafe(ref referenceAt);
-        var max = Vector256.LoadUnsafe(ref maxAt);
-        var min = Vector256.LoadUnsafe(ref minAt);
-        var last = Vector256.LoadUnsafe(ref lastAt);
-        var minStep = Vector256.LoadUnsafe(ref minStepAt);
-        var atMax = Vector256.Create((double)_atMax[cell], _atMax[cell + 1], _atMax[cell + 2], _atMax[cell + 3]);
-        var atMin = Vector256.Create((double)_atMin[cell], _atMin[cell + 1], _atMin[cell + 2], _atMin[cell + 3]);
-        var one = Vector256<double>.One;
-        var zero = Vector256<double>.Zero;
-        var sum = zero;
-        var squares = zero;
-        var finite = zero;
-        var clipped = zero;
-        var nonFinite = zero;
-        var pending = !Vector256.EqualsAll(reference, reference);
-        for (var i = 0; i < count; i++)
-        {
-            var v = Vector256.Create((double)Unsafe.Add(ref s0, i), Unsafe.Add(ref s1, i), Unsafe.Add(ref s2, i), Unsafe.Add(ref s3, i));
-            var isFinite = Vector256.Equals(v - v, zero);
-            nonFinite += Vector256.AndNot(one, isFinite);
-            if (pending)
-            {
-                // Until every lane has seen a finite sample; after that the references are fixed for the block.
-                reference = Vector256.ConditionalSelect(Vector256.AndNot(isFinite, Vector256.Equals(reference, reference)), v, reference);
-                pending = !Vector256.EqualsAll(reference, reference);
-            }
-
-            var d = v - reference;
-            sum += d & isFinite;
-            squares += (d * d) & isFinite;
-            finite += one & isFinite;
-            clipped += one & isFinite & (Vector256.LessThanOrEqual(v, low) | Vector256.GreaterThanOrEqual(v, high));
-
-            var above = Vector256.GreaterThan(v, max) & isFinite;
-            atMax = Vector256.ConditionalSelect(above, one, atMax + (one & isFinite & Vector256.Equals(v, max)));
-            max = Vector256.ConditionalSelect(above, v, max);
-            var below = Vector256.LessThan(v, min) & isFinite;
-            atMin = Vector256.ConditionalSelect(below, one, atMin + (one & isFinite & Vector256.Equals(v, min)));
-            min = Vector256.ConditionalSelect(below, v, min);
-
-            var step = Vector256.Abs(v - last);
-            var smaller = isFinite & Vector256.GreaterThan(step, zero) & Vector256.LessThan(step, minStep);
-            minStep = Vector256.ConditionalSelect(smaller, step, minStep);
-            last = Vector256.ConditionalSelect(isFinite, v, last);
-        }
-
-        reference.StoreUnsafe(ref referenceAt);
-        max.StoreUnsafe(ref maxAt);
-        min.StoreUnsafe(ref minAt);
-        last.StoreUnsafe(ref lastAt);
-        minStep.StoreUnsafe(ref minStepAt);
-        ref var sumAt = ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(_sum), cell);
-        (Vector256.LoadUnsafe(ref sumAt) + sum).StoreUnsafe(ref sumAt);
-        ref var squaresAt = ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(_sumSquares), cell);
-        (Vector256.LoadUnsafe(ref squaresAt) + squares).StoreUnsafe(ref squaresAt);
-        for (var j = 0; j < Vector256<double>.Count; j++)
-        {
-            _finite[cell + j] += (int)finite.GetElement(j);
-            _clipped[cell + j] += (int)clipped.GetElement(j);
-            _nonFinite[cell + j] += (int)nonFinite.GetElement(j);
-            _atMax[cell + j] = (int)atMax.GetElement(j);
-            _atMin[cell + j] = (int)atMin.GetElement(j);
-        }
-    }
-
-    // As AccumulateFour for eight channels: one gather fetches sample i of all eight, then 512-bit lanes.
-    private unsafe void AccumulateEight(ReadOnlySpan<float> channelMajor, int first, int stride, int count, int cell, int channel)
-    {
-        if ((long)stride * (Vector512<double>.Count - 1) > int.MaxValue)
-        {
-            for (var j = 0; j < Vector512<double>.Count; j++)
-            {
-                var c = channel + j;
-                Accumulate(channelMajor.Slice(first + (j * stride), count), cell + j, _lowLimit[c], _highLimit[c]);
-            }
-
-            return;
-        }
-
-        var lanes = Vector256.Create(0, stride, 2 * stride, 3 * stride, 4 * stride, 5 * stride, 6 * stride, 7 * stride);
-        var low = Vector512.LoadUnsafe(ref MemoryMarshal.GetArrayDataReference(_lowLimit), (nuint)channel);
-        var high = Vector512.LoadUnsafe(ref MemoryMarshal.GetArrayDataReference(_highLimit), (nuint)channel);
-        ref var referenceAt = ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(_reference), cell);
-        ref var maxAt = ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(_max), cell);
-        ref var minAt = ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(_min), cell);
-        ref var lastAt = ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(_last), cell);
-        ref var minStepAt = ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(_minStep), cell);
-        var reference = Vector512.LoadUnsafe(ref referenceAt);
-        var max = Vector512.LoadUnsafe(ref maxAt);
-        var min = Vector512.LoadUnsafe(ref minAt);
-        var last = Vector512.LoadUnsafe(ref lastAt);
-        var minStep = Vector512.LoadUnsafe(ref minStepAt);
-        var atMax = Avx512F.ConvertToVector512Double(Vector256.LoadUnsafe(ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(_atMax), cell)));
-        var atMin = Avx512F.ConvertToVector512Double(Vector256.LoadUnsafe(ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(_atMin), cell)));
-        var one = Vector512<double>.One;
-        var zero = Vector512<double>.Zero;
-        var sum = zero;
-        var squares = zero;
-        var finite = zero;
-        var clipped = zero;
-        var nonFinite = zero;
-        var pending = !Vector512.EqualsAll(reference, reference);
-        fixed (float* start = channelMajor)
-        {
-            var at = start + first;
-            for (var i = 0; i < count; i++)
-            {
-                var v = Avx512F.ConvertToVector512Double(Avx2.GatherVector256(at + i, lanes, 4));
-                var isFinite = Vector512.Equals(v - v, zero);
-                nonFinite += Vector512.AndNot(one, isFinite);
-                if (pending)
-                {
-                    // Until every lane has seen a finite sample; after that the references are fixed for the block.
-                    reference = Vector512.ConditionalSelect(Vector512.AndNot(isFinite, Vector512.Equals(reference, reference)), v, reference);
-                    pending = !Vector512.EqualsAll(reference, reference);
-                }
-
-                var d = v - reference;
-                sum += d & isFinite;
-                squares += (d * d) & isFinite;
-                finite += one & isFinite;
-                clipped += one & isFinite & (Vector512.LessThanOrEqual(v, low) | Vector512.GreaterThanOrEqual(v, high));
-
-                var above = Vector512.GreaterThan(v, max) & isFinite;
-                atMax = Vector512.ConditionalSelect(above, one, atMax + (one & isFinite & Vector512.Equals(v, max)));
-                max = Vector512.ConditionalSelect(above, v, max);
-                var below = Vector512.LessThan(v, min) & isFinite;
-                atMin = Vector512.ConditionalSelect(below, one, atMin + (one & isFinite & Vector512.Equals(v, min)));
-                min = Vector512.ConditionalSelect(below, v, min);
-
-                var step = Vector512.Abs(v - last);
-                var smaller = isFinite & Vector512.GreaterThan(step, zero) & Vector512.LessThan(step, minStep);
-                minStep = Vector512.ConditionalSelect(smaller, step, minStep);
-                last = Vector512.ConditionalSelect(isFinite, v, last);
-            }
-        }
-
-        reference.StoreUnsafe(ref referenceAt);
-        max.StoreUnsafe(ref maxAt);
-        min.StoreUnsafe(ref minAt);
-        last.StoreUnsafe(ref lastAt);
-        minStep.StoreUnsafe(ref minStepAt);
-        ref var sumAt = ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(_sum), cell);
-        (Vector512.LoadUnsafe(ref sumAt) + sum).StoreUnsafe(ref sumAt);
-        ref var squaresAt = ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(_sumSquares), cell);
-        (Vector512.LoadUnsafe(ref squaresAt) + squares).StoreUnsafe(ref squaresAt);
-        for (var j = 0; j < Vector512<double>.Count; j++)
-        {
-            _finite[cell + j] += (int)finite.GetElement(j);
-            _clipped[cell + j] += (int)clipped.GetElement(j);
-            _nonFinite[cell + j] += (int)nonFinite.GetElement(j);
-            _atMax[cell + j] = (int)atMax.GetElement(j);
-            _atMin[cell + j] = (int)atMin.GetElement(j);
-        }
-    }
-
     private static int Gcd(int a, int b)
     {
         while (b != 0)
@@ -731,19 +410,4 @@ internal sealed class FaultDetector
 
         return a;
     }
-
-    /// <summary>One ring cell's raw statistics (for tests).</summary>
-    internal readonly record struct BlockStatistics(
-        double Reference,
-        double Sum,
-        double SumSquares,
-        int Finite,
-        int Clipped,
-        int NonFinite,
-        double Max,
-        double Min,
-        int AtMax,
-        int AtMin,
-        double Last,
-        double MinStep);
 }

@@ -1,6 +1,8 @@
 using System.Numerics;
+using System.Runtime.CompilerServices;
 using System.Runtime.InteropServices;
 using System.Runtime.Intrinsics;
+using HumWatch.Core.Spectra.Fft;
 
 namespace HumWatch.Core.Lines;
 
@@ -77,11 +79,14 @@ internal sealed class LineFinder
     /// <param name="degreesOfFreedom">Equivalent χ² degrees of freedom of a PSD bin (see <see cref="WelchStatistics"/>), ≥ 2.</param>
     /// <param name="binCorrelations">Correlation of PSD bins 1, 2, … apart (<see cref="WelchStatistics.BinPowerCorrelation"/>), for the false-alarm probability; null for one Hann segment's.</param>
     public LineFinder(LineFinderOptions options, int binCount, double binWidthHz, double degreesOfFreedom, double[]? binCorrelations = null)
-        : this(options, binCount, binWidthHz, degreesOfFreedom, 512, binCorrelations)
+        : this(options, binCount, binWidthHz, degreesOfFreedom, WidestAccelerated, binCorrelations)
     {
     }
 
-    /// <summary>As the public constructor, with the widest prefilter vector allowed (512, 256 or 0 bits = scalar only), for tests.</summary>
+    /// <summary>
+    /// As the public constructor, with the prefilter width in bits (512, 256 or 0 = scalar only) for tests: a width the
+    /// hardware does not accelerate still runs (emulated), so every width is checked against the scalar scan anywhere.
+    /// </summary>
     internal LineFinder(LineFinderOptions options, int binCount, double binWidthHz, double degreesOfFreedom, int vectorBits, double[]? binCorrelations = null)
     {
         ArgumentNullException.ThrowIfNull(options);
@@ -117,6 +122,9 @@ internal sealed class LineFinder
         _kept = new ChannelPeak[options.MaxPeaksPerChannel];
         _vectorBits = vectorBits;
     }
+
+    // The prefilter width the public constructor picks: the widest the hardware accelerates.
+    private static int WidestAccelerated => Vector512Lanes<double>.IsAccelerated ? 512 : Vector256Lanes<double>.IsAccelerated ? 256 : 0;
 
     /// <summary>Largest number of peaks <see cref="Find"/> returns.</summary>
     public int Capacity => _kept.Length;
@@ -154,13 +162,13 @@ internal sealed class LineFinder
             kept = Consider(psd, k, kept);
         }
 
-        if (Vector512.IsHardwareAccelerated && _vectorBits >= 512)
+        if (_vectorBits == 512)
         {
-            k = Prefilter512(psd, k, interiorLast, ref kept);
+            k = Prefilter<Vector512Lanes<double>, Vector512<double>>(psd, k, interiorLast, ref kept);
         }
-        else if (Vector256.IsHardwareAccelerated && _vectorBits >= 256)
+        else if (_vectorBits == 256)
         {
-            k = Prefilter256(psd, k, interiorLast, ref kept);
+            k = Prefilter<Vector256Lanes<double>, Vector256<double>>(psd, k, interiorLast, ref kept);
         }
 
         for (; k <= _maxBin; k++)
@@ -246,63 +254,37 @@ internal sealed class LineFinder
         return Keep(peak, kept);
     }
 
-    // Vector prefilter over bins k … interiorLast (all six near-level neighbours present): a lane passes only when the
-    // bin is a local maximum and stands at least the prominence ratio over its near level, computed with the same
-    // operations in the same order as NearLevel (0 + P[k−3] + P[k+3] + P[k−4] + P[k+4] + P[k−5] + P[k+5], then ÷ 6),
-    // so it rejects exactly the bins Consider would reject at those two tests. Passing bins get the full scalar test.
-    // NaN semantics match the scalar comparisons: a test written "p &lt; x ⇒ reject" rejects only when the comparison is true.
-    // Returns the first bin not covered.
-    private int Prefilter256(ReadOnlySpan<double> psd, int k, int interiorLast, ref int kept)
+    // Vector prefilter over bins k … interiorLast (all six near-level neighbours present), Lanes bins at a time: a lane
+    // passes only when the bin is a local maximum and stands at least the prominence ratio over its near level, computed
+    // with the same operations in the same order as NearLevel (0 + P[k−3] + P[k+3] + P[k−4] + P[k+4] + P[k−5] + P[k+5],
+    // then ÷ 6), so it rejects exactly the bins Consider would reject at those two tests. Passing bins get the full scalar
+    // test. NaN semantics match the scalar comparisons: a test written "p &lt; x ⇒ reject" rejects only when the
+    // comparison is true. Returns the first bin not covered.
+    private int Prefilter<TOps, TVec>(ReadOnlySpan<double> psd, int k, int interiorLast, ref int kept)
+        where TOps : struct, ILaneLogic<TVec, double>
+        where TVec : struct
     {
         ref var origin = ref MemoryMarshal.GetReference(psd);
-        var ratio = Vector256.Create(_minProminenceRatio);
-        var count = Vector256.Create((double)NearCount);
-        for (; k + Vector256<double>.Count - 1 <= interiorLast; k += Vector256<double>.Count)
+        var lanes = TOps.Lanes;
+        var ratio = TOps.Splat(_minProminenceRatio);
+        var count = TOps.Splat(NearCount);
+        var zero = TOps.Splat(0);
+        for (; k + lanes - 1 <= interiorLast; k += lanes)
         {
-            var at = (nuint)k;
-            var p = Vector256.LoadUnsafe(ref origin, at);
-            var candidate = Vector256.AndNot(
-                Vector256.AndNot(Vector256.GreaterThan(p, Vector256<double>.Zero), Vector256.LessThan(p, Vector256.LoadUnsafe(ref origin, at - 1))),
-                Vector256.LessThanOrEqual(p, Vector256.LoadUnsafe(ref origin, at + 1)));
-            var sum = Vector256<double>.Zero + Vector256.LoadUnsafe(ref origin, at - 3);
-            sum += Vector256.LoadUnsafe(ref origin, at + 3);
-            sum += Vector256.LoadUnsafe(ref origin, at - 4);
-            sum += Vector256.LoadUnsafe(ref origin, at + 4);
-            sum += Vector256.LoadUnsafe(ref origin, at - 5);
-            sum += Vector256.LoadUnsafe(ref origin, at + 5);
-            var pass = Vector256.AndNot(candidate, Vector256.LessThan(p, sum / count * ratio));
-            var bits = pass.ExtractMostSignificantBits();
-            while (bits != 0)
+            ref var at = ref Unsafe.Add(ref origin, k);
+            var p = TOps.Load(in at);
+            var candidate = TOps.AndNot(
+                TOps.AndNot(TOps.Greater(p, zero), TOps.Less(p, TOps.Load(in Unsafe.Subtract(ref at, 1)))),
+                TOps.LessOrEqual(p, TOps.Load(in Unsafe.Add(ref at, 1))));
+            var sum = zero;
+            for (var d = GuardBins; d <= NearOuterBins; d++)
             {
-                kept = Consider(psd, k + BitOperations.TrailingZeroCount(bits), kept);
-                bits &= bits - 1;
+                sum = TOps.Add(sum, TOps.Load(in Unsafe.Subtract(ref at, d)));
+                sum = TOps.Add(sum, TOps.Load(in Unsafe.Add(ref at, d)));
             }
-        }
 
-        return k;
-    }
-
-    // As Prefilter256, eight bins at a time.
-    private int Prefilter512(ReadOnlySpan<double> psd, int k, int interiorLast, ref int kept)
-    {
-        ref var origin = ref MemoryMarshal.GetReference(psd);
-        var ratio = Vector512.Create(_minProminenceRatio);
-        var count = Vector512.Create((double)NearCount);
-        for (; k + Vector512<double>.Count - 1 <= interiorLast; k += Vector512<double>.Count)
-        {
-            var at = (nuint)k;
-            var p = Vector512.LoadUnsafe(ref origin, at);
-            var candidate = Vector512.AndNot(
-                Vector512.AndNot(Vector512.GreaterThan(p, Vector512<double>.Zero), Vector512.LessThan(p, Vector512.LoadUnsafe(ref origin, at - 1))),
-                Vector512.LessThanOrEqual(p, Vector512.LoadUnsafe(ref origin, at + 1)));
-            var sum = Vector512<double>.Zero + Vector512.LoadUnsafe(ref origin, at - 3);
-            sum += Vector512.LoadUnsafe(ref origin, at + 3);
-            sum += Vector512.LoadUnsafe(ref origin, at - 4);
-            sum += Vector512.LoadUnsafe(ref origin, at + 4);
-            sum += Vector512.LoadUnsafe(ref origin, at - 5);
-            sum += Vector512.LoadUnsafe(ref origin, at + 5);
-            var pass = Vector512.AndNot(candidate, Vector512.LessThan(p, sum / count * ratio));
-            var bits = pass.ExtractMostSignificantBits();
+            var pass = TOps.AndNot(candidate, TOps.Less(p, TOps.Mul(TOps.Div(sum, count), ratio)));
+            var bits = TOps.MaskBits(pass);
             while (bits != 0)
             {
                 kept = Consider(psd, k + BitOperations.TrailingZeroCount(bits), kept);

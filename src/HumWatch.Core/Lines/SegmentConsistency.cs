@@ -9,13 +9,14 @@ namespace HumWatch.Core.Lines;
 /// With K = 3 segments a Welch bin has only ν ≈ 5.8 degrees of freedom, and an amplitude-modulated rhythm has fewer
 /// still (one strong segment dominates the mean), so its random spikes reach 10 dB over the local floor far more often
 /// than χ²₅.₈ suggests (≈ 1e-3 per candidate in simulation). A spike is mostly one segment's doing; a line is in all of
-/// them. A segment confirms a peak when, within ±1 bin of the peak, its own periodogram has a maximum at least 3 dB over
-/// its level 3…5 bins away (6 dB) and that maximum's parabolic (log) frequency lies within 0.3 bins (plus a relative
+/// them. A segment confirms a peak when, within ±1 bin of the peak, its own periodogram has a maximum at least 4 times
+/// the mean of its bins 3…5 away (a power ratio of 10·log10 4 ≈ 6.02 dB) and that maximum's parabolic (log) frequency lies within 0.3 bins (plus a relative
 /// drift of 5e-4 for a wandering grid's harmonics) of the averaged estimate. For K ≤ 3 every segment must confirm, for larger K all but one. A steady 10 dB line passes a segment with
 /// probability ≈ 0.95; a rhythm's spike passes one of the other segments with ≈ 0.2.
 /// </remarks>
 internal sealed class SegmentConsistency
 {
+    // Power ratio over the near level a segment's maximum needs: 4 = 10·log10(4) ≈ 6.02 dB.
     private const double MinSegmentRatio = 4.0;
     private const double MaxFrequencyMismatchBins = 0.3;
     private const double RelativeDrift = 5e-4;

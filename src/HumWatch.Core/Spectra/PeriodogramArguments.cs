@@ -1,7 +1,7 @@
 namespace HumWatch.Core.Spectra;
 
-/// <summary>The argument rules of <see cref="IPeriodogramKernel.Compute"/> (and its float32 twin), shared by every kernel.</summary>
-internal static class PeriodogramArguments
+/// <summary>The argument rules of <see cref="IPeriodogramKernel.Compute"/>, shared by every kernel (Core's and the callers' wrappers).</summary>
+public static class PeriodogramArguments
 {
     /// <summary>Throws when the spans cannot hold the batch; returns false when there is nothing to do.</summary>
     public static bool Check<T>(int segmentLength, int binCount, ReadOnlySpan<T> samples, int channelCount, int sampleStride, Span<T> periodograms)

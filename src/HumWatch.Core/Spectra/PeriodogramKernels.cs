@@ -1,3 +1,4 @@
+using System.Runtime.Intrinsics;
 using HumWatch.Core.Spectra.Fft;
 
 namespace HumWatch.Core.Spectra;
@@ -15,24 +16,14 @@ public static class PeriodogramKernels
             ? new FftPeriodogramKernel(segmentLength, sampleRateHz)
             : new MathNetPeriodogramKernel(segmentLength, sampleRateHz);
 
-    /// <summary>
-    /// A float32 kernel for <paramref name="segmentLength"/>-sample segments (≥ 2) at <paramref name="sampleRateHz"/> (> 0), same
-    /// conventions as <see cref="Create"/>: our batched FFT on eight channels per Vector256&lt;float&gt; for 2·3·5-smooth lengths,
-    /// otherwise the float64 kernel of <see cref="Create"/> behind a float32 adapter (widen, compute, round).
-    /// </summary>
-    public static IPeriodogramKernel32 CreateSingle(int segmentLength, double sampleRateHz) =>
-        FftPeriodogramKernel.Supports(segmentLength)
-            ? new FftPeriodogramKernel32(segmentLength, sampleRateHz)
-            : new WidenedPeriodogramKernel32(new MathNetPeriodogramKernel(segmentLength, sampleRateHz));
-
     /// <summary>The MathNet.Numerics reference kernel for any <paramref name="segmentLength"/> (≥ 2) at <paramref name="sampleRateHz"/> (> 0); slower, allocates per transform.</summary>
     public static IPeriodogramKernel CreateReference(int segmentLength, double sampleRateHz) =>
         new MathNetPeriodogramKernel(segmentLength, sampleRateHz);
 
     /// <summary>
-    /// A kernel that spreads each batch of channels over <paramref name="ways"/> threads (≥ 1) — for analysing one long
-    /// recording on every core. Same results as <see cref="Create"/>; allocates a little per call.
+    /// Channels per vector group of <see cref="Create"/>'s FFT kernel (4 with hardware Vector256, else 1): a caller that
+    /// splits a batch of channels over several kernels (Host's parallel check) keeps whole groups together, so every
+    /// channel meets the same lane arithmetic as in one batch and the results are bit-identical.
     /// </summary>
-    public static IPeriodogramKernel CreateParallel(int segmentLength, double sampleRateHz, int ways) =>
-        ways <= 1 ? Create(segmentLength, sampleRateHz) : new ParallelPeriodogramKernel(segmentLength, sampleRateHz, ways);
+    public static int ChannelGroup => Vector256Lanes<double>.IsSupported ? Vector256<double>.Count : 1;
 }

@@ -34,11 +34,6 @@ public sealed class SlidingWelch
     private long _frameNewestSegment = -1;
     private bool _inCallback;
 
-    /// <summary>
-    /// Creates the sliding analysis for <paramref name="channelCount"/> channels (≥ 1) at <paramref name="sampleRateHz"/> (> 0)
-    /// with <paramref name="options"/> (checked by <see cref="SpectralOptions.Validate"/>). <paramref name="kernel"/> defaults
-    /// to <see cref="PeriodogramKernels.Create"/>; a given kernel must have <see cref="SegmentLength"/> and the same sample rate.
-    /// </summary>
     /// <summary>Samples per Welch segment for these options at this rate, as the constructor computes them (for building a kernel up front).</summary>
     public static int SegmentLengthFor(SpectralOptions options, double sampleRateHz)
     {
@@ -48,6 +43,11 @@ public sealed class SlidingWelch
 
     private static double SegmentSamplesFor(SpectralOptions options, double sampleRateHz) => Math.Round(options.SegmentSeconds * sampleRateHz);
 
+    /// <summary>
+    /// Creates the sliding analysis for <paramref name="channelCount"/> channels (≥ 1) at <paramref name="sampleRateHz"/> (> 0)
+    /// with <paramref name="options"/> (checked by <see cref="SpectralOptions.Validate"/>). <paramref name="kernel"/> defaults
+    /// to <see cref="PeriodogramKernels.Create"/>; a given kernel must have <see cref="SegmentLength"/> and the same sample rate.
+    /// </summary>
     public SlidingWelch(double sampleRateHz, int channelCount, SpectralOptions options, IPeriodogramKernel? kernel = null)
     {
         if (!(sampleRateHz > 0) || !double.IsFinite(sampleRateHz))
@@ -66,7 +66,7 @@ public sealed class SlidingWelch
         var segmentSamples = SegmentSamplesFor(options, sampleRateHz);
         if (segmentSamples < 2 || segmentSamples > MaxSegmentLength)
         {
-            throw new ArgumentException($"Spectra:SegmentSeconds = {options.SegmentSeconds} s at {sampleRateHz} Hz gives {segmentSamples} samples per segment; it must give 2 … {MaxSegmentLength}.", nameof(options));
+            throw new ArgumentException($"SegmentSeconds = {options.SegmentSeconds} s at {sampleRateHz} Hz gives {segmentSamples} samples per segment; it must give 2 … {MaxSegmentLength}.", nameof(options));
         }
 
         var segmentLength = (int)segmentSamples;
@@ -76,7 +76,7 @@ public sealed class SlidingWelch
         var step = segmentLength - overlapSamples;
         if (step < 1)
         {
-            throw new ArgumentException($"Spectra:OverlapFraction = {options.OverlapFraction} leaves no step between {segmentLength}-sample segments.", nameof(options));
+            throw new ArgumentException($"OverlapFraction = {options.OverlapFraction} leaves no step between {segmentLength}-sample segments.", nameof(options));
         }
 
         // Validate() has checked that span − segment and hop are whole multiples of the step in seconds.
@@ -87,7 +87,7 @@ public sealed class SlidingWelch
             || (long)segmentsPerSpan * channelCount * ((segmentLength / 2) + 1) > Array.MaxLength
             || (long)channelCount * segmentLength > Array.MaxLength)
         {
-            throw new ArgumentException($"Spectra: span of {segmentsPerSpan} segments with a hop of {hopSteps} steps is out of range for {channelCount} channels.", nameof(options));
+            throw new ArgumentException($"A span of {segmentsPerSpan} segments with a hop of {hopSteps} segment steps (SpanSeconds, HopSeconds) is out of range for {channelCount} channels.", nameof(options));
         }
 
         kernel ??= PeriodogramKernels.Create(segmentLength, sampleRateHz);

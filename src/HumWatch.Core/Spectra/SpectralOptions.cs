@@ -15,28 +15,33 @@ public sealed class SpectralOptions
     /// <summary>Time between frames, in seconds; a whole number of segment steps. The default is 2 s.</summary>
     public double HopSeconds { get; set; } = 2;
 
-    /// <summary>Checks the settings against each other; returns one message per problem naming the setting, empty when valid.</summary>
-    public IReadOnlyList<string> Validate(string prefix = "Spectra")
+    /// <summary>
+    /// Checks the settings against each other; returns one message per problem naming the setting, empty when valid. A
+    /// caller that binds these from configuration passes its key prefix (Host's "Analysis:Spectra"), and the messages name
+    /// the full key; without one they name the property alone (Core knows no configuration keys).
+    /// </summary>
+    public IReadOnlyList<string> Validate(string? prefix = null)
     {
+        prefix = string.IsNullOrEmpty(prefix) ? string.Empty : prefix + ":";
         var errors = new List<string>();
         if (!(SegmentSeconds > 0) || !double.IsFinite(SegmentSeconds))
         {
-            errors.Add($"{prefix}:SegmentSeconds must be a positive number of seconds (got {SegmentSeconds}).");
+            errors.Add($"{prefix}SegmentSeconds must be a positive number of seconds (got {SegmentSeconds}).");
         }
 
         if (!(OverlapFraction >= 0 && OverlapFraction <= 0.9))
         {
-            errors.Add($"{prefix}:OverlapFraction must be between 0 and 0.9 (got {OverlapFraction}).");
+            errors.Add($"{prefix}OverlapFraction must be between 0 and 0.9 (got {OverlapFraction}).");
         }
 
         if (!(SpanSeconds >= SegmentSeconds) || !double.IsFinite(SpanSeconds))
         {
-            errors.Add($"{prefix}:SpanSeconds must be at least SegmentSeconds = {SegmentSeconds} (got {SpanSeconds}).");
+            errors.Add($"{prefix}SpanSeconds must be at least SegmentSeconds = {SegmentSeconds} (got {SpanSeconds}).");
         }
 
         if (!(HopSeconds > 0) || !double.IsFinite(HopSeconds))
         {
-            errors.Add($"{prefix}:HopSeconds must be a positive number of seconds (got {HopSeconds}).");
+            errors.Add($"{prefix}HopSeconds must be a positive number of seconds (got {HopSeconds}).");
         }
 
         if (errors.Count == 0)
@@ -44,12 +49,12 @@ public sealed class SpectralOptions
             var step = SegmentSeconds * (1 - OverlapFraction);
             if (!IsWholeMultiple(HopSeconds, step))
             {
-                errors.Add($"{prefix}:HopSeconds = {HopSeconds} must be a whole number of segment steps (SegmentSeconds × (1 − OverlapFraction) = {step} s), so each hop adds whole segments.");
+                errors.Add($"{prefix}HopSeconds = {HopSeconds} must be a whole number of segment steps (SegmentSeconds × (1 − OverlapFraction) = {step} s), so each hop adds whole segments.");
             }
 
             if (!IsWholeMultiple(SpanSeconds - SegmentSeconds, step))
             {
-                errors.Add($"{prefix}:SpanSeconds − SegmentSeconds = {SpanSeconds - SegmentSeconds} s must be a whole number of segment steps ({step} s).");
+                errors.Add($"{prefix}SpanSeconds − SegmentSeconds = {SpanSeconds - SegmentSeconds} s must be a whole number of segment steps ({step} s).");
             }
         }
 

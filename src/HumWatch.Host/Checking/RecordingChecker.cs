@@ -228,7 +228,7 @@ public sealed class RecordingChecker
         for (var g = 0; g < analyzers.Length; g++)
         {
             var rate = info.Groups[g].Layout.SampleRateHz;
-            var kernel = PeriodogramKernels.CreateParallel(SlidingWelch.SegmentLengthFor(_analysis.Spectra, rate), rate, _threads);
+            var kernel = ParallelPeriodogramKernel.Create(SlidingWelch.SegmentLengthFor(_analysis.Spectra, rate), rate, _threads);
             analyzers[g] = new StreamAnalyzer(info.Groups[g].Layout, _analysis, kernel);
         }
 

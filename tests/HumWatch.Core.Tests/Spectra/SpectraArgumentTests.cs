@@ -39,9 +39,23 @@ public sealed class SpectraArgumentTests
 
         var e = Assert.Throws<ArgumentException>(() => new SlidingWelch(100, 1, options));
 
+        // Core names the settings, not configuration keys: the Host passes its key prefix (see the next test).
         Assert.Equal("options", e.ParamName);
-        Assert.Contains("Spectra:OverlapFraction", e.Message, StringComparison.Ordinal);
-        Assert.Contains("Spectra:SpanSeconds", e.Message, StringComparison.Ordinal);
+        Assert.Contains("OverlapFraction must be", e.Message, StringComparison.Ordinal);
+        Assert.Contains("SpanSeconds must be", e.Message, StringComparison.Ordinal);
+        Assert.DoesNotContain("Spectra:", e.Message, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void Spectral_options_name_the_callers_configuration_key_when_given_a_prefix()
+    {
+        var options = new SpectralOptions { SegmentSeconds = 1, OverlapFraction = 0.95, SpanSeconds = 0.5, HopSeconds = 1 };
+
+        var errors = options.Validate("Analysis:Spectra");
+
+        Assert.Contains(errors, m => m.StartsWith("Analysis:Spectra:OverlapFraction must be", StringComparison.Ordinal));
+        Assert.Contains(errors, m => m.StartsWith("Analysis:Spectra:SpanSeconds must be", StringComparison.Ordinal));
+        Assert.All(options.Validate(), m => Assert.DoesNotContain(":", m.Split(' ')[0], StringComparison.Ordinal));
     }
 
     [Fact]

@@ -26,7 +26,8 @@ internal sealed class ComplexFftPlan
     // All stages' twiddles, (cos, sin) pairs of e^(−2πi·qj/L): stage s, sub-transform offset j, q = 1 … r − 1.
     private readonly double[] _twiddles;
 
-    // The same table rounded to float32, for the float32 kernel (each entry within half an ulp of the float64 value).
+    // The same table rounded to float32, for the float32 instantiation of the stages (each entry within half an ulp of the
+    // float64 value); the product runs float64, the benchmarks compare both.
     private readonly float[] _twiddlesSingle;
     private readonly int[] _twiddleOffsets;
     private readonly int[] _permutation;
@@ -157,22 +158,7 @@ internal sealed class ComplexFftPlan
         {
             var r = _radices[s];
             var twiddles = Twiddles<TScalar>().Slice(_twiddleOffsets[s], 2 * subLength * (r - 1));
-            switch (r)
-            {
-                case 4:
-                    Radix4<TOps, TVec, TScalar>(re, im, subLength, twiddles);
-                    break;
-                case 2:
-                    Radix2<TOps, TVec, TScalar>(re, im, subLength, twiddles);
-                    break;
-                case 3:
-                    Radix3<TOps, TVec, TScalar>(re, im, subLength, twiddles);
-                    break;
-                default:
-                    Radix5<TOps, TVec, TScalar>(re, im, subLength, twiddles);
-                    break;
-            }
-
+            Stages<TOps, TVec, TScalar>.Stage(re, im, subLength, r, subLength > 1 ? twiddles : default);
             subLength *= r;
         }
     }
@@ -193,251 +179,171 @@ internal sealed class ComplexFftPlan
     {
         // Radix-4 first (cheapest per point, and the first stage needs no twiddles), then 2, 3, 5.
         var radices = new List<int>();
-        while (length % 4 == 0)
+        foreach (var radix in (ReadOnlySpan<int>)[4, 2, 3, 5])
         {
-            radices.Add(4);
-            length /= 4;
-        }
-
-        while (length % 2 == 0)
-        {
-            radices.Add(2);
-            length /= 2;
-        }
-
-        while (length % 3 == 0)
-        {
-            radices.Add(3);
-            length /= 3;
-        }
-
-        while (length % 5 == 0)
-        {
-            radices.Add(5);
-            length /= 5;
+            while (length % radix == 0)
+            {
+                radices.Add(radix);
+                length /= radix;
+            }
         }
 
         return radices.ToArray();
     }
 
-    [MethodImpl(MethodImplOptions.AggressiveInlining)]
-    private static void Twiddle<TOps, TVec, TScalar>(ref TVec xr, ref TVec xi, TScalar wr, TScalar wi)
+    /// <summary>The stage loop and butterflies for one lane type and precision (constraints once, on the class).</summary>
+    private static class Stages<TOps, TVec, TScalar>
         where TOps : struct, ILaneOps<TVec, TScalar>
         where TVec : struct
         where TScalar : unmanaged, IFloatingPointIeee754<TScalar>
     {
-        var vr = TOps.Splat(wr);
-        var vi = TOps.Splat(wi);
-        var r = TOps.NegMulAdd(xi, vi, TOps.Mul(xr, vr));
-        xi = TOps.MulAdd(xi, vr, TOps.Mul(xr, vi));
-        xr = r;
-    }
-
-    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
-    private static void Radix2<TOps, TVec, TScalar>(Span<TVec> re, Span<TVec> im, int subLength, ReadOnlySpan<TScalar> twiddles)
-        where TOps : struct, ILaneOps<TVec, TScalar>
-        where TVec : struct
-        where TScalar : unmanaged, IFloatingPointIeee754<TScalar>
-    {
-        var n = re.Length;
-        var l = subLength * 2;
-        for (var b = 0; b < n; b += l)
+        // Element i of the stage input, times twiddle (wr, wi) = twiddles[t], twiddles[t + 1] unless this is the first stage
+        // (sub-transforms of length 1 need none).
+        [MethodImpl(MethodImplOptions.AggressiveInlining)]
+        private static void Load(Span<TVec> re, Span<TVec> im, int i, ReadOnlySpan<TScalar> twiddles, int t, out TVec xr, out TVec xi)
         {
-            for (var j = 0; j < subLength; j++)
+            xr = re[i];
+            xi = im[i];
+            if (twiddles.Length > 0)
             {
-                var i0 = b + j;
-                var i1 = i0 + subLength;
-                var a1r = re[i1];
-                var a1i = im[i1];
-                if (subLength > 1)
-                {
-                    Twiddle<TOps, TVec, TScalar>(ref a1r, ref a1i, twiddles[2 * j], twiddles[(2 * j) + 1]);
-                }
-
-                var a0r = re[i0];
-                var a0i = im[i0];
-                re[i0] = TOps.Add(a0r, a1r);
-                im[i0] = TOps.Add(a0i, a1i);
-                re[i1] = TOps.Sub(a0r, a1r);
-                im[i1] = TOps.Sub(a0i, a1i);
+                LanePacks.MultiplyByTwiddle<TOps, TVec, TScalar>(ref xr, ref xi, twiddles[t], twiddles[t + 1]);
             }
         }
-    }
 
-    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
-    private static void Radix4<TOps, TVec, TScalar>(Span<TVec> re, Span<TVec> im, int subLength, ReadOnlySpan<TScalar> twiddles)
-        where TOps : struct, ILaneOps<TVec, TScalar>
-        where TVec : struct
-        where TScalar : unmanaged, IFloatingPointIeee754<TScalar>
-    {
-        var n = re.Length;
-        var l = subLength * 4;
-        for (var b = 0; b < n; b += l)
+        [MethodImpl(MethodImplOptions.AggressiveInlining)]
+        private static void Store(Span<TVec> re, Span<TVec> im, int i, TVec xr, TVec xi)
         {
-            for (var j = 0; j < subLength; j++)
+            re[i] = xr;
+            im[i] = xi;
+        }
+
+        // One stage: sub-transforms of length subLength are combined r at a time; butterfly j of each block of r·subLength
+        // takes elements j, j + subLength, … (r of them) and twiddles 1 … r − 1 of offset j (none on the first stage).
+        [MethodImpl(MethodImplOptions.AggressiveOptimization)]
+        public static void Stage(Span<TVec> re, Span<TVec> im, int subLength, int r, ReadOnlySpan<TScalar> twiddles)
+        {
+            var n = re.Length;
+            var l = subLength * r;
+            for (var b = 0; b < n; b += l)
             {
-                var i0 = b + j;
-                var i1 = i0 + subLength;
-                var i2 = i1 + subLength;
-                var i3 = i2 + subLength;
-                var a0r = re[i0];
-                var a0i = im[i0];
-                var a1r = re[i1];
-                var a1i = im[i1];
-                var a2r = re[i2];
-                var a2i = im[i2];
-                var a3r = re[i3];
-                var a3i = im[i3];
-                if (subLength > 1)
+                for (var j = 0; j < subLength; j++)
                 {
-                    var t = 6 * j;
-                    Twiddle<TOps, TVec, TScalar>(ref a1r, ref a1i, twiddles[t], twiddles[t + 1]);
-                    Twiddle<TOps, TVec, TScalar>(ref a2r, ref a2i, twiddles[t + 2], twiddles[t + 3]);
-                    Twiddle<TOps, TVec, TScalar>(ref a3r, ref a3i, twiddles[t + 4], twiddles[t + 5]);
+                    var i0 = b + j;
+                    var t = 2 * (r - 1) * j;
+                    switch (r)
+                    {
+                        case 4:
+                            Radix4(re, im, i0, subLength, twiddles, t);
+                            break;
+                        case 2:
+                            Radix2(re, im, i0, subLength, twiddles, t);
+                            break;
+                        case 3:
+                            Radix3(re, im, i0, subLength, twiddles, t);
+                            break;
+                        default:
+                            Radix5(re, im, i0, subLength, twiddles, t);
+                            break;
+                    }
                 }
-
-                var t0r = TOps.Add(a0r, a2r);
-                var t0i = TOps.Add(a0i, a2i);
-                var t1r = TOps.Sub(a0r, a2r);
-                var t1i = TOps.Sub(a0i, a2i);
-                var t2r = TOps.Add(a1r, a3r);
-                var t2i = TOps.Add(a1i, a3i);
-                var t3r = TOps.Sub(a1r, a3r);
-                var t3i = TOps.Sub(a1i, a3i);
-
-                // X1 = t1 − i·t3, X3 = t1 + i·t3 (forward transform, W = e^(−2πi/4) = −i).
-                re[i0] = TOps.Add(t0r, t2r);
-                im[i0] = TOps.Add(t0i, t2i);
-                re[i2] = TOps.Sub(t0r, t2r);
-                im[i2] = TOps.Sub(t0i, t2i);
-                re[i1] = TOps.Add(t1r, t3i);
-                im[i1] = TOps.Sub(t1i, t3r);
-                re[i3] = TOps.Sub(t1r, t3i);
-                im[i3] = TOps.Add(t1i, t3r);
             }
         }
-    }
 
-    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
-    private static void Radix3<TOps, TVec, TScalar>(Span<TVec> re, Span<TVec> im, int subLength, ReadOnlySpan<TScalar> twiddles)
-        where TOps : struct, ILaneOps<TVec, TScalar>
-        where TVec : struct
-        where TScalar : unmanaged, IFloatingPointIeee754<TScalar>
-    {
-        var n = re.Length;
-        var l = subLength * 3;
-        var half = TOps.Splat(TScalar.CreateTruncating(0.5));
-        var s = TOps.Splat(TScalar.CreateTruncating(HalfSqrt3));
-        for (var b = 0; b < n; b += l)
+        [MethodImpl(MethodImplOptions.AggressiveInlining)]
+        private static void Radix2(Span<TVec> re, Span<TVec> im, int i0, int stride, ReadOnlySpan<TScalar> twiddles, int t)
         {
-            for (var j = 0; j < subLength; j++)
-            {
-                var i0 = b + j;
-                var i1 = i0 + subLength;
-                var i2 = i1 + subLength;
-                var a1r = re[i1];
-                var a1i = im[i1];
-                var a2r = re[i2];
-                var a2i = im[i2];
-                if (subLength > 1)
-                {
-                    var t = 4 * j;
-                    Twiddle<TOps, TVec, TScalar>(ref a1r, ref a1i, twiddles[t], twiddles[t + 1]);
-                    Twiddle<TOps, TVec, TScalar>(ref a2r, ref a2i, twiddles[t + 2], twiddles[t + 3]);
-                }
-
-                var a0r = re[i0];
-                var a0i = im[i0];
-                var t1r = TOps.Add(a1r, a2r);
-                var t1i = TOps.Add(a1i, a2i);
-                var t2r = TOps.Sub(a1r, a2r);
-                var t2i = TOps.Sub(a1i, a2i);
-
-                // X1,2 = a0 − t1/2 ∓ i·(√3/2)·t2.
-                var mr = TOps.NegMulAdd(t1r, half, a0r);
-                var mi = TOps.NegMulAdd(t1i, half, a0i);
-                var sr = TOps.Mul(s, t2i);
-                var si = TOps.Mul(s, t2r);
-                re[i0] = TOps.Add(a0r, t1r);
-                im[i0] = TOps.Add(a0i, t1i);
-                re[i1] = TOps.Add(mr, sr);
-                im[i1] = TOps.Sub(mi, si);
-                re[i2] = TOps.Sub(mr, sr);
-                im[i2] = TOps.Add(mi, si);
-            }
+            Load(re, im, i0 + stride, twiddles, t, out var a1r, out var a1i);
+            var a0r = re[i0];
+            var a0i = im[i0];
+            Store(re, im, i0, TOps.Add(a0r, a1r), TOps.Add(a0i, a1i));
+            Store(re, im, i0 + stride, TOps.Sub(a0r, a1r), TOps.Sub(a0i, a1i));
         }
-    }
 
-    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
-    private static void Radix5<TOps, TVec, TScalar>(Span<TVec> re, Span<TVec> im, int subLength, ReadOnlySpan<TScalar> twiddles)
-        where TOps : struct, ILaneOps<TVec, TScalar>
-        where TVec : struct
-        where TScalar : unmanaged, IFloatingPointIeee754<TScalar>
-    {
-        var n = re.Length;
-        var l = subLength * 5;
-        var c1 = TOps.Splat(TScalar.CreateTruncating(Cos2Pi5));
-        var c2 = TOps.Splat(TScalar.CreateTruncating(Cos4Pi5));
-        var s1 = TOps.Splat(TScalar.CreateTruncating(Sin2Pi5));
-        var s2 = TOps.Splat(TScalar.CreateTruncating(Sin4Pi5));
-        for (var b = 0; b < n; b += l)
+        [MethodImpl(MethodImplOptions.AggressiveInlining)]
+        private static void Radix4(Span<TVec> re, Span<TVec> im, int i0, int stride, ReadOnlySpan<TScalar> twiddles, int t)
         {
-            for (var j = 0; j < subLength; j++)
-            {
-                var i0 = b + j;
-                var i1 = i0 + subLength;
-                var i2 = i1 + subLength;
-                var i3 = i2 + subLength;
-                var i4 = i3 + subLength;
-                var a1r = re[i1];
-                var a1i = im[i1];
-                var a2r = re[i2];
-                var a2i = im[i2];
-                var a3r = re[i3];
-                var a3i = im[i3];
-                var a4r = re[i4];
-                var a4i = im[i4];
-                if (subLength > 1)
-                {
-                    var t = 8 * j;
-                    Twiddle<TOps, TVec, TScalar>(ref a1r, ref a1i, twiddles[t], twiddles[t + 1]);
-                    Twiddle<TOps, TVec, TScalar>(ref a2r, ref a2i, twiddles[t + 2], twiddles[t + 3]);
-                    Twiddle<TOps, TVec, TScalar>(ref a3r, ref a3i, twiddles[t + 4], twiddles[t + 5]);
-                    Twiddle<TOps, TVec, TScalar>(ref a4r, ref a4i, twiddles[t + 6], twiddles[t + 7]);
-                }
+            var a0r = re[i0];
+            var a0i = im[i0];
+            Load(re, im, i0 + stride, twiddles, t, out var a1r, out var a1i);
+            Load(re, im, i0 + (2 * stride), twiddles, t + 2, out var a2r, out var a2i);
+            Load(re, im, i0 + (3 * stride), twiddles, t + 4, out var a3r, out var a3i);
+            var t0r = TOps.Add(a0r, a2r);
+            var t0i = TOps.Add(a0i, a2i);
+            var t1r = TOps.Sub(a0r, a2r);
+            var t1i = TOps.Sub(a0i, a2i);
+            var t2r = TOps.Add(a1r, a3r);
+            var t2i = TOps.Add(a1i, a3i);
+            var t3r = TOps.Sub(a1r, a3r);
+            var t3i = TOps.Sub(a1i, a3i);
 
-                var a0r = re[i0];
-                var a0i = im[i0];
-                var t1r = TOps.Add(a1r, a4r);
-                var t1i = TOps.Add(a1i, a4i);
-                var t2r = TOps.Add(a2r, a3r);
-                var t2i = TOps.Add(a2i, a3i);
-                var t3r = TOps.Sub(a1r, a4r);
-                var t3i = TOps.Sub(a1i, a4i);
-                var t4r = TOps.Sub(a2r, a3r);
-                var t4i = TOps.Sub(a2i, a3i);
+            // X1 = t1 − i·t3, X3 = t1 + i·t3 (forward transform, W = e^(−2πi/4) = −i).
+            Store(re, im, i0, TOps.Add(t0r, t2r), TOps.Add(t0i, t2i));
+            Store(re, im, i0 + (2 * stride), TOps.Sub(t0r, t2r), TOps.Sub(t0i, t2i));
+            Store(re, im, i0 + stride, TOps.Add(t1r, t3i), TOps.Sub(t1i, t3r));
+            Store(re, im, i0 + (3 * stride), TOps.Sub(t1r, t3i), TOps.Add(t1i, t3r));
+        }
 
-                // b1 = a0 + c1·t1 + c2·t2, b2 = a0 + c2·t1 + c1·t2; d1 = s1·t3 + s2·t4, d2 = s2·t3 − s1·t4;
-                // X1,4 = b1 ∓ i·d1, X2,3 = b2 ∓ i·d2 (W = e^(−2πi/5) = c1 − i·s1).
-                var b1r = TOps.MulAdd(c2, t2r, TOps.MulAdd(c1, t1r, a0r));
-                var b1i = TOps.MulAdd(c2, t2i, TOps.MulAdd(c1, t1i, a0i));
-                var b2r = TOps.MulAdd(c1, t2r, TOps.MulAdd(c2, t1r, a0r));
-                var b2i = TOps.MulAdd(c1, t2i, TOps.MulAdd(c2, t1i, a0i));
-                var d1r = TOps.MulAdd(s2, t4r, TOps.Mul(s1, t3r));
-                var d1i = TOps.MulAdd(s2, t4i, TOps.Mul(s1, t3i));
-                var d2r = TOps.NegMulAdd(s1, t4r, TOps.Mul(s2, t3r));
-                var d2i = TOps.NegMulAdd(s1, t4i, TOps.Mul(s2, t3i));
-                re[i0] = TOps.Add(a0r, TOps.Add(t1r, t2r));
-                im[i0] = TOps.Add(a0i, TOps.Add(t1i, t2i));
-                re[i1] = TOps.Add(b1r, d1i);
-                im[i1] = TOps.Sub(b1i, d1r);
-                re[i4] = TOps.Sub(b1r, d1i);
-                im[i4] = TOps.Add(b1i, d1r);
-                re[i2] = TOps.Add(b2r, d2i);
-                im[i2] = TOps.Sub(b2i, d2r);
-                re[i3] = TOps.Sub(b2r, d2i);
-                im[i3] = TOps.Add(b2i, d2r);
-            }
+        [MethodImpl(MethodImplOptions.AggressiveInlining)]
+        private static void Radix3(Span<TVec> re, Span<TVec> im, int i0, int stride, ReadOnlySpan<TScalar> twiddles, int t)
+        {
+            Load(re, im, i0 + stride, twiddles, t, out var a1r, out var a1i);
+            Load(re, im, i0 + (2 * stride), twiddles, t + 2, out var a2r, out var a2i);
+            var a0r = re[i0];
+            var a0i = im[i0];
+            var half = TOps.Splat(TScalar.CreateTruncating(0.5));
+            var s = TOps.Splat(TScalar.CreateTruncating(HalfSqrt3));
+            var t1r = TOps.Add(a1r, a2r);
+            var t1i = TOps.Add(a1i, a2i);
+            var t2r = TOps.Sub(a1r, a2r);
+            var t2i = TOps.Sub(a1i, a2i);
+
+            // X1,2 = a0 − t1/2 ∓ i·(√3/2)·t2.
+            var mr = TOps.NegMulAdd(t1r, half, a0r);
+            var mi = TOps.NegMulAdd(t1i, half, a0i);
+            var sr = TOps.Mul(s, t2i);
+            var si = TOps.Mul(s, t2r);
+            Store(re, im, i0, TOps.Add(a0r, t1r), TOps.Add(a0i, t1i));
+            Store(re, im, i0 + stride, TOps.Add(mr, sr), TOps.Sub(mi, si));
+            Store(re, im, i0 + (2 * stride), TOps.Sub(mr, sr), TOps.Add(mi, si));
+        }
+
+        [MethodImpl(MethodImplOptions.AggressiveInlining)]
+        private static void Radix5(Span<TVec> re, Span<TVec> im, int i0, int stride, ReadOnlySpan<TScalar> twiddles, int t)
+        {
+            var c1 = TOps.Splat(TScalar.CreateTruncating(Cos2Pi5));
+            var c2 = TOps.Splat(TScalar.CreateTruncating(Cos4Pi5));
+            var s1 = TOps.Splat(TScalar.CreateTruncating(Sin2Pi5));
+            var s2 = TOps.Splat(TScalar.CreateTruncating(Sin4Pi5));
+            Load(re, im, i0 + stride, twiddles, t, out var a1r, out var a1i);
+            Load(re, im, i0 + (2 * stride), twiddles, t + 2, out var a2r, out var a2i);
+            Load(re, im, i0 + (3 * stride), twiddles, t + 4, out var a3r, out var a3i);
+            Load(re, im, i0 + (4 * stride), twiddles, t + 6, out var a4r, out var a4i);
+            var a0r = re[i0];
+            var a0i = im[i0];
+            var t1r = TOps.Add(a1r, a4r);
+            var t1i = TOps.Add(a1i, a4i);
+            var t2r = TOps.Add(a2r, a3r);
+            var t2i = TOps.Add(a2i, a3i);
+            var t3r = TOps.Sub(a1r, a4r);
+            var t3i = TOps.Sub(a1i, a4i);
+            var t4r = TOps.Sub(a2r, a3r);
+            var t4i = TOps.Sub(a2i, a3i);
+
+            // b1 = a0 + c1·t1 + c2·t2, b2 = a0 + c2·t1 + c1·t2; d1 = s1·t3 + s2·t4, d2 = s2·t3 − s1·t4;
+            // X1,4 = b1 ∓ i·d1, X2,3 = b2 ∓ i·d2 (W = e^(−2πi/5) = c1 − i·s1).
+            var b1r = TOps.MulAdd(c2, t2r, TOps.MulAdd(c1, t1r, a0r));
+            var b1i = TOps.MulAdd(c2, t2i, TOps.MulAdd(c1, t1i, a0i));
+            var b2r = TOps.MulAdd(c1, t2r, TOps.MulAdd(c2, t1r, a0r));
+            var b2i = TOps.MulAdd(c1, t2i, TOps.MulAdd(c2, t1i, a0i));
+            var d1r = TOps.MulAdd(s2, t4r, TOps.Mul(s1, t3r));
+            var d1i = TOps.MulAdd(s2, t4i, TOps.Mul(s1, t3i));
+            var d2r = TOps.NegMulAdd(s1, t4r, TOps.Mul(s2, t3r));
+            var d2i = TOps.NegMulAdd(s1, t4i, TOps.Mul(s2, t3i));
+            Store(re, im, i0, TOps.Add(a0r, TOps.Add(t1r, t2r)), TOps.Add(a0i, TOps.Add(t1i, t2i)));
+            Store(re, im, i0 + stride, TOps.Add(b1r, d1i), TOps.Sub(b1i, d1r));
+            Store(re, im, i0 + (4 * stride), TOps.Sub(b1r, d1i), TOps.Add(b1i, d1r));
+            Store(re, im, i0 + (2 * stride), TOps.Add(b2r, d2i), TOps.Sub(b2i, d2r));
+            Store(re, im, i0 + (3 * stride), TOps.Sub(b2r, d2i), TOps.Add(b2i, d2r));
         }
     }
 }

@@ -4,7 +4,7 @@ using System.Runtime.CompilerServices;
 namespace HumWatch.Core.Spectra.Fft;
 
 /// <summary>
-/// The steps both FFT kernels (float64 and float32) share around the complex FFT: the Hann window, density scale and
+/// The steps around the complex FFT for every precision (float64 and float32): the Hann window, density scale and
 /// split-step twiddles (made once in float64), and the scaled one-sided power per bin, generic over lane width and precision.
 /// </summary>
 internal static class PowerSteps
@@ -59,13 +59,14 @@ internal static class PowerSteps
         return twiddles;
     }
 
-    /// <summary>The values of <paramref name="values"/> rounded to float32.</summary>
-    public static float[] ToSingle(ReadOnlySpan<double> values)
+    /// <summary>The values of <paramref name="values"/> in <typeparamref name="TScalar"/> (rounded once for float32).</summary>
+    public static TScalar[] Round<TScalar>(ReadOnlySpan<double> values)
+        where TScalar : unmanaged, IFloatingPointIeee754<TScalar>
     {
-        var result = new float[values.Length];
+        var result = new TScalar[values.Length];
         for (var i = 0; i < values.Length; i++)
         {
-            result[i] = (float)values[i];
+            result[i] = TScalar.CreateTruncating(values[i]);
         }
 
         return result;
@@ -100,12 +101,9 @@ internal static class PowerSteps
             var bi = im[mk];
             var er = TOps.Add(ar, br);
             var ei = TOps.Sub(ai, bi);
-            var or = TOps.Add(ai, bi);
-            var oi = TOps.Sub(br, ar);
-            var wr = TOps.Splat(twiddles[2 * k]);
-            var wi = TOps.Splat(twiddles[(2 * k) + 1]);
-            var wor = TOps.NegMulAdd(wi, oi, TOps.Mul(wr, or));
-            var woi = TOps.MulAdd(wi, or, TOps.Mul(wr, oi));
+            var wor = TOps.Add(ai, bi);
+            var woi = TOps.Sub(br, ar);
+            LanePacks.MultiplyByTwiddle<TOps, TVec, TScalar>(ref wor, ref woi, twiddles[2 * k], twiddles[(2 * k) + 1]);
             var xr = TOps.Add(er, wor);
             var xi = TOps.Add(ei, woi);
             var yr = TOps.Sub(er, wor);

@@ -273,12 +273,45 @@ public sealed class FftPeriodogramKernelTests
         Assert.Equal(42, psd[0]);
     }
 
+    [Theory]
+    [InlineData(2000, 9)]
+    [InlineData(1125, 5)]
+    [InlineData(4096, 17)]
+    [InlineData(30, 3)]
+    public void Every_lane_width_equals_the_scalar_kernel(int segmentLength, int channelCount)
+    {
+        // The scalar path is the reference: each lane runs the same operations in the same order; only the fused
+        // multiply-adds of the vector widths round once where the scalar a·b + c rounds twice (≈ 1e-16 per operation),
+        // so 1e-12 relative (above 1e-12·max) bounds the difference. Width 512 runs on two Vector256 halves without AVX-512.
+        var stride = segmentLength + 5;
+        var samples = Flatten(Signal(segmentLength, channelCount, 5, seed: 3 * segmentLength), segmentLength, 5);
+        var scalar = new FftPeriodogramKernel(segmentLength, 1000, vectorBits: 0, misalignBytes: 0);
+        Assert.Equal(1, scalar.Lanes);
+        var expected = new double[channelCount * scalar.BinCount];
+        scalar.Compute(samples, channelCount, stride, expected);
+        foreach (var bits in new[] { 256, 512 })
+        {
+            var wide = new FftPeriodogramKernel(segmentLength, 1000, bits, 0);
+            var actual = new double[expected.Length];
+            wide.Compute(samples, channelCount, stride, actual);
+            SpectraAssert.BinsClose(expected, actual, 1e-12, 1e-12, $"N={segmentLength} width {bits} ({wide.Lanes} lanes)");
+        }
+    }
+
     [Fact]
     public void Scratch_is_64_byte_aligned_unless_misaligned_on_purpose()
     {
         Assert.Equal(0, new AlignedScratch<double>(1000).AddressModulo64);
         Assert.Equal(8, new AlignedScratch<double>(1000, 8).AddressModulo64);
         Assert.Equal(1000, new AlignedScratch<double>(1000, 8).Span.Length);
+    }
+
+    [Fact]
+    public void Float32_scratch_is_64_byte_aligned_unless_misaligned_on_purpose()
+    {
+        Assert.Equal(0, new AlignedScratch<float>(1000).AddressModulo64);
+        Assert.Equal(4, new AlignedScratch<float>(1000, 4).AddressModulo64);
+        Assert.Equal(1000, new AlignedScratch<float>(1000, 4).Span.Length);
     }
 
     [Theory]

@@ -1,4 +1,6 @@
-namespace HumWatch.Core.Spectra;
+using HumWatch.Core.Spectra;
+
+namespace HumWatch.Bench.Float32;
 
 /// <summary>
 /// The float32 twin of <see cref="IPeriodogramKernel"/>: the same one-sided modified periodograms with scipy.signal.welch's
@@ -6,7 +8,7 @@ namespace HumWatch.Core.Spectra;
 /// even-length Nyquist), on float32 samples (µV) into float32 periodograms (µV²/Hz). About 7 significant digits per bin
 /// instead of 15, for twice the channels per vector. Not thread-safe (one per stream/worker); allocates nothing per call.
 /// </summary>
-public interface IPeriodogramKernel32
+internal interface IPeriodogramKernel32
 {
     /// <summary>Samples per segment (nperseg = nfft).</summary>
     int SegmentLength { get; }

@@ -1,4 +1,6 @@
-namespace HumWatch.Core.Spectra.Fft;
+using HumWatch.Core.Spectra;
+
+namespace HumWatch.Bench.Float32;
 
 /// <summary>
 /// The float32 interface over a float64 kernel, for segment lengths the float32 FFT kernel does not handle (a prime

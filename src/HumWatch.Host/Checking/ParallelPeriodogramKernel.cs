@@ -1,18 +1,18 @@
-namespace HumWatch.Core.Spectra;
+using HumWatch.Core.Spectra;
+
+namespace HumWatch.Host.Checking;
 
 /// <summary>
-/// Splits a batch of channels over several kernels on the thread pool. For one long file (`check`), where a single
-/// stream would otherwise use one core; the service runs many streams in parallel and keeps one kernel per stream.
-/// Allocates a little per call (the parallel loop), so it is not for the allocation-free streaming path.
+/// Splits a batch of channels over several of Core's kernels on the thread pool. For one long file (`check`), where a
+/// single stream would otherwise use one core; the service runs many streams in parallel and keeps one kernel per stream.
+/// Core decides no threading: it offers kernels that take any range of channels, and this Host type runs the ranges side
+/// by side. Allocates a little per call (the parallel loop), so it is not for the allocation-free streaming path.
 /// </summary>
 internal sealed unsafe class ParallelPeriodogramKernel : IPeriodogramKernel
 {
-    // Channels go to a part in whole groups of four, the width of the vectorised kernel.
-    private const int ChannelGroup = 4;
-
     private readonly IPeriodogramKernel[] _parts;
 
-    public ParallelPeriodogramKernel(int segmentLength, double sampleRateHz, int ways)
+    private ParallelPeriodogramKernel(int segmentLength, double sampleRateHz, int ways)
     {
         ArgumentOutOfRangeException.ThrowIfLessThan(ways, 1);
         _parts = new IPeriodogramKernel[ways];
@@ -21,6 +21,14 @@ internal sealed unsafe class ParallelPeriodogramKernel : IPeriodogramKernel
             _parts[i] = PeriodogramKernels.Create(segmentLength, sampleRateHz);
         }
     }
+
+    /// <summary>
+    /// A kernel that spreads each batch of channels over <paramref name="ways"/> threads (≥ 1). Same results as
+    /// <see cref="PeriodogramKernels.Create"/>: channels go to a part in whole vector groups, so each channel meets the
+    /// same code in the same lane.
+    /// </summary>
+    public static IPeriodogramKernel Create(int segmentLength, double sampleRateHz, int ways) =>
+        ways <= 1 ? PeriodogramKernels.Create(segmentLength, sampleRateHz) : new ParallelPeriodogramKernel(segmentLength, sampleRateHz, ways);
 
     public int SegmentLength => _parts[0].SegmentLength;
 
@@ -33,7 +41,8 @@ internal sealed unsafe class ParallelPeriodogramKernel : IPeriodogramKernel
             return;
         }
 
-        var groups = (channelCount + ChannelGroup - 1) / ChannelGroup;
+        var group = PeriodogramKernels.ChannelGroup;
+        var groups = (channelCount + group - 1) / group;
         var ways = Math.Min(_parts.Length, groups);
         if (ways == 1)
         {
@@ -53,8 +62,8 @@ internal sealed unsafe class ParallelPeriodogramKernel : IPeriodogramKernel
             var periodogramsLength = periodograms.Length;
             Parallel.For(0, ways, part =>
             {
-                var first = part * groupsPerPart * ChannelGroup;
-                var count = Math.Min(channelCount, first + (groupsPerPart * ChannelGroup)) - first;
+                var first = part * groupsPerPart * group;
+                var count = Math.Min(channelCount, first + (groupsPerPart * group)) - first;
                 if (count <= 0)
                 {
                     return;

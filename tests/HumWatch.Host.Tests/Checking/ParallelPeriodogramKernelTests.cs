@@ -1,7 +1,8 @@
 using HumWatch.Core.Spectra;
+using HumWatch.Host.Checking;
 using Xunit;
 
-namespace HumWatch.Core.Tests.Spectra;
+namespace HumWatch.Host.Tests.Checking;
 
 public sealed class ParallelPeriodogramKernelTests
 {
@@ -21,14 +22,14 @@ public sealed class ParallelPeriodogramKernelTests
         }
 
         var single = PeriodogramKernels.Create(segmentLength, 500);
-        var parallel = PeriodogramKernels.CreateParallel(segmentLength, 500, ways);
+        var parallel = ParallelPeriodogramKernel.Create(segmentLength, 500, ways);
         var expected = new double[channels * single.BinCount];
         var actual = new double[channels * single.BinCount];
 
         single.Compute(samples, channels, stride, expected);
         parallel.Compute(samples, channels, stride, actual);
 
-        // Each channel goes through the same kernel code either way, in the same groups of four.
+        // Each channel goes through the same kernel code either way, in the same vector groups.
         for (var i = 0; i < expected.Length; i++)
         {
             Assert.True(expected[i] == actual[i], $"channel {i / single.BinCount} bin {i % single.BinCount}: {expected[i]} vs {actual[i]}");
@@ -38,8 +39,8 @@ public sealed class ParallelPeriodogramKernelTests
     [Fact]
     public void One_way_is_the_plain_kernel_and_bad_buffers_are_refused_naming_them()
     {
-        Assert.IsNotType<ParallelPeriodogramKernel>(PeriodogramKernels.CreateParallel(2000, 500, 1));
-        var parallel = PeriodogramKernels.CreateParallel(2000, 500, 2);
+        Assert.IsNotType<ParallelPeriodogramKernel>(ParallelPeriodogramKernel.Create(2000, 500, 1));
+        var parallel = ParallelPeriodogramKernel.Create(2000, 500, 2);
 
         var error = Assert.Throws<ArgumentException>(() => parallel.Compute(new double[100], 8, 2000, new double[8 * 1001]));
 

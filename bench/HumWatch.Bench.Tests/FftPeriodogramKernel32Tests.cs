@@ -1,8 +1,9 @@
+using HumWatch.Bench.Float32;
 using HumWatch.Core.Spectra;
-using HumWatch.Core.Spectra.Fft;
+using HumWatch.Core.Tests.Spectra;
 using Xunit;
 
-namespace HumWatch.Core.Tests.Spectra.Fft;
+namespace HumWatch.Bench.Tests;
 
 public sealed class FftPeriodogramKernel32Tests
 {
@@ -96,7 +97,7 @@ public sealed class FftPeriodogramKernel32Tests
         var actual = new float[kernel.BinCount];
         kernel.Compute(x, 1, n, actual);
         var expected = new double[kernel.BinCount];
-        new MathNetPeriodogramKernel(n, 1000).Compute(TestSignals.AsDoubles(x), 1, n, expected);
+        PeriodogramKernels.CreateReference(n, 1000).Compute(TestSignals.AsDoubles(x), 1, n, expected);
 
         for (var k = 0; k < 2; k++)
         {
@@ -110,7 +111,7 @@ public sealed class FftPeriodogramKernel32Tests
     {
         var c = ScipyWelchFixtures.Load(caseName);
         Assert.Equal("1.10.1", c.ScipyVersion);
-        var kernel = PeriodogramKernels.CreateSingle(c.SegmentLength, c.SampleRateHz);
+        var kernel = FftPeriodogramKernel32.Create(c.SegmentLength, c.SampleRateHz);
         var step = c.SegmentLength - c.OverlapSamples;
         var segments = ((c.Input.Length - c.SegmentLength) / step) + 1;
         var periodograms = new float[segments * kernel.BinCount];
@@ -147,7 +148,7 @@ public sealed class FftPeriodogramKernel32Tests
     [InlineData(4000)]
     public void Factory_uses_the_float32_FFT_kernel_for_smooth_lengths(int segmentLength)
     {
-        var kernel = PeriodogramKernels.CreateSingle(segmentLength, 250);
+        var kernel = FftPeriodogramKernel32.Create(segmentLength, 250);
         Assert.IsType<FftPeriodogramKernel32>(kernel);
         Assert.Equal(segmentLength, kernel.SegmentLength);
         Assert.Equal((segmentLength / 2) + 1, kernel.BinCount);
@@ -159,13 +160,13 @@ public sealed class FftPeriodogramKernel32Tests
     public void Factory_widens_to_MathNet_for_other_prime_factors(int segmentLength)
     {
         // MathNet.Numerics 5.0.0 in float64: the adapter's output is the reference rounded to float32
-        var kernel = PeriodogramKernels.CreateSingle(segmentLength, 250);
+        var kernel = FftPeriodogramKernel32.Create(segmentLength, 250);
         Assert.IsType<WidenedPeriodogramKernel32>(kernel);
         var x = Signal(segmentLength, 3, 5, seed: segmentLength);
         var actual = new float[3 * kernel.BinCount];
         kernel.Compute(x, 3, segmentLength + 5, actual);
         var expected = new double[actual.Length];
-        new MathNetPeriodogramKernel(segmentLength, 250).Compute(TestSignals.AsDoubles(x), 3, segmentLength + 5, expected);
+        PeriodogramKernels.CreateReference(segmentLength, 250).Compute(TestSignals.AsDoubles(x), 3, segmentLength + 5, expected);
         for (var i = 0; i < actual.Length; i++)
         {
             Assert.Equal((float)expected[i], actual[i]);
@@ -180,9 +181,10 @@ public sealed class FftPeriodogramKernel32Tests
     [InlineData(1001, true)]
     public void Float32_steady_state_compute_allocates_nothing(int segmentLength, bool vectorized)
     {
-        IPeriodogramKernel32 kernel = FftPeriodogramKernel.Supports(segmentLength)
+        var smooth = FftPeriodogramKernel32.Create(segmentLength, 500) is FftPeriodogramKernel32;
+        IPeriodogramKernel32 kernel = smooth
             ? new FftPeriodogramKernel32(segmentLength, 500, vectorized, 0)
-            : PeriodogramKernels.CreateSingle(segmentLength, 500);
+            : FftPeriodogramKernel32.Create(segmentLength, 500);
         var samples = Signal(segmentLength, 9, 0, seed: 5);
         var psd = new float[9 * kernel.BinCount];
         kernel.Compute(samples, 9, segmentLength, psd); // warm-up (tiering, statics, adapter buffers)
@@ -216,9 +218,9 @@ public sealed class FftPeriodogramKernel32Tests
         Assert.Equal("sampleRateHz", Assert.Throws<ArgumentOutOfRangeException>(() => new FftPeriodogramKernel32(64, 0)).ParamName);
         Assert.Equal("sampleRateHz", Assert.Throws<ArgumentOutOfRangeException>(() => new FftPeriodogramKernel32(64, double.PositiveInfinity)).ParamName);
         Assert.Equal("misalignBytes", Assert.Throws<ArgumentOutOfRangeException>(() => new FftPeriodogramKernel32(64, 100, true, 2)).ParamName);
-        Assert.Equal("segmentLength", Assert.Throws<ArgumentOutOfRangeException>(() => PeriodogramKernels.CreateSingle(1, 100)).ParamName);
-        Assert.Equal("sampleRateHz", Assert.Throws<ArgumentOutOfRangeException>(() => PeriodogramKernels.CreateSingle(1001, -1)).ParamName);
-        foreach (var kernel in new[] { PeriodogramKernels.CreateSingle(64, 100), PeriodogramKernels.CreateSingle(63, 100) })
+        Assert.Equal("segmentLength", Assert.Throws<ArgumentOutOfRangeException>(() => FftPeriodogramKernel32.Create(1, 100)).ParamName);
+        Assert.Equal("sampleRateHz", Assert.Throws<ArgumentOutOfRangeException>(() => FftPeriodogramKernel32.Create(1001, -1)).ParamName);
+        foreach (var kernel in new[] { FftPeriodogramKernel32.Create(64, 100), FftPeriodogramKernel32.Create(63, 100) })
         {
             var n = kernel.SegmentLength;
             var bins = kernel.BinCount;
@@ -239,14 +241,6 @@ public sealed class FftPeriodogramKernel32Tests
         Assert.Equal(42, psd[0]);
     }
 
-    [Fact]
-    public void Float32_scratch_is_64_byte_aligned_unless_misaligned_on_purpose()
-    {
-        Assert.Equal(0, new AlignedScratch<float>(1000).AddressModulo64);
-        Assert.Equal(4, new AlignedScratch<float>(1000, 4).AddressModulo64);
-        Assert.Equal(1000, new AlignedScratch<float>(1000, 4).Span.Length);
-    }
-
     private static void AssertMatchesReference(int segmentLength, int channelCount, bool vectorized, int seed)
     {
         const double fs = 1000;
@@ -254,7 +248,7 @@ public sealed class FftPeriodogramKernel32Tests
         var stride = segmentLength + pad;
         var samples = Signal(segmentLength, channelCount, pad, seed);
         var kernel = new FftPeriodogramKernel32(segmentLength, fs, vectorized, 0);
-        var reference = new MathNetPeriodogramKernel(segmentLength, fs);
+        var reference = PeriodogramKernels.CreateReference(segmentLength, fs);
         var bins = kernel.BinCount;
         Assert.Equal(vectorized && System.Runtime.Intrinsics.Vector256.IsHardwareAccelerated, kernel.Vectorized);
         Assert.Equal(reference.BinCount, bins);
