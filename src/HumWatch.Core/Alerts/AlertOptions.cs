@@ -1,3 +1,4 @@
+using HumWatch.Core.Text;
 namespace HumWatch.Core.Alerts;
 
 /// <summary>When a finding becomes an alert, how strong it is, and when it ends. Bound from config section "Alerts".</summary>
@@ -71,62 +72,63 @@ public sealed class AlertOptions
     };
 
     /// <summary>One message per problem, each naming the configuration key; empty when valid.</summary>
-    public IReadOnlyList<string> Validate(string prefix = "Alerts")
+    public IReadOnlyList<string> Validate(string? prefix = null)
     {
+        var at = SettingPrefix.Of(prefix);
         var errors = new List<string>();
         if (RaiseAfterFrames is < 1 or > 1000)
         {
-            errors.Add($"{prefix}:RaiseAfterFrames must be between 1 and 1000 frames (got {RaiseAfterFrames}).");
+            errors.Add($"{at}RaiseAfterFrames must be between 1 and 1000 frames (got {RaiseAfterFrames}).");
         }
 
         if (ClearAfterFrames is < 1 or > 1000)
         {
-            errors.Add($"{prefix}:ClearAfterFrames must be between 1 and 1000 frames (got {ClearAfterFrames}).");
+            errors.Add($"{at}ClearAfterFrames must be between 1 and 1000 frames (got {ClearAfterFrames}).");
         }
 
         if (SeverityHoldFrames is < 1 or > 1000)
         {
-            errors.Add($"{prefix}:SeverityHoldFrames must be between 1 and 1000 frames (got {SeverityHoldFrames}).");
+            errors.Add($"{at}SeverityHoldFrames must be between 1 and 1000 frames (got {SeverityHoldFrames}).");
         }
 
         if (!(SeverityDropMarginPercent >= 0 && SeverityDropMarginPercent < 100))
         {
-            errors.Add($"{prefix}:SeverityDropMarginPercent must be at least 0 and below 100 % (got {SeverityDropMarginPercent}).");
+            errors.Add($"{at}SeverityDropMarginPercent must be at least 0 and below 100 % (got {SeverityDropMarginPercent}).");
         }
 
         if (!(MinorUvRms > 0 && double.IsFinite(MinorUvRms)))
         {
-            errors.Add($"{prefix}:MinorUvRms must be a positive number of µV RMS (got {MinorUvRms}).");
+            errors.Add($"{at}MinorUvRms must be a positive number of µV RMS (got {MinorUvRms}).");
         }
 
         if (!(MarkedUvRms > MinorUvRms && double.IsFinite(MarkedUvRms)))
         {
-            errors.Add($"{prefix}:MarkedUvRms must be above MinorUvRms = {MinorUvRms} µV RMS (got {MarkedUvRms}).");
+            errors.Add($"{at}MarkedUvRms must be above MinorUvRms = {MinorUvRms} µV RMS (got {MarkedUvRms}).");
         }
 
         if (!(SevereUvRms > MarkedUvRms && double.IsFinite(SevereUvRms)))
         {
-            errors.Add($"{prefix}:SevereUvRms must be above MarkedUvRms = {MarkedUvRms} µV RMS (got {SevereUvRms}).");
+            errors.Add($"{at}SevereUvRms must be above MarkedUvRms = {MarkedUvRms} µV RMS (got {SevereUvRms}).");
         }
 
         if (!(MinChannelShare >= 0 && MinChannelShare <= 1))
         {
-            errors.Add($"{prefix}:MinChannelShare must be between 0 and 1 (got {MinChannelShare}).");
+            errors.Add($"{at}MinChannelShare must be between 0 and 1 (got {MinChannelShare}).");
         }
 
         if (UnidentifiedMinSeverity is < AlertSeverity.Minor or > AlertSeverity.Severe)
         {
-            errors.Add($"{prefix}:UnidentifiedMinSeverity must be minor, marked or severe (got {UnidentifiedMinSeverity}).");
+            errors.Add($"{at}UnidentifiedMinSeverity must be minor, marked or severe (got {UnidentifiedMinSeverity}).");
         }
 
         if (!(UnidentifiedClusterBins > 0 && UnidentifiedClusterBins <= 50))
         {
-            errors.Add($"{prefix}:UnidentifiedClusterBins must be above 0 and at most 50 bins (got {UnidentifiedClusterBins}).");
+            errors.Add($"{at}UnidentifiedClusterBins must be above 0 and at most 50 bins (got {UnidentifiedClusterBins}).");
         }
 
         if (ChannelFaultSeverity is < AlertSeverity.Minor or > AlertSeverity.Severe)
         {
-            errors.Add($"{prefix}:ChannelFaultSeverity must be minor, marked or severe (got {ChannelFaultSeverity}).");
+            errors.Add($"{at}ChannelFaultSeverity must be minor, marked or severe (got {ChannelFaultSeverity}).");
         }
 
         return errors;

@@ -1,3 +1,4 @@
+using HumWatch.Core.Text;
 using HumWatch.Core.Attribution;
 using HumWatch.Core.Faults;
 using HumWatch.Core.Lines;
@@ -19,14 +20,15 @@ public sealed class AnalysisOptions
     public Tracking.TrackingOptions Tracking { get; set; } = new();
 
     /// <summary>One message per problem, each naming the configuration key; empty when valid.</summary>
-    public IReadOnlyList<string> Validate(string prefix = "Analysis")
+    public IReadOnlyList<string> Validate(string? prefix = null)
     {
+        var at = SettingPrefix.Of(prefix);
         var errors = new List<string>();
-        errors.AddRange(Spectra.Validate($"{prefix}:Spectra"));
-        errors.AddRange(Lines.Validate($"{prefix}:Lines"));
-        errors.AddRange(Sources.Validate($"{prefix}:Sources"));
-        errors.AddRange(Faults.Validate($"{prefix}:Faults"));
-        errors.AddRange(Tracking.Validate($"{prefix}:Tracking"));
+        errors.AddRange(Spectra.Validate($"{at}Spectra"));
+        errors.AddRange(Lines.Validate($"{at}Lines"));
+        errors.AddRange(Sources.Validate($"{at}Sources"));
+        errors.AddRange(Faults.Validate($"{at}Faults"));
+        errors.AddRange(Tracking.Validate($"{at}Tracking"));
         return errors;
     }
 }

@@ -1,3 +1,4 @@
+using HumWatch.Core.Text;
 namespace HumWatch.Core.Attribution;
 
 /// <summary>The sources a site expects. Bound from config (see config/site-*.json).</summary>
@@ -41,45 +42,46 @@ public sealed class SourceCatalogOptions
     /// <summary>Extra tones the site declares.</summary>
     public List<SiteToneOptions> SiteTones { get; set; } = [];
 
-    public IReadOnlyList<string> Validate(string prefix = "Sources")
+    public IReadOnlyList<string> Validate(string? prefix = null)
     {
+        var at = SettingPrefix.Of(prefix);
         var errors = new List<string>();
         if (MainsHz is { } mains && !(mains > 0 && mains < 1000))
         {
-            errors.Add($"{prefix}:MainsHz must be above 0 and below 1000 Hz, usually 50 or 60 (got {MainsHz}).");
+            errors.Add($"{at}MainsHz must be above 0 and below 1000 Hz, usually 50 or 60 (got {MainsHz}).");
         }
 
         if (!(MainsTolerancePercent > 0 && MainsTolerancePercent <= 15))
         {
-            errors.Add($"{prefix}:MainsTolerancePercent must be above 0 and at most 15 % (got {MainsTolerancePercent}).");
+            errors.Add($"{at}MainsTolerancePercent must be above 0 and at most 15 % (got {MainsTolerancePercent}).");
         }
 
         if (MainsMaxHarmonic is < 1 or > 100)
         {
-            errors.Add($"{prefix}:MainsMaxHarmonic must be between 1 and 100 (got {MainsMaxHarmonic}).");
+            errors.Add($"{at}MainsMaxHarmonic must be between 1 and 100 (got {MainsMaxHarmonic}).");
         }
 
         for (var i = 0; i < DisplayRatesHz.Count; i++)
         {
             if (!(DisplayRatesHz[i] > 0 && DisplayRatesHz[i] < 10000))
             {
-                errors.Add($"{prefix}:DisplayRatesHz:{i} must be a positive rate below 10000 Hz (got {DisplayRatesHz[i]}).");
+                errors.Add($"{at}DisplayRatesHz:{i} must be a positive rate below 10000 Hz (got {DisplayRatesHz[i]}).");
             }
         }
 
         if (!(DisplayToleranceHz > 0 && DisplayToleranceHz <= 5))
         {
-            errors.Add($"{prefix}:DisplayToleranceHz must be above 0 and at most 5 Hz (got {DisplayToleranceHz}).");
+            errors.Add($"{at}DisplayToleranceHz must be above 0 and at most 5 Hz (got {DisplayToleranceHz}).");
         }
 
         if (DisplayMaxHarmonic is < 1 or > 20)
         {
-            errors.Add($"{prefix}:DisplayMaxHarmonic must be between 1 and 20 (got {DisplayMaxHarmonic}).");
+            errors.Add($"{at}DisplayMaxHarmonic must be between 1 and 20 (got {DisplayMaxHarmonic}).");
         }
 
         for (var i = 0; i < SiteTones.Count; i++)
         {
-            errors.AddRange(SiteTones[i].Validate($"{prefix}:SiteTones:{i}"));
+            errors.AddRange(SiteTones[i].Validate($"{at}SiteTones:{i}"));
         }
 
         return errors;

@@ -1,3 +1,4 @@
+using HumWatch.Core.Text;
 namespace HumWatch.Core.Faults;
 
 /// <summary>Thresholds for channel faults.</summary>
@@ -45,47 +46,48 @@ public sealed class FaultOptions
     /// </summary>
     public double CoarseStepSd { get; set; } = 0.5;
 
-    public IReadOnlyList<string> Validate(string prefix = "Faults")
+    public IReadOnlyList<string> Validate(string? prefix = null)
     {
+        var at = SettingPrefix.Of(prefix);
         var errors = new List<string>();
         if (!(FlatStdDevUv >= 0))
         {
-            errors.Add($"{prefix}:FlatStdDevUv must be zero or more µV (got {FlatStdDevUv}).");
+            errors.Add($"{at}FlatStdDevUv must be zero or more µV (got {FlatStdDevUv}).");
         }
 
         if (!(ClippedFraction > 0 && ClippedFraction <= 1))
         {
-            errors.Add($"{prefix}:ClippedFraction must be above 0 and at most 1 (got {ClippedFraction}).");
+            errors.Add($"{at}ClippedFraction must be above 0 and at most 1 (got {ClippedFraction}).");
         }
 
         if (!(FallbackClipLevelUv >= 0))
         {
-            errors.Add($"{prefix}:FallbackClipLevelUv must be zero (off) or a positive level in µV (got {FallbackClipLevelUv}).");
+            errors.Add($"{at}FallbackClipLevelUv must be zero (off) or a positive level in µV (got {FallbackClipLevelUv}).");
         }
 
         if (!(SaturationDistanceSd > 0) || !double.IsFinite(SaturationDistanceSd))
         {
-            errors.Add($"{prefix}:SaturationDistanceSd must be a positive number of standard deviations (got {SaturationDistanceSd}).");
+            errors.Add($"{at}SaturationDistanceSd must be a positive number of standard deviations (got {SaturationDistanceSd}).");
         }
 
         if (!(SaturationMinDistanceUv >= 0) || !double.IsFinite(SaturationMinDistanceUv))
         {
-            errors.Add($"{prefix}:SaturationMinDistanceUv must be zero or a positive distance in µV (got {SaturationMinDistanceUv}).");
+            errors.Add($"{at}SaturationMinDistanceUv must be zero or a positive distance in µV (got {SaturationMinDistanceUv}).");
         }
 
         if (!(RepeatedExtremeFraction > 0 && RepeatedExtremeFraction <= 1))
         {
-            errors.Add($"{prefix}:RepeatedExtremeFraction must be above 0 and at most 1 (got {RepeatedExtremeFraction}).");
+            errors.Add($"{at}RepeatedExtremeFraction must be above 0 and at most 1 (got {RepeatedExtremeFraction}).");
         }
 
         if (RepeatedExtremeMinSamples < 2)
         {
-            errors.Add($"{prefix}:RepeatedExtremeMinSamples must be at least 2, since any signal reaches its extreme once (got {RepeatedExtremeMinSamples}).");
+            errors.Add($"{at}RepeatedExtremeMinSamples must be at least 2, since any signal reaches its extreme once (got {RepeatedExtremeMinSamples}).");
         }
 
         if (!(CoarseStepSd > 0) || !double.IsFinite(CoarseStepSd))
         {
-            errors.Add($"{prefix}:CoarseStepSd must be a positive number of standard deviations (got {CoarseStepSd}).");
+            errors.Add($"{at}CoarseStepSd must be a positive number of standard deviations (got {CoarseStepSd}).");
         }
 
         return errors;

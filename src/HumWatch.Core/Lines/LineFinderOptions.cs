@@ -1,3 +1,4 @@
+using HumWatch.Core.Text;
 namespace HumWatch.Core.Lines;
 
 /// <summary>Settings of the narrowband peak search.</summary>
@@ -21,37 +22,38 @@ public sealed class LineFinderOptions
     /// <summary>Largest number of peaks kept per channel and frame (strongest first). The default is 32.</summary>
     public int MaxPeaksPerChannel { get; set; } = 32;
 
-    public IReadOnlyList<string> Validate(string prefix = "Lines")
+    public IReadOnlyList<string> Validate(string? prefix = null)
     {
+        var at = SettingPrefix.Of(prefix);
         var errors = new List<string>();
         if (!(MinFrequencyHz >= 0))
         {
-            errors.Add($"{prefix}:MinFrequencyHz must be zero or more (got {MinFrequencyHz}).");
+            errors.Add($"{at}MinFrequencyHz must be zero or more (got {MinFrequencyHz}).");
         }
 
         if (!(MaxFrequencyHz >= 0) || (MaxFrequencyHz > 0 && MaxFrequencyHz <= MinFrequencyHz))
         {
-            errors.Add($"{prefix}:MaxFrequencyHz must be 0 (up to Nyquist) or above MinFrequencyHz (got {MaxFrequencyHz}).");
+            errors.Add($"{at}MaxFrequencyHz must be 0 (up to Nyquist) or above MinFrequencyHz (got {MaxFrequencyHz}).");
         }
 
         if (!(MinProminenceDb >= 3 && MinProminenceDb <= 60))
         {
-            errors.Add($"{prefix}:MinProminenceDb must be between 3 and 60 dB (got {MinProminenceDb}).");
+            errors.Add($"{at}MinProminenceDb must be between 3 and 60 dB (got {MinProminenceDb}).");
         }
 
         if (!(FloorHalfWidthHz > 0 && FloorHalfWidthHz <= 20))
         {
-            errors.Add($"{prefix}:FloorHalfWidthHz must be above 0 and at most 20 Hz (got {FloorHalfWidthHz}).");
+            errors.Add($"{at}FloorHalfWidthHz must be above 0 and at most 20 Hz (got {FloorHalfWidthHz}).");
         }
 
         if (!(MinAmplitudeUvRms >= 0))
         {
-            errors.Add($"{prefix}:MinAmplitudeUvRms must be zero or more (got {MinAmplitudeUvRms}).");
+            errors.Add($"{at}MinAmplitudeUvRms must be zero or more (got {MinAmplitudeUvRms}).");
         }
 
         if (MaxPeaksPerChannel is < 1 or > 256)
         {
-            errors.Add($"{prefix}:MaxPeaksPerChannel must be between 1 and 256 (got {MaxPeaksPerChannel}).");
+            errors.Add($"{at}MaxPeaksPerChannel must be between 1 and 256 (got {MaxPeaksPerChannel}).");
         }
 
         return errors;

@@ -1,3 +1,4 @@
+using HumWatch.Core.Text;
 namespace HumWatch.Core.Reporting;
 
 /// <summary>Limits that turn a recording's findings into a verdict (pass / warn / fail).</summary>
@@ -18,27 +19,28 @@ public sealed class CheckLimits
     /// <summary>Whether unidentified lines count toward the verdict. The default is true.</summary>
     public bool CountUnidentifiedLines { get; set; } = true;
 
-    public IReadOnlyList<string> Validate(string prefix = "Check")
+    public IReadOnlyList<string> Validate(string? prefix = null)
     {
+        var at = SettingPrefix.Of(prefix);
         var errors = new List<string>();
         if (!(WarnLineUvRms > 0))
         {
-            errors.Add($"{prefix}:WarnLineUvRms must be a positive amplitude in µV RMS (got {WarnLineUvRms}).");
+            errors.Add($"{at}WarnLineUvRms must be a positive amplitude in µV RMS (got {WarnLineUvRms}).");
         }
 
         if (!(FailLineUvRms >= WarnLineUvRms))
         {
-            errors.Add($"{prefix}:FailLineUvRms must be at least WarnLineUvRms = {WarnLineUvRms} µV RMS (got {FailLineUvRms}).");
+            errors.Add($"{at}FailLineUvRms must be at least WarnLineUvRms = {WarnLineUvRms} µV RMS (got {FailLineUvRms}).");
         }
 
         if (!(MinLineSeconds >= 0))
         {
-            errors.Add($"{prefix}:MinLineSeconds must be zero or more seconds (got {MinLineSeconds}).");
+            errors.Add($"{at}MinLineSeconds must be zero or more seconds (got {MinLineSeconds}).");
         }
 
         if (!(FailFaultFraction > 0 && FailFaultFraction <= 1))
         {
-            errors.Add($"{prefix}:FailFaultFraction must be above 0 and at most 1 (got {FailFaultFraction}).");
+            errors.Add($"{at}FailFaultFraction must be above 0 and at most 1 (got {FailFaultFraction}).");
         }
 
         return errors;

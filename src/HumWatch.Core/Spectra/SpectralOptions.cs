@@ -1,3 +1,5 @@
+using HumWatch.Core.Text;
+
 namespace HumWatch.Core.Spectra;
 
 /// <summary>Welch and framing settings. Durations are converted to whole samples at the stream's rate.</summary>
@@ -22,7 +24,7 @@ public sealed class SpectralOptions
     /// </summary>
     public IReadOnlyList<string> Validate(string? prefix = null)
     {
-        prefix = string.IsNullOrEmpty(prefix) ? string.Empty : prefix + ":";
+        prefix = SettingPrefix.Of(prefix);
         var errors = new List<string>();
         if (!(SegmentSeconds > 0) || !double.IsFinite(SegmentSeconds))
         {

@@ -1,3 +1,4 @@
+using HumWatch.Core.Text;
 using System.Globalization;
 using HumWatch.Core.Findings;
 using static HumWatch.Core.Summaries.SummaryRounding;
@@ -41,8 +42,12 @@ internal static class DayJudgement
         return result;
     }
 
-    /// <summary>The worst verdict of the kinds, with one reason per limit reached; no data when nothing was monitored.</summary>
-    public static (DayVerdict Verdict, List<string> Reasons) Judge(List<CategorySummary> categories, bool hasData)
+    /// <summary>
+    /// The worst verdict of the kinds, with one reason per limit reached; no data when nothing was monitored. Each reason
+    /// names the limit under <paramref name="rulesKey"/>, the configuration key the rules were bound from (null: the
+    /// rule's own name).
+    /// </summary>
+    public static (DayVerdict Verdict, List<string> Reasons) Judge(List<CategorySummary> categories, bool hasData, string? rulesKey)
     {
         var reasons = new List<string>();
         if (!hasData)
@@ -53,7 +58,7 @@ internal static class DayJudgement
         var verdict = DayVerdict.Pass;
         foreach (var c in categories)
         {
-            var key = $"Summaries:Day:{DaySummaryRules.LimitKey(c.Category)}";
+            var key = SettingPrefix.Of(rulesKey) + DaySummaryRules.LimitKey(c.Category);
             if (c.Verdict == DayVerdict.Fail)
             {
                 verdict = DayVerdict.Fail;

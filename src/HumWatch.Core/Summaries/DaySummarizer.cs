@@ -23,6 +23,7 @@ public static class DaySummarizer
     /// <param name="alerts">Alert events of the stream; events outside the day are ignored.</param>
     /// <param name="spectrum">The day's mean spectrum when stored (gives line frequencies), else null.</param>
     /// <param name="options">Validated limits and episode rules.</param>
+    /// <param name="rulesKey">The configuration key the rules were bound from, named in verdict reasons and errors; null names the rules alone.</param>
     public static DaySummary Summarize(
         string streamId,
         DateOnly day,
@@ -30,14 +31,15 @@ public static class DaySummarizer
         IReadOnlyList<LedgerMinute> minutes,
         IReadOnlyList<AlertRecord> alerts,
         DaySpectrum? spectrum,
-        DaySummaryRules options)
+        DaySummaryRules options,
+        string? rulesKey = null)
     {
         ArgumentException.ThrowIfNullOrWhiteSpace(streamId);
         ArgumentNullException.ThrowIfNull(zone);
         ArgumentNullException.ThrowIfNull(minutes);
         ArgumentNullException.ThrowIfNull(alerts);
         ArgumentNullException.ThrowIfNull(options);
-        var errors = options.Validate();
+        var errors = options.Validate(rulesKey);
         if (errors.Count > 0)
         {
             throw new ArgumentOutOfRangeException(nameof(options), string.Join(" ", errors));
@@ -96,7 +98,7 @@ public static class DaySummarizer
         var categories = DayJudgement.Categories(tallies.Values, options, dayMinutes);
         var allSummary = all.ToSummary(options, fromUtc, zone, 0);
         var hasData = monitoredSeconds > 0;
-        var (verdict, reasons) = DayJudgement.Judge(categories, hasData);
+        var (verdict, reasons) = DayJudgement.Judge(categories, hasData, rulesKey);
         var hourStarts = new string[(dayMinutes + 59) / 60];
         for (var h = 0; h < hourStarts.Length; h++)
         {

@@ -1,3 +1,4 @@
+using HumWatch.Core.Text;
 using System.Globalization;
 using HumWatch.Core.Findings;
 
@@ -65,38 +66,39 @@ public sealed class DaySummaryRules
     public int EpisodesListed { get; set; } = 5;
 
     /// <summary>One message per problem, each naming the configuration key; empty when valid.</summary>
-    public IReadOnlyList<string> Validate(string prefix = "Summaries:Day")
+    public IReadOnlyList<string> Validate(string? prefix = null)
     {
+        var at = SettingPrefix.Of(prefix);
         var errors = new List<string>();
         foreach (var (name, limit) in Limits())
         {
             if (limit is null)
             {
-                errors.Add($"{prefix}:{name} must be given (an object with WarnMinutes and FailMinutes).");
+                errors.Add($"{at}{name} must be given (an object with WarnMinutes and FailMinutes).");
                 continue;
             }
 
-            limit.Validate($"{prefix}:{name}", errors);
+            limit.Validate($"{at}{name}", errors);
         }
 
         if (!(EpisodeMinuteMinSeconds > 0 && EpisodeMinuteMinSeconds <= 60))
         {
-            errors.Add(string.Create(CultureInfo.InvariantCulture, $"{prefix}:EpisodeMinuteMinSeconds must be above 0 and at most 60 s (got {EpisodeMinuteMinSeconds})."));
+            errors.Add(string.Create(CultureInfo.InvariantCulture, $"{at}EpisodeMinuteMinSeconds must be above 0 and at most 60 s (got {EpisodeMinuteMinSeconds})."));
         }
 
         if (EpisodeBridgeMinutes is < 0 or > 60)
         {
-            errors.Add(string.Create(CultureInfo.InvariantCulture, $"{prefix}:EpisodeBridgeMinutes must be between 0 and 60 minutes (got {EpisodeBridgeMinutes})."));
+            errors.Add(string.Create(CultureInfo.InvariantCulture, $"{at}EpisodeBridgeMinutes must be between 0 and 60 minutes (got {EpisodeBridgeMinutes})."));
         }
 
         if (WorstChannelCount is < 1 or > 64)
         {
-            errors.Add(string.Create(CultureInfo.InvariantCulture, $"{prefix}:WorstChannelCount must be between 1 and 64 (got {WorstChannelCount})."));
+            errors.Add(string.Create(CultureInfo.InvariantCulture, $"{at}WorstChannelCount must be between 1 and 64 (got {WorstChannelCount})."));
         }
 
         if (EpisodesListed is < 0 or > 100)
         {
-            errors.Add(string.Create(CultureInfo.InvariantCulture, $"{prefix}:EpisodesListed must be between 0 and 100 (got {EpisodesListed})."));
+            errors.Add(string.Create(CultureInfo.InvariantCulture, $"{at}EpisodesListed must be between 0 and 100 (got {EpisodesListed})."));
         }
 
         return errors;

@@ -1,3 +1,4 @@
+using HumWatch.Core.Text;
 namespace HumWatch.Core.Tracking;
 
 /// <summary>How lines are followed across frames: one definition of "the same line" and of its persistence for every consumer.</summary>
@@ -18,22 +19,23 @@ public sealed class TrackingOptions
     /// <summary>Frames the line and the fundamental must share before their frequency tracks are compared. The default is 8.</summary>
     public int MinSharedFrames { get; set; } = 8;
 
-    public IReadOnlyList<string> Validate(string prefix = "Tracking")
+    public IReadOnlyList<string> Validate(string? prefix = null)
     {
+        var at = SettingPrefix.Of(prefix);
         var errors = new List<string>();
         if (PersistFrames is < 1 or > 100)
         {
-            errors.Add($"{prefix}:PersistFrames must be between 1 and 100 (got {PersistFrames}).");
+            errors.Add($"{at}PersistFrames must be between 1 and 100 (got {PersistFrames}).");
         }
 
         if (EvidenceFrames is < 4 or > 1024)
         {
-            errors.Add($"{prefix}:EvidenceFrames must be between 4 and 1024 (got {EvidenceFrames}).");
+            errors.Add($"{at}EvidenceFrames must be between 4 and 1024 (got {EvidenceFrames}).");
         }
 
         if (MinSharedFrames < 3 || MinSharedFrames > EvidenceFrames)
         {
-            errors.Add($"{prefix}:MinSharedFrames must be at least 3 and at most EvidenceFrames ({EvidenceFrames}) (got {MinSharedFrames}).");
+            errors.Add($"{at}MinSharedFrames must be at least 3 and at most EvidenceFrames ({EvidenceFrames}) (got {MinSharedFrames}).");
         }
 
         return errors;

@@ -31,7 +31,7 @@ public sealed class RecordingChecker
         _threads = threads;
         ArgumentNullException.ThrowIfNull(analysis);
         ArgumentNullException.ThrowIfNull(limits);
-        var errors = analysis.Validate().Concat(limits.Validate()).ToList();
+        var errors = analysis.Validate("Analysis").Concat(limits.Validate("Check")).ToList();
         if (errors.Count > 0)
         {
             throw new ArgumentException(string.Join(Environment.NewLine, errors), nameof(analysis));

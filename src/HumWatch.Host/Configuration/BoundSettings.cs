@@ -96,9 +96,9 @@ public sealed class BoundSettings
         var schema = SettingsSchema.Check(configuration, sourceOf);
         var errors = new List<string>(earlierProblems);
         errors.AddRange(schema.Errors);
-        var analysis = Section<AnalysisOptions>(configuration, nameof(Analysis), schema, errors, o => o.Validate(), ReplaceConfiguredSourceLists);
-        var check = Section<CheckLimits>(configuration, nameof(Check), schema, errors, o => o.Validate());
-        var alerts = Section<AlertOptions>(configuration, nameof(Alerts), schema, errors, o => o.Validate());
+        var analysis = Section<AnalysisOptions>(configuration, nameof(Analysis), schema, errors, o => o.Validate(nameof(Analysis)), ReplaceConfiguredSourceLists);
+        var check = Section<CheckLimits>(configuration, nameof(Check), schema, errors, o => o.Validate(nameof(Check)));
+        var alerts = Section<AlertOptions>(configuration, nameof(Alerts), schema, errors, o => o.Validate(nameof(Alerts)));
         var monitor = Section<MonitorOptions>(configuration, nameof(Monitor), schema, errors, o => o.Validate());
         var publish = Section<PublishOptions>(configuration, nameof(Publish), schema, errors, o => o.Validate());
         var store = Section<StoreOptions>(configuration, nameof(Store), schema, errors, o => o.Validate());

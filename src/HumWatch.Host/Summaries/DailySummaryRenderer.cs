@@ -16,6 +16,9 @@ internal sealed record RenderedStream(string Stream, DaySummary Summary, byte[] 
 /// </summary>
 internal sealed class DailySummaryRenderer
 {
+    /// <summary>Where the day rules are bound from; verdict reasons name their limits under it.</summary>
+    private const string DayRulesKey = SummaryOutputOptions.SectionName + ":Day";
+
     private readonly SummaryStore _store;
     private readonly SummaryOutputOptions _options;
     private readonly string _siteName;
@@ -54,7 +57,7 @@ internal sealed class DailySummaryRenderer
         var (from, to) = LocalDay.RangeUtc(day, _zone);
         alerts ??= _store.AlertsByStream(from, to).GetValueOrDefault(stream) ?? [];
         var spectrum = _store.DaySpectrum(stream, from, to);
-        var summary = DaySummarizer.Summarize(stream, day, _zone, _store.LedgerMinutes(stream, from, to), alerts, spectrum, _options.Day);
+        var summary = DaySummarizer.Summarize(stream, day, _zone, _store.LedgerMinutes(stream, from, to), alerts, spectrum, _options.Day, DayRulesKey);
         return (summary, spectrum);
     }
 
