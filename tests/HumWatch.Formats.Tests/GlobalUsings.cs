@@ -1,1 +1,2 @@
+global using HumWatch.TestSupport;
 global using Xunit;

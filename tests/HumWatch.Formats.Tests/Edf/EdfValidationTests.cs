@@ -209,8 +209,8 @@ public sealed class RecordingReaderBoundaryTests : IDisposable
     [Fact]
     public void A_folder_is_not_a_recording()
     {
-        var ex = Assert.Throws<RecordingFormatException>(() => RecordingReader.Open(_folder.FullPath));
-        Assert.Equal(_folder.FullPath + ": is a folder, not a recording file", ex.Message);
+        var ex = Assert.Throws<RecordingFormatException>(() => RecordingReader.Open(_folder.Path));
+        Assert.Equal(_folder.Path + ": is a folder, not a recording file", ex.Message);
     }
 
     [Theory]

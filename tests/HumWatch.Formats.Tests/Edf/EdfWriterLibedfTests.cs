@@ -51,7 +51,7 @@ public sealed class EdfWriterLibedfTests(LibedfDumper dumper) : IClassFixture<Li
             }
         }
 
-        LibedfDumper.Run(executable, path, folder.FullPath);
+        LibedfDumper.Run(executable, path, folder.Path);
         var dump = LibedfDump.Load(path + ".libedf.txt"); // libedf 1.23 edfopen_file_readonly / edfread_physical_samples
         Assert.Equal(new DateTime(2024, 5, 6, 7, 8, 9), dump.Start);
         Assert.Equal(3, dump.DataRecords);
@@ -102,7 +102,7 @@ public sealed class LibedfDumper : IDisposable
         if (WhyUnavailable is null)
         {
             var exe = _folder.File("libedf_dump");
-            Run("/usr/bin/gcc", $"-O2 -o {exe} {Fixtures.Edf("libedf_dump.c")} -ledf -lm", _folder.FullPath);
+            Run("/usr/bin/gcc", $"-O2 -o {exe} {Fixtures.Edf("libedf_dump.c")} -ledf -lm", _folder.Path);
             Executable = exe;
         }
     }

@@ -26,7 +26,7 @@ public sealed class InboxServiceTests : IDisposable
     // ServiceEndToEndTests.WriteRecording stamps files 2026-05-04 11:00 local; the site's zone here is UTC.
     private static readonly DateTimeOffset RecordingStartUtc = new(2026, 5, 4, 11, 0, 0, TimeSpan.Zero);
 
-    private readonly TempDirectory _temp = new();
+    private readonly TempFolder _temp = new();
 
     public void Dispose() => _temp.Dispose();
 

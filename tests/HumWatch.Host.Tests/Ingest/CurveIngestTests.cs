@@ -51,26 +51,6 @@ public sealed class CurveIngestTests
     }
 
     [Fact]
-    public void Key_file_round_trips_and_keeps_the_secret_owner_only()
-    {
-        using var temp = new TempFolder();
-        var pairFile = Path.Combine(temp.Path, "pair.key");
-        var publicFile = Path.Combine(temp.Path, "public.key");
-
-        var created = CurveKeyFile.Create(pairFile);
-        CurveKeyFile.Write(publicFile, created, includeSecretKey: false);
-        var read = CurveKeyFile.ReadKeyPair(pairFile);
-
-        Assert.Equal(created.PublicKeyZ85, read.PublicKeyZ85);
-        Assert.Equal(created.SecretKeyZ85, read.SecretKeyZ85);
-        Assert.Equal(created.PublicKeyZ85, CurveKeyFile.ReadPublicKey(publicFile));
-        Assert.Equal(40, created.PublicKeyZ85.Length); // ZeroMQ RFC 32/Z85: 32 bytes encode as 40 characters
-        Assert.False(CurveKeyFile.IsReadableByOthers(pairFile));
-        var ex = Assert.Throws<InvalidDataException>(() => CurveKeyFile.ReadKeyPair(publicFile));
-        Assert.Contains(publicFile, ex.Message, StringComparison.Ordinal);
-    }
-
-    [Fact]
     public async Task Missing_key_file_stops_startup_naming_the_key()
     {
         using var temp = new TempFolder();

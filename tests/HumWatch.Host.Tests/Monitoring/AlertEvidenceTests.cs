@@ -45,7 +45,7 @@ public sealed class AlertEvidenceTests
         Assert.Contains(evidence.GetProperty("gridLock").GetString(), new[] { "channels-differ", "independent" });
 
         // The store keeps it beside the alert.
-        using var temp = new HumWatch.Host.Tests.Ingest.Support.TempFolder();
+        using var temp = new TempFolder();
         using (var store = new HumWatch.Host.Store.HumWatchStore(new HumWatch.Host.Store.StoreOptions { Path = Path.Combine(temp.Path, "store.db") }, harness.Time))
         {
             store.Alerts.AppendAlert(display);

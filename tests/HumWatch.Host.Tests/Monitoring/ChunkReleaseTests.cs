@@ -78,7 +78,7 @@ public sealed class ChunkReleaseTests
     {
         var pool = new CountingSamplePool();
         var counters = new IngestCounters();
-        var queue = new IngestQueue(2, counters, new CollectingLogger<IngestQueue>(), new FakeTimeProvider(), TimeSpan.FromSeconds(10));
+        var queue = new IngestQueue(2, counters, new RecordingLogger<IngestQueue>(), new FakeTimeProvider(), TimeSpan.FromSeconds(10));
 
         var queued = Enumerable.Range(0, 5).Select(k => queue.TryEnqueue(pool.Chunk("busy", Layout, k * 125L))).ToList();
 

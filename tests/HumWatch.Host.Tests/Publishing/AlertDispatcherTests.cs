@@ -11,7 +11,7 @@ namespace HumWatch.Host.Tests.Publishing;
 
 public sealed class AlertDispatcherTests : IDisposable
 {
-    private readonly TempDirectory _temp = new();
+    private readonly TempFolder _temp = new();
     private readonly List<string> _steps = [];
 
     public void Dispose() => _temp.Dispose();
@@ -32,18 +32,6 @@ public sealed class AlertDispatcherTests : IDisposable
 
             Stored.Add(alertEvent);
             return Stored.Count;
-        }
-    }
-
-    private sealed class RecordingPublisher(List<string> steps) : IMessagePublisher
-    {
-        public List<string> Topics { get; } = [];
-
-        public bool TryPublish(string kind, string streamId, byte[] body)
-        {
-            steps.Add("publish");
-            Topics.Add(Messages.Topic(kind, streamId));
-            return true;
         }
     }
 

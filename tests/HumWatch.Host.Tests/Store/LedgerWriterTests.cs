@@ -8,7 +8,7 @@ namespace HumWatch.Host.Tests.Store;
 
 public sealed class LedgerWriterTests : IDisposable
 {
-    private readonly TempDirectory _temp = new();
+    private readonly TempFolder _temp = new();
 
     public void Dispose() => _temp.Dispose();
 

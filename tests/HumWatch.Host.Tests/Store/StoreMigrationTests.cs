@@ -11,7 +11,7 @@ namespace HumWatch.Host.Tests.Store;
 /// <summary>Files of earlier schema versions open, migrate in place and read back; one connection serves every table.</summary>
 public sealed class StoreMigrationTests : IDisposable
 {
-    private readonly TempDirectory _temp = new();
+    private readonly TempFolder _temp = new();
     private readonly FakeTimeProvider _time = new(new DateTimeOffset(2026, 3, 2, 12, 0, 0, TimeSpan.Zero));
 
     public void Dispose() => _temp.Dispose();

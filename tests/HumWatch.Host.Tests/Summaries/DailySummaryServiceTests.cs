@@ -47,7 +47,7 @@ public sealed class DailySummaryServiceTests
         var file = Path.Combine(h.Options.Folder, dayText, "room-a.json");
         Assert.Equal(written.Json, File.ReadAllBytes(file));
         Assert.True(File.Exists(Path.Combine(h.Options.Folder, dayText, "day.md")));
-        var message = Assert.Single(h.Publisher.Messages);
+        var message = Assert.Single(h.Publisher.Published);
         Assert.Equal(("summary", "room-a"), (message.Kind, message.Stream));
         Assert.Equal(written.Json, message.Body);
 
@@ -55,7 +55,7 @@ public sealed class DailySummaryServiceTests
         Assert.True(service.NextRenderUtc(h.Time.GetUtcNow()) > next.AddHours(22));
         h.Time.Advance(TimeSpan.FromHours(1));
         Assert.Empty(service.RenderDueDays());
-        Assert.Single(h.Publisher.Messages);
+        Assert.Single(h.Publisher.Published);
     }
 
     [Fact]
@@ -70,12 +70,12 @@ public sealed class DailySummaryServiceTests
 
         var written = h.Service().RenderDueDays();
         Assert.Equal(["2026-03-28/room-a", "2026-03-29/room-b"], written.Select(w => $"{w.Summary.Day}/{w.Stream}"));
-        Assert.Equal(2, h.Publisher.Messages.Count);
+        Assert.Equal(2, h.Publisher.Published.Count);
 
         // A restart (store reopened, new service) writes nothing again.
         h.Reopen();
         Assert.Empty(h.Service().RenderDueDays());
-        Assert.Equal(2, h.Publisher.Messages.Count);
+        Assert.Equal(2, h.Publisher.Published.Count);
     }
 
     [Fact]
@@ -90,13 +90,13 @@ public sealed class DailySummaryServiceTests
         try
         {
             // The loop renders, then waits on the fake clock; advance until the message arrives (bounded, no timing assertion).
-            for (var i = 0; i < 200 && h.Publisher.Messages.Count == 0; i++)
+            for (var i = 0; i < 200 && h.Publisher.Published.Count == 0; i++)
             {
                 h.Time.Advance(TimeSpan.FromMinutes(5));
                 await Task.Delay(10);
             }
 
-            var message = Assert.Single(h.Publisher.Messages);
+            var message = Assert.Single(h.Publisher.Published);
             using var json = JsonDocument.Parse(message.Body);
             Assert.Equal(25, json.RootElement.GetProperty("hoursInDay").GetInt32()); // IANA: 2026-11-01 is 25 h in New York
             Assert.Equal(1, json.RootElement.GetProperty("v").GetInt32());

@@ -2,7 +2,6 @@ using HumWatch.Core.Findings;
 using HumWatch.Core.Ledger;
 using HumWatch.Core.Summaries;
 using HumWatch.Host.Configuration;
-using HumWatch.Host.Publishing;
 using HumWatch.Host.Store;
 using HumWatch.Host.Summaries;
 using Microsoft.Extensions.Logging.Abstractions;
@@ -14,17 +13,17 @@ namespace HumWatch.Host.Tests.Summaries;
 /// <summary>A temp store, output folder and fake clock for summary tests.</summary>
 internal sealed class SummaryHarness : IDisposable
 {
+    private readonly TempFolder _folder = new();
+
     public SummaryHarness(string zoneId, DateTimeOffset startUtc)
     {
-        Root = Path.Combine(Path.GetTempPath(), "humwatch-summaries-" + Guid.NewGuid().ToString("N"));
-        Directory.CreateDirectory(Root);
         Time = new FakeTimeProvider(startUtc);
         Zone = TimeZoneInfo.FindSystemTimeZoneById(zoneId);
         Options = new SummaryOutputOptions { Folder = Path.Combine(Root, "summaries"), PlotWidthPx = 640, PlotHeightPx = 320, SettleSeconds = 120 };
         Open();
     }
 
-    public string Root { get; }
+    public string Root => _folder.Path;
 
     public FakeTimeProvider Time { get; }
 
@@ -96,40 +95,6 @@ internal sealed class SummaryHarness : IDisposable
     public void Dispose()
     {
         Store.Dispose();
-        try
-        {
-            Directory.Delete(Root, recursive: true);
-        }
-        catch (IOException)
-        {
-            // Best effort: a leftover temp folder must not fail a test.
-        }
-    }
-}
-
-/// <summary>Records published messages.</summary>
-internal sealed class RecordingPublisher : IMessagePublisher
-{
-    private readonly List<(string Kind, string Stream, byte[] Body)> _messages = [];
-
-    public IReadOnlyList<(string Kind, string Stream, byte[] Body)> Messages
-    {
-        get
-        {
-            lock (_messages)
-            {
-                return [.. _messages];
-            }
-        }
-    }
-
-    public bool TryPublish(string kind, string streamId, byte[] body)
-    {
-        lock (_messages)
-        {
-            _messages.Add((kind, streamId, body));
-        }
-
-        return true;
+        _folder.Dispose();
     }
 }

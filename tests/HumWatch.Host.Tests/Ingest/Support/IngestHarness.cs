@@ -18,8 +18,8 @@ internal sealed class IngestHarness : IAsyncDisposable
         Options = options;
         Time = new FakeTimeProvider(new DateTimeOffset(2025, 3, 1, 8, 0, 0, TimeSpan.Zero));
         Counters = new IngestCounters();
-        QueueLogger = new CollectingLogger<IngestQueue>();
-        ServiceLogger = new CollectingLogger<SocketIngestService>();
+        QueueLogger = new RecordingLogger<IngestQueue>();
+        ServiceLogger = new RecordingLogger<SocketIngestService>();
         Queue = new IngestQueue(options.QueueCapacity, Counters, QueueLogger, Time, options.WarningInterval);
         Pool = new SampleBufferPool(options.BufferBytes, poisonReturned: true);
         Service = new SocketIngestService(Microsoft.Extensions.Options.Options.Create(options), Queue, Counters, Pool, ServiceLogger, Time);
@@ -36,9 +36,9 @@ internal sealed class IngestHarness : IAsyncDisposable
     /// <summary>The pool decoded chunks rent from; returned arrays are poisoned with NaN.</summary>
     public SampleBufferPool Pool { get; }
 
-    public CollectingLogger<IngestQueue> QueueLogger { get; }
+    public RecordingLogger<IngestQueue> QueueLogger { get; }
 
-    public CollectingLogger<SocketIngestService> ServiceLogger { get; }
+    public RecordingLogger<SocketIngestService> ServiceLogger { get; }
 
     public SocketIngestService Service { get; }
 

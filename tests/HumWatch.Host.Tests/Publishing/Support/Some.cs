@@ -2,51 +2,8 @@ using HumWatch.Core.Alerts;
 using HumWatch.Core.Attribution;
 using HumWatch.Core.Findings;
 using HumWatch.Core.Ledger;
-using Microsoft.Extensions.Logging;
 
 namespace HumWatch.Host.Tests.Publishing.Support;
-
-/// <summary>A temp folder removed with everything in it.</summary>
-internal sealed class TempDirectory : IDisposable
-{
-    public TempDirectory()
-    {
-        Path = System.IO.Path.Combine(System.IO.Path.GetTempPath(), "humwatch-tests-" + Guid.NewGuid().ToString("N"));
-        Directory.CreateDirectory(Path);
-    }
-
-    public string Path { get; }
-
-    public string File(string name) => System.IO.Path.Combine(Path, name);
-
-    public void Dispose()
-    {
-        if (Directory.Exists(Path))
-        {
-            Directory.Delete(Path, recursive: true);
-        }
-    }
-}
-
-/// <summary>Keeps every log entry; optionally records each call into a shared step list.</summary>
-internal sealed class RecordingLogger<T>(List<string>? steps = null) : ILogger<T>
-{
-    public List<(LogLevel Level, EventId EventId, string Message, Exception? Exception)> Entries { get; } = [];
-
-    public IDisposable? BeginScope<TState>(TState state)
-        where TState : notnull => null;
-
-    public bool IsEnabled(LogLevel logLevel) => true;
-
-    public void Log<TState>(LogLevel logLevel, EventId eventId, TState state, Exception? exception, Func<TState, Exception?, string> formatter)
-    {
-        lock (Entries)
-        {
-            Entries.Add((logLevel, eventId, formatter(state, exception), exception));
-            steps?.Add("log");
-        }
-    }
-}
 
 /// <summary>Test data.</summary>
 internal static class Some

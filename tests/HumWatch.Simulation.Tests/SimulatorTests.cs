@@ -1,8 +1,7 @@
-using HumWatch.Core.Tests.Lines;
-using HumWatch.Simulation;
+using HumWatch.Core.Spectra;
 using Xunit;
 
-namespace HumWatch.Core.Tests.Scenarios;
+namespace HumWatch.Simulation.Tests;
 
 public sealed class SimulatorTests
 {
@@ -46,7 +45,7 @@ public sealed class SimulatorTests
         };
         var x = new RoomSimulator(room, 2).Next(2000).Channel(0).ToArray().Select(v => (double)v).ToArray();
 
-        var psd = SpectrumBuilder.Welch(x, 250, 1000);
+        var psd = Welch(x, 250, 1000);
         var strongest = Array.IndexOf(psd, psd.Max()) * 0.25;
 
         Assert.Equal(100, strongest, 3); // folding (computed, f_a = |f − k·fs|): fs = 250, 150 Hz → 100 Hz
@@ -72,7 +71,7 @@ public sealed class SimulatorTests
     [Fact]
     public void Same_seed_gives_the_same_samples_whatever_the_chunk_sizes()
     {
-        var room = ScenarioRunner.Room(256, 4, new SimulatedTone { FrequencyHz = 60, AmplitudeUvRms = 2, WanderHz = 0.05 });
+        var room = new SimulatedRoom { SampleRateHz = 256, Channels = SimulatedRoom.Montage(4), Tones = [new SimulatedTone { FrequencyHz = 60, AmplitudeUvRms = 2, WanderHz = 0.05 }] };
         var whole = new RoomSimulator(room, 11).Next(2560);
         var pieces = new RoomSimulator(room, 11);
         var a = pieces.Next(1000);
@@ -186,7 +185,15 @@ public sealed class SimulatorTests
             x[i] = samples[i];
         }
 
-        return SpectrumBuilder.Welch(x, 500, 2000);
+        return Welch(x, 500, 2000);
+    }
+
+    /// <summary>Welch PSD with 50 % overlap by Core's one-shot WelchPsd, which Core.Tests hold equal to scipy.signal.welch.</summary>
+    private static double[] Welch(double[] x, double sampleRateHz, int segmentLength)
+    {
+        var psd = new double[(segmentLength / 2) + 1];
+        WelchPsd.Compute(x, sampleRateHz, segmentLength, segmentLength / 2, psd);
+        return psd;
     }
 
     private static double Band(double[] psd, double centreHz)
