@@ -39,12 +39,13 @@ public static class SummaryOnDemand
     /// <param name="day">Local date.</param>
     /// <param name="stream">Only this stream; null for all.</param>
     /// <param name="folder">Output root; null for <see cref="SummariesOptions.Folder"/>.</param>
+    /// <param name="siteGridHz">The grid the settings name (Analysis:Sources:MainsHz); null when left to the data.</param>
     /// <exception cref="InvalidOperationException">The store cannot be opened.</exception>
-    public static IReadOnlyList<DaySummary> Render(StoreOptions storeOptions, SummariesOptions options, string siteName, TimeZoneInfo zone, DateOnly day, string? stream, string? folder)
+    public static IReadOnlyList<DaySummary> Render(StoreOptions storeOptions, SummariesOptions options, string siteName, TimeZoneInfo zone, DateOnly day, string? stream, string? folder, double? siteGridHz = null)
     {
         using var store = new HumWatchStore(storeOptions, TimeProvider.System);
         using var summaries = new SummaryStore(store, TimeProvider.System);
-        var renderer = new DailySummaryRenderer(summaries, options, siteName, zone);
+        var renderer = new DailySummaryRenderer(summaries, options, siteName, zone, siteGridHz);
         var rendered = renderer.RenderDay(day, stream, folder, force: true);
         var result = new DaySummary[rendered.Count];
         for (var i = 0; i < result.Length; i++)
