@@ -14,7 +14,7 @@ public sealed class MessagePrinterTests
         var line = MessagePrinter.Format("alert/room-1", Encoding.UTF8.GetBytes(body), includeStatus: false);
 
         Assert.NotNull(line);
-        Assert.Contains("room-1: 150.02 Hz mains ×3, folded minor — raised, 2.7 µV RMS, 25% of channels (strongest: O1, O2)", line, StringComparison.Ordinal);
+        Assert.Contains("room-1: 150.02 Hz mains h3, aliased minor — raised, 2.7 µV RMS, 25% of channels (strongest: O1, O2)", line, StringComparison.Ordinal);
         Assert.Contains("hint: Check O1.", line, StringComparison.Ordinal);
     }
 

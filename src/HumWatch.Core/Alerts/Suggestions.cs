@@ -6,7 +6,10 @@ namespace HumWatch.Core.Alerts;
 
 /// <summary>
 /// One short line per finding telling the technician where to look first. Wording is practical advice, never a
-/// diagnosis; anything involving mains wiring is left to qualified staff.
+/// diagnosis; anything involving mains wiring is left to qualified staff. Every action named is one a technician may
+/// take at the recording setup (move, re-route, re-prepare, check); none asks to open equipment or touch its
+/// protective earth, and "ground" always means the scalp ground (GND) electrode, never the building's earth. The
+/// caution that goes with every hint is <see cref="Reporting.SafetyNotice.Text"/>.
 /// </summary>
 public static class Suggestions
 {
@@ -30,7 +33,7 @@ public static class Suggestions
             case SourceKind.Display:
                 return string.Create(
                     CultureInfo.InvariantCulture,
-                    $"Looks like a {source.FundamentalHz:0.##} Hz display: check that monitor's cable, its distance from the subject and leads, and its shielding.");
+                    $"Looks like a {source.FundamentalHz:0.##} Hz display: move that monitor and its cable farther from the subject and leads, or use a shielded cable.");
             case SourceKind.Unidentified:
                 return "No known source: look for equipment that was switched on or moved when this line appeared.";
             case SourceKind.SiteTone:
@@ -42,7 +45,7 @@ public static class Suggestions
         // Mains: a line on most channels enters through the common path; on a few, through those electrodes.
         if (channelShare >= WidespreadShare || worstChannels.Count == 0)
         {
-            return "On most channels: check the ground and reference electrodes and mains-powered equipment near the subject; leave any wiring work to qualified staff.";
+            return "On most channels: check the scalp ground (GND) and reference electrodes and mains-powered equipment near the subject; leave any wiring work to qualified staff.";
         }
 
         return $"On a few channels ({string.Join(", ", worstChannels)}): check those electrodes' contact and impedance.";

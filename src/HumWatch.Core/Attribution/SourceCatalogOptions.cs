@@ -20,7 +20,7 @@ public sealed class SourceCatalogOptions
     /// How far the grid may wander from nominal, percent. The default is 1 %: EN 50160's ±1 % band for
     /// synchronously connected 50 Hz systems (99.5 % of a year). For 60 Hz grids the same ±1 % (±0.6 Hz)
     /// is a generous superset of NERC's frequency trigger limits (Eastern 59.950/60.050 Hz, Western
-    /// 59.856/60.144 Hz). A harmonic's window widens in proportion to its order.
+    /// 59.856/60.144 Hz; from memory, no document cited). A harmonic's window widens in proportion to its order.
     /// </summary>
     public double MainsTolerancePercent { get; set; } = 1;
 

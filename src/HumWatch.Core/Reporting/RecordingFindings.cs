@@ -6,7 +6,7 @@ namespace HumWatch.Core.Reporting;
 /// <summary>One episode of one line over a recording (or one rate group of it).</summary>
 /// <param name="FrequencyHz">Median of the frames' frequencies.</param>
 /// <param name="Source">Most likely explanation (identical over the episode).</param>
-/// <param name="AlsoPossible">Other explanations seen for this line, e.g. "display 75 Hz ×2".</param>
+/// <param name="AlsoPossible">Other explanations seen for this line, e.g. "display 75 Hz h2".</param>
 /// <param name="AmplitudeUvRms">Median over the frames that show the line of the frame's median channel amplitude.</param>
 /// <param name="MaxAmplitudeUvRms">Largest channel amplitude seen.</param>
 /// <param name="ProminenceDb">Largest prominence over the local floor.</param>
@@ -39,7 +39,7 @@ public sealed record LineFinding(
     /// <summary>What decided the explanation (the tracker's evidence in the episode's last frame).</summary>
     public Tracking.LineEvidence Evidence { get; init; } = Tracking.LineEvidence.None;
 
-    /// <summary>Short human name of the explanation, e.g. "mains ×3" or "display 75 Hz ×2 (aliased)".</summary>
+    /// <summary>Short human name of the explanation, e.g. "mains h3" or "display 75 Hz h2 (aliased)": the harmonic spelled as in keys and labels, the fundamental without.</summary>
     public string SourceLabel => Describe(Source);
 
     public static string Describe(SourceMatch match)
@@ -49,7 +49,7 @@ public sealed record LineFinding(
             return "unidentified";
         }
 
-        var harmonic = match.Harmonic == 1 ? "" : $" ×{match.Harmonic}";
+        var harmonic = match.Harmonic == 1 ? "" : $" h{match.Harmonic}";
         var aliased = match.Aliased ? " (aliased)" : "";
         return $"{match.Name}{harmonic}{aliased}";
     }

@@ -35,6 +35,9 @@ internal sealed record AlertMessage(
 
     /// <summary>What decided the explanation (raises of lines only), as in `check` reports.</summary>
     public Checking.CheckEvidence? Evidence { get; init; }
+
+    /// <summary>The caution that goes with the suggestion, the text `check` reports carry; null when there is no suggestion.</summary>
+    public string? Caution { get; init; }
 }
 
 /// <summary>Body of "clear/&lt;stream&gt;" messages.</summary>
@@ -141,6 +144,7 @@ internal static class Messages
                     {
                         AlsoPossible = r.Category == AlertCategory.Line ? [.. r.AlsoPossible.Select(Core.Reporting.LineFinding.Describe)] : null,
                         Evidence = r.Category == AlertCategory.Line ? Checking.CheckEvidence.From(r) : null,
+                        Caution = r.Suggestion is null ? null : Core.Reporting.SafetyNotice.Text,
                     },
                     MessageJsonContext.Output.AlertMessage));
             case AlertSeverityChanged s:

@@ -23,12 +23,14 @@ internal sealed class DailySummaryRenderer
     private readonly SummaryOutputOptions _options;
     private readonly string _siteName;
     private readonly TimeZoneInfo _zone;
+    private readonly double? _siteGridHz;
 
     /// <param name="store">Summary view of the store.</param>
     /// <param name="options">Validated options.</param>
     /// <param name="siteName">Shown on the day page.</param>
     /// <param name="zone">Site time zone.</param>
-    public DailySummaryRenderer(SummaryStore store, SummaryOutputOptions options, string siteName, TimeZoneInfo zone)
+    /// <param name="siteGridHz">The grid the settings name (Analysis:Sources:MainsHz); null when left to the data. Places the mains plot on a day without a fundamental.</param>
+    public DailySummaryRenderer(SummaryStore store, SummaryOutputOptions options, string siteName, TimeZoneInfo zone, double? siteGridHz = null)
     {
         ArgumentNullException.ThrowIfNull(store);
         ArgumentNullException.ThrowIfNull(options);
@@ -43,6 +45,7 @@ internal sealed class DailySummaryRenderer
         _options = options;
         _siteName = siteName;
         _zone = zone;
+        _siteGridHz = siteGridHz;
     }
 
     /// <summary>Site time zone.</summary>
@@ -54,11 +57,38 @@ internal sealed class DailySummaryRenderer
     /// <summary>Builds a stream's summary for a day from the store, without writing anything.</summary>
     public (DaySummary Summary, DaySpectrum? Spectrum) Build(DateOnly day, string stream, IReadOnlyList<AlertRecord>? alerts = null)
     {
+        var (summary, spectrum, _) = BuildWithMonitored(day, stream, alerts);
+        return (summary, spectrum);
+    }
+
+    /// <summary>As <see cref="Build"/>, plus the first and last minute of the day with analysed data (the mains plot's range).</summary>
+    private (DaySummary Summary, DaySpectrum? Spectrum, (int First, int Last)? Monitored) BuildWithMonitored(DateOnly day, string stream, IReadOnlyList<AlertRecord>? alerts)
+    {
         var (from, to) = LocalDay.RangeUtc(day, _zone);
         alerts ??= _store.AlertsByStream(from, to).GetValueOrDefault(stream) ?? [];
         var spectrum = _store.DaySpectrum(stream, from, to);
-        var summary = DaySummarizer.Summarize(stream, day, _zone, _store.LedgerMinutes(stream, from, to), alerts, spectrum, _options.Day, DayRulesKey);
-        return (summary, spectrum);
+        var minutes = _store.LedgerMinutes(stream, from, to);
+        var summary = DaySummarizer.Summarize(stream, day, _zone, minutes, alerts, spectrum, _options.Day, DayRulesKey);
+        return (summary, spectrum, MonitoredRange(minutes, from, to));
+    }
+
+    private static (int First, int Last)? MonitoredRange(IReadOnlyList<LedgerMinute> minutes, DateTimeOffset fromUtc, DateTimeOffset toUtc)
+    {
+        int? first = null;
+        int? last = null;
+        foreach (var row in minutes)
+        {
+            if (row.SourceKey != Core.Findings.FindingKey.All || !(row.MonitoredSeconds > 0) || row.MinuteUtc < fromUtc || row.MinuteUtc >= toUtc)
+            {
+                continue;
+            }
+
+            var index = (int)((row.MinuteUtc - fromUtc).Ticks / TimeSpan.TicksPerMinute);
+            first = first is { } f ? Math.Min(f, index) : index;
+            last = last is { } l ? Math.Max(l, index) : index;
+        }
+
+        return first is { } a && last is { } b ? (a, b) : null;
     }
 
     /// <summary>Serialises a summary as written to its file.</summary>
@@ -85,9 +115,9 @@ internal sealed class DailySummaryRenderer
         var anyWritten = false;
         foreach (var stream in streams)
         {
-            var (summary, spectrum) = Build(day, stream, alerts.GetValueOrDefault(stream) ?? []);
+            var (summary, spectrum, monitored) = BuildWithMonitored(day, stream, alerts.GetValueOrDefault(stream) ?? []);
             summaries.Add(summary);
-            var plotData = SummaryPlots.DataFor(summary, spectrum, _options.PlotWidthPx, _options.PlotHeightPx);
+            var plotData = SummaryPlots.DataFor(summary, spectrum, _options.PlotWidthPx, _options.PlotHeightPx, _siteGridHz, monitored);
             plots[stream] = plotData;
             var json = ToJson(summary);
             var selected = onlyStream is null || string.Equals(stream, onlyStream, StringComparison.Ordinal);

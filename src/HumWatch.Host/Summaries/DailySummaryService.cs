@@ -29,7 +29,8 @@ internal sealed class DailySummaryService : BackgroundService
         IOptions<SummaryOutputOptions> options,
         IOptions<SiteOptions> site,
         ILogger<DailySummaryService> logger,
-        TimeProvider timeProvider)
+        TimeProvider timeProvider,
+        Core.Analysis.AnalysisOptions? analysis = null)
     {
         ArgumentNullException.ThrowIfNull(store);
         ArgumentNullException.ThrowIfNull(publisher);
@@ -44,7 +45,7 @@ internal sealed class DailySummaryService : BackgroundService
         _logger = logger;
         _timeProvider = timeProvider;
         _settle = TimeSpan.FromSeconds(_options.SettleSeconds);
-        _renderer = new DailySummaryRenderer(store, _options, site.Value.Name, _zone);
+        _renderer = new DailySummaryRenderer(store, _options, site.Value.Name, _zone, analysis?.Sources.MainsHz);
     }
 
     /// <summary>When the next render is due: the end of the current local day (23, 24 or 25 h long) plus the settle time.</summary>

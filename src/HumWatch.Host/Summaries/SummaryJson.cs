@@ -25,8 +25,18 @@ internal sealed record LineMark(FindingKey Key, string Label, double FrequencyHz
 /// <summary>Timeline plot: one row per source, one column per local hour, cell = affected minutes.</summary>
 internal sealed record TimelinePlot(string File, IReadOnlyList<string> HourStartsLocal, IReadOnlyList<TimelineRow> Rows);
 
-/// <summary>Mains plot: one value per minute from local midnight.</summary>
-internal sealed record MainsPlot(string File, DateTimeOffset StartUtc, int StepSeconds, double? MeanHz, double? MinHz, double? MaxHz, IReadOnlyList<double?> Hz);
+/// <summary>Mains plot: one value per <paramref name="StepSeconds"/> from local midnight.</summary>
+internal sealed record MainsPlot(string File, DateTimeOffset StartUtc, int StepSeconds, double? MeanHz, double? MinHz, double? MaxHz, IReadOnlyList<double?> Hz)
+{
+    /// <summary>The grid the axis is centred on when no fundamental was seen: the day's measured grid, else the configured one; null when neither.</summary>
+    public double? GridHz { get; init; }
+
+    /// <summary>First hour shown (hours since local midnight): the first monitored hour.</summary>
+    public int FromHour { get; init; }
+
+    /// <summary>End of the hours shown (exclusive): the end of the last monitored hour.</summary>
+    public int ToHour { get; init; } = 24;
+}
 
 /// <summary>Message body of "summary/&lt;stream&gt;": the stream's summary as written to its JSON file. Keys, kinds, severities and verdicts are written as their text forms.</summary>
 [JsonSourceGenerationOptions(

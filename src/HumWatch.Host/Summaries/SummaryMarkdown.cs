@@ -25,14 +25,14 @@ internal static class SummaryMarkdown
         sb.Append(c, $"{summaries.Count} room(s): {fails} fail, {warns} warn, {summaries.Count(s => s.Verdict == DayVerdict.Pass)} pass, {summaries.Count(s => s.Verdict == DayVerdict.NoData)} without data.").AppendLine().AppendLine();
         sb.AppendLine(DayLimitsLine(summaries[0])).AppendLine();
 
-        sb.AppendLine("| Room | Verdict | Monitored h | Affected min | Longest run | Max µV RMS | Mains Hz (min–max) | Alerts raised / cleared |");
+        sb.AppendLine("| Room | Verdict | Monitored | Affected min | Longest run | Max µV RMS | Mains Hz (min–max) | Alerts raised / cleared |");
         sb.AppendLine("|---|---|---:|---:|---|---:|---|---:|");
         foreach (var s in summaries)
         {
             var longest = s.LongestEpisode is { } e ? $"{ClockRange(e.StartLocal, e.EndLocal)} ({e.SpanMinutes:0} min)" : "–";
             var grid = s.Mains.NominalHz is { } nominal ? string.Create(c, $"{nominal:0} Hz grid: ") : "";
             var mains = s.Mains.MeanHz is { } mean ? string.Create(c, $"{grid}{mean:0.000} ({s.Mains.MinHz:0.000}–{s.Mains.MaxHz:0.000})") : "–";
-            sb.Append(c, $"| {Cell(s.Stream)} | **{s.Verdict.ToText()}** | {s.HoursMonitored:0.0} | {s.AffectedMinutes:0.#} | {longest} | {Num(s.MaxAmplitudeUvRms)} | {mains} | {s.Alerts.Raised} / {s.Alerts.Cleared} |").AppendLine();
+            sb.Append(c, $"| {Cell(s.Stream)} | **{s.Verdict.ToText()}** | {SummaryPlots.DurationText(s.HoursMonitored * 3600)} | {s.AffectedMinutes:0.#} | {longest} | {Num(s.MaxAmplitudeUvRms)} | {mains} | {s.Alerts.Raised} / {s.Alerts.Cleared} |").AppendLine();
         }
 
         foreach (var s in summaries)
@@ -48,7 +48,7 @@ internal static class SummaryMarkdown
                 sb.AppendLine();
             }
 
-            sb.Append(c, $"Monitored {s.HoursMonitored:0.0} of {s.HoursInDay} h; any line present {s.AffectedMinutes:0.#} min; median of the strongest line {Num(s.MedianAmplitudeUvRms)} µV RMS.");
+            sb.Append(c, $"Monitored {SummaryPlots.DurationText(s.HoursMonitored * 3600)} of {s.HoursInDay} h; any line present {s.AffectedMinutes:0.#} min; median of the strongest line {Num(s.MedianAmplitudeUvRms)} µV RMS.");
             if (s.WorstChannels.Count > 0)
             {
                 sb.Append(" Worst channels: ").AppendJoin(", ", s.WorstChannels.Select(w => string.Create(c, $"{w.Channel} ({w.Minutes} min)"))).Append('.');

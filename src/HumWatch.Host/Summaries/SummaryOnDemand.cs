@@ -39,11 +39,12 @@ public static class SummaryOnDemand
     /// <param name="day">Local date.</param>
     /// <param name="stream">Only this stream; null for all.</param>
     /// <param name="folder">Output root; null for <see cref="SummaryOutputOptions.Folder"/>.</param>
+    /// <param name="siteGridHz">The grid the settings name (Analysis:Sources:MainsHz); null when left to the data.</param>
     /// <exception cref="InvalidOperationException">The store cannot be opened.</exception>
-    public static IReadOnlyList<DaySummary> Render(StoreOptions storeOptions, SummaryOutputOptions options, string siteName, TimeZoneInfo zone, DateOnly day, string? stream, string? folder)
+    public static IReadOnlyList<DaySummary> Render(StoreOptions storeOptions, SummaryOutputOptions options, string siteName, TimeZoneInfo zone, DateOnly day, string? stream, string? folder, double? siteGridHz = null)
     {
         using var store = new HumWatchStore(storeOptions, TimeProvider.System);
-        var renderer = new DailySummaryRenderer(new SummaryStore(store), options, siteName, zone);
+        var renderer = new DailySummaryRenderer(new SummaryStore(store), options, siteName, zone, siteGridHz);
         var rendered = renderer.RenderDay(day, stream, folder, force: true);
         var result = new DaySummary[rendered.Count];
         for (var i = 0; i < result.Length; i++)

@@ -7,8 +7,29 @@ namespace HumWatch.Host.Summaries;
 /// <summary>Draws a stream's day with ScottPlot: mean spectrum (log scale, flagged lines marked), hour-by-source timeline, mains frequency.</summary>
 internal static class SummaryPlots
 {
+    /// <summary>The colour key of the timeline runs from none to every minute of an hour.</summary>
+    internal const double TimelineKeyMaxMinutes = 60;
+
+    /// <summary>Label of the timeline's colour key.</summary>
+    internal const string TimelineKeyLabel = "affected minutes in the hour";
+
+    /// <summary>Label of the spectrum's y axis: the quantity in words, then its unit.</summary>
+    internal const string SpectrumYLabel = "power density, µV²/Hz (log scale)";
+
+    /// <summary>Text of the mains plot when the day has no estimate of the fundamental.</summary>
+    internal const string FundamentalNotSeen = "mains fundamental not seen";
+
+    // Colour of the mains track, so that a reader of the SVG (the tests) can tell it from grid lines and bands.
+    private static readonly Color TrackColor = Colors.Navy;
+
     /// <summary>The plot data of a summary; the spectrum is included when stored.</summary>
-    public static PlotData DataFor(DaySummary summary, DaySpectrum? spectrum, int widthPx, int heightPx)
+    /// <param name="summary">The day.</param>
+    /// <param name="spectrum">The day's mean spectrum, when stored.</param>
+    /// <param name="widthPx">PNG width.</param>
+    /// <param name="heightPx">PNG height.</param>
+    /// <param name="siteGridHz">The grid the settings name (Analysis:Sources:MainsHz); null when they leave it to the data.</param>
+    /// <param name="monitoredMinutes">First and last minute of the day (from local midnight) with analysed data; null when none.</param>
+    public static PlotData DataFor(DaySummary summary, DaySpectrum? spectrum, int widthPx, int heightPx, double? siteGridHz = null, (int First, int Last)? monitoredMinutes = null)
     {
         ArgumentNullException.ThrowIfNull(summary);
         SpectrumPlot? spectrumPlot = null;
@@ -33,6 +54,8 @@ internal static class SummaryPlots
             spectrumPlot = new SpectrumPlot(FileName(summary.Stream, "spectrum"), spectrum.BinWidthHz, DaySummarizerRound(spectrum.Seconds), psd, marks);
         }
 
+        var track = summary.Mains;
+        var (fromHour, toHour) = ShownHours(track, summary.Timeline.HourStartsLocal.Count, monitoredMinutes);
         return new PlotData(
             DaySummarizer.Version,
             summary.Stream,
@@ -41,7 +64,13 @@ internal static class SummaryPlots
             heightPx,
             spectrumPlot,
             new TimelinePlot(FileName(summary.Stream, "timeline"), summary.Timeline.HourStartsLocal, summary.Timeline.Rows),
-            new MainsPlot(FileName(summary.Stream, "mains"), summary.DayStartUtc, summary.Mains.StepSeconds, summary.Mains.MeanHz, summary.Mains.MinHz, summary.Mains.MaxHz, summary.Mains.Hz));
+            new MainsPlot(FileName(summary.Stream, "mains"), summary.DayStartUtc, track.StepSeconds, track.MeanHz, track.MinHz, track.MaxHz, track.Hz)
+            {
+                // The grid the day's track belongs to; else the one the settings name.
+                GridHz = track.NominalHz ?? siteGridHz,
+                FromHour = fromHour,
+                ToHour = toHour,
+            });
     }
 
     /// <summary>File name of one plot of a stream: "&lt;stream&gt;.&lt;kind&gt;.png".</summary>
@@ -60,6 +89,62 @@ internal static class SummaryPlots
         Save(DrawMains(data, data.Mains), Path.Combine(folder, data.Mains.File), data);
     }
 
+    /// <summary>One plot as SVG, drawn exactly as its PNG: lets a reader (the tests) find texts and positions.</summary>
+    /// <param name="data">The plot data.</param>
+    /// <param name="kind">"spectrum", "timeline" or "mains".</param>
+    internal static string Svg(PlotData data, string kind)
+    {
+        ArgumentNullException.ThrowIfNull(data);
+        using var plot = kind switch
+        {
+            "spectrum" => DrawSpectrum(data, data.Spectrum ?? throw new ArgumentException("The data holds no spectrum.", nameof(data))),
+            "timeline" => DrawTimeline(data, data.Timeline),
+            "mains" => DrawMains(data, data.Mains),
+            _ => throw new ArgumentOutOfRangeException(nameof(kind), kind, "Plot kind must be spectrum, timeline or mains."),
+        };
+        return plot.GetSvgXml(data.WidthPx, data.HeightPx);
+    }
+
+    /// <summary>"40 s", "25 min" or "1.5 h": minutes under an hour, so that a short day never reads "0 h".</summary>
+    internal static string DurationText(double seconds)
+    {
+        var c = CultureInfo.InvariantCulture;
+        return seconds switch
+        {
+            < 59.5 => string.Create(c, $"{seconds:0} s"),
+            < 3570 => string.Create(c, $"{seconds / 60:0} min"),
+            _ => string.Create(c, $"{seconds / 3600:0.#} h"),
+        };
+    }
+
+    /// <summary>
+    /// A log-axis tick label for 10^<paramref name="exponent"/> µV²/Hz written out ("0.01", "1000"), as a technician reads
+    /// a scale; beyond a millionth or a million, as a power of ten with a superscript ("10⁻⁸"), never "1E-8".
+    /// </summary>
+    internal static string DecadeLabel(double exponent)
+    {
+        var e = (int)Math.Round(exponent);
+        if (e is >= -6 and <= 6)
+        {
+            return Math.Pow(10, e).ToString("0.######", CultureInfo.InvariantCulture);
+        }
+
+        const string Superscripts = "⁰¹²³⁴⁵⁶⁷⁸⁹";
+        var digits = Math.Abs(e).ToString(CultureInfo.InvariantCulture);
+        var text = new System.Text.StringBuilder("10");
+        if (e < 0)
+        {
+            text.Append('⁻');
+        }
+
+        foreach (var d in digits)
+        {
+            text.Append(Superscripts[d - '0']);
+        }
+
+        return text.ToString();
+    }
+
     private static void Save(Plot plot, string path, PlotData data)
     {
         using (plot)
@@ -67,6 +152,41 @@ internal static class SummaryPlots
             var bytes = plot.GetImageBytes(data.WidthPx, data.HeightPx, ImageFormat.Png);
             AtomicFile.Write(path, bytes);
         }
+    }
+
+    /// <summary>
+    /// The hours the mains plot shows: from the first to the last monitored hour (whole hours, at least one), so a
+    /// short recording fills the plot; without a monitored range, the span of the track, else the whole day.
+    /// </summary>
+    private static (int From, int To) ShownHours(MainsTrack track, int hoursInDay, (int First, int Last)? monitoredMinutes)
+    {
+        double? firstSeconds = null;
+        double? lastSeconds = null;
+        if (monitoredMinutes is { } m)
+        {
+            firstSeconds = m.First * 60.0;
+            lastSeconds = (m.Last + 1) * 60.0;
+        }
+        else
+        {
+            for (var i = 0; i < track.Hz.Count; i++)
+            {
+                if (track.Hz[i] is not null)
+                {
+                    firstSeconds ??= i * (double)track.StepSeconds;
+                    lastSeconds = (i + 1) * (double)track.StepSeconds;
+                }
+            }
+        }
+
+        if (firstSeconds is not { } first || lastSeconds is not { } last || hoursInDay <= 0)
+        {
+            return (0, Math.Max(1, hoursInDay));
+        }
+
+        var from = Math.Clamp((int)Math.Floor(first / 3600), 0, hoursInDay - 1);
+        var to = Math.Clamp((int)Math.Ceiling(last / 3600), from + 1, hoursInDay);
+        return (from, to);
     }
 
     private static Plot DrawSpectrum(PlotData data, SpectrumPlot spectrum)
@@ -111,16 +231,26 @@ internal static class SummaryPlots
 
         plot.Axes.SetLimitsY(bottom - 0.2, labelTop + 0.1);
 
+        // Frequencies start at 0 Hz: the automatic margin would otherwise put a negative-frequency tick left of it.
+        var highestHz = Math.Max(spectrum.BinWidthHz, (spectrum.PsdUv2PerHz.Count - 1) * spectrum.BinWidthHz);
+        plot.Axes.SetLimitsX(0, highestHz);
+        plot.Axes.Bottom.TickGenerator = new ScottPlot.TickGenerators.NumericAutomatic
+        {
+            LabelFormatter = static hz => hz.ToString("0.##", CultureInfo.InvariantCulture),
+            // Half the usual density: a tick every 2 Hz across a wide plot reads as a comb.
+            TickDensity = 0.5,
+        };
+
         var ticks = new ScottPlot.TickGenerators.NumericAutomatic
         {
             MinorTickGenerator = new ScottPlot.TickGenerators.LogMinorTickGenerator(),
             IntegerTicksOnly = true,
-            LabelFormatter = static y => Math.Pow(10, y).ToString("0.###E+0", CultureInfo.InvariantCulture),
+            LabelFormatter = DecadeLabel,
         };
         plot.Axes.Left.TickGenerator = ticks;
-        plot.Title($"{data.Stream} {data.Day}: mean spectrum ({spectrum.Seconds / 3600:0.#} h analysed)");
-        plot.XLabel("Frequency (Hz)");
-        plot.YLabel("PSD (µV²/Hz, log scale)");
+        plot.Title($"{data.Stream} {data.Day}: mean spectrum ({DurationText(spectrum.Seconds)} analysed)");
+        plot.XLabel("frequency, Hz");
+        plot.YLabel(SpectrumYLabel);
         return plot;
     }
 
@@ -129,7 +259,7 @@ internal static class SummaryPlots
         var plot = new Plot();
         var hours = timeline.HourStartsLocal.Count;
         var rows = timeline.Rows;
-        var colormap = new ScottPlot.Colormaps.Viridis();
+        var key = new MinutesKey();
         for (var r = 0; r < rows.Count; r++)
         {
             // Row 0 (most affected) at the top.
@@ -143,10 +273,15 @@ internal static class SummaryPlots
                 }
 
                 var rect = plot.Add.Rectangle(h, h + 1, y, y + 1);
-                rect.FillColor = colormap.GetColor(Math.Clamp(minutes / 60, 0, 1));
+                rect.FillColor = key.Colormap.GetColor(Math.Clamp(minutes / TimelineKeyMaxMinutes, 0, 1));
                 rect.LineWidth = 0;
             }
         }
+
+        // The colour key: the same colour map, labelled in minutes from none to all 60 of an hour.
+        var colorBar = plot.Add.ColorBar(key);
+        colorBar.Label = TimelineKeyLabel;
+        colorBar.Axis.TickGenerator = new ScottPlot.TickGenerators.NumericManual([0, 15, 30, 45, 60], ["0", "15", "30", "45", "60"]);
 
         var yPositions = new double[rows.Count];
         var yLabels = new string[rows.Count];
@@ -172,49 +307,176 @@ internal static class SummaryPlots
             plot.Add.Text("no contamination recorded", hours / 2.0, 0.5);
         }
 
-        plot.Title($"{data.Stream} {data.Day}: affected minutes per hour (blank: none; dark: a few; bright: all 60)");
-        plot.XLabel("Local time");
+        plot.Title($"{data.Stream} {data.Day}: affected minutes per source and hour (blank: none)");
+        plot.XLabel("local time");
         return plot;
     }
 
     private static Plot DrawMains(PlotData data, MainsPlot mains)
     {
         var plot = new Plot();
-        var xs = new List<double>();
-        var ys = new List<double>();
-        for (var i = 0; i < mains.Hz.Count; i++)
+        var hourStarts = data.Timeline.HourStartsLocal;
+        var stepHours = mains.StepSeconds / 3600.0;
+        var dayHours = Math.Max(1, hourStarts.Count);
+        var from = Math.Clamp(mains.FromHour, 0, dayHours - 1);
+        var to = Math.Clamp(mains.ToHour, from + 1, dayHours);
+
+        // The track as a line where its values are consecutive steps; a lone value as a dot.
+        var runXs = new List<double>();
+        var runYs = new List<double>();
+        for (var i = 0; i <= mains.Hz.Count; i++)
         {
-            if (mains.Hz[i] is { } hz)
+            if (i < mains.Hz.Count && mains.Hz[i] is { } hz)
             {
-                xs.Add(i * mains.StepSeconds / 3600.0);
-                ys.Add(hz);
+                runXs.Add(i * stepHours);
+                runYs.Add(hz);
+                continue;
             }
+
+            AddRun(plot, runXs, runYs);
+            runXs.Clear();
+            runYs.Clear();
         }
 
-        if (xs.Count > 0)
-        {
-            var scatter = plot.Add.Scatter(xs.ToArray(), ys.ToArray());
-            scatter.LineWidth = 0;
-            scatter.MarkerSize = 3;
-        }
-
+        // Without a measured fundamental the axis still spans the grid's EN 50160 ±1 % window, so the note sits at
+        // the grid the site uses (60 Hz on a 60 Hz site), not at a fixed 50 Hz.
+        double? low = null;
+        double? high = null;
         if (mains.MeanHz is { } mean)
         {
             // The title states the mean; a label on the line itself would print over the frequency ticks.
             plot.Add.HorizontalLine(mean, 1, Colors.Gray, LinePattern.Dashed);
         }
+        else if (mains.GridHz is { } grid)
+        {
+            var note = plot.Add.Text(string.Create(CultureInfo.InvariantCulture, $"{FundamentalNotSeen} (grid {grid:0.##} Hz)"), (from + to) / 2.0, grid);
+            note.LabelAlignment = Alignment.MiddleCenter;
+            low = grid * 0.99;
+            high = grid * 1.01;
+        }
         else
         {
-            plot.Add.Text("mains fundamental not seen", 12, 50);
+            // No grid set or seen: a frequency axis would mean nothing, so the note stands alone.
+            var note = plot.Add.Text($"{FundamentalNotSeen} (grid neither set nor seen)", (from + to) / 2.0, 0.5);
+            note.LabelAlignment = Alignment.MiddleCenter;
+            low = 0;
+            high = 1;
+            plot.Axes.Left.TickGenerator = new ScottPlot.TickGenerators.NumericManual();
         }
 
+        var c = CultureInfo.InvariantCulture;
+        var shown = from == 0 && to == dayHours ? "" : $" {ClockText(hourStarts, from)}–{ClockText(hourStarts, to)} of the {dayHours} h day (strip above)";
         plot.Title(mains.MeanHz is { } m
-            ? string.Create(CultureInfo.InvariantCulture, $"{data.Stream} {data.Day}: mains frequency (dashed: mean {m:0.000} Hz; range {mains.MinHz:0.000}–{mains.MaxHz:0.000} Hz)")
-            : $"{data.Stream} {data.Day}: mains frequency");
-        plot.XLabel("Hours since local midnight");
-        plot.YLabel("Frequency (Hz)");
-        plot.Axes.SetLimitsX(0, mains.Hz.Count / 60.0);
+            ? string.Create(c, $"{data.Stream} {data.Day}: mains frequency{shown}; mean {m:0.000} Hz (dashed), range {mains.MinHz:0.000}–{mains.MaxHz:0.000} Hz")
+            : $"{data.Stream} {data.Day}: mains frequency{shown}");
+        plot.Axes.Title.Label.FontSize = 14;
+        plot.XLabel("local time");
+        plot.YLabel("mains frequency, Hz");
+        plot.Axes.Bottom.SetTicks(TimeTicks(hourStarts, from, to, out var labels), labels);
+        plot.Axes.SetLimitsX(from, to);
+        if (low is { } lo && high is { } hi)
+        {
+            plot.Axes.SetLimitsY(lo, hi);
+        }
+
+        if (from > 0 || to < dayHours)
+        {
+            AddDayStrip(plot, hourStarts, from, to);
+        }
+
         return plot;
+    }
+
+    private static void AddRun(Plot plot, List<double> xs, List<double> ys)
+    {
+        if (xs.Count == 0)
+        {
+            return;
+        }
+
+        var scatter = plot.Add.Scatter(xs.ToArray(), ys.ToArray(), TrackColor);
+        scatter.LineWidth = xs.Count > 1 ? 1.5f : 0;
+        scatter.MarkerSize = xs.Count > 1 ? 0 : 4;
+    }
+
+    /// <summary>
+    /// The day's extent above the fitted plot: a faint band for the whole local day on the top axis (its own hour
+    /// scale), a darker one for the hours shown below, so a short recording still reads as a part of its day.
+    /// </summary>
+    private static void AddDayStrip(Plot plot, IReadOnlyList<string> hourStarts, int from, int to)
+    {
+        var dayHours = hourStarts.Count;
+        var top = plot.Axes.Top;
+        var strip = plot.Axes.Right;
+        var day = plot.Add.Rectangle(0, dayHours, 0.97, 1);
+        day.FillColor = Colors.Gray.WithAlpha(0.15);
+        day.LineWidth = 0;
+        day.Axes.XAxis = top;
+        day.Axes.YAxis = strip;
+        var shown = plot.Add.Rectangle(from, to, 0.97, 1);
+        shown.FillColor = TrackColor.WithAlpha(0.45);
+        shown.LineWidth = 0;
+        shown.Axes.XAxis = top;
+        shown.Axes.YAxis = strip;
+
+        var positions = new List<double>();
+        var labels = new List<string>();
+        for (var h = 0; h <= dayHours; h += 6)
+        {
+            positions.Add(h);
+            labels.Add(ClockText(hourStarts, h));
+        }
+
+        if (positions[^1] != dayHours)
+        {
+            positions.Add(dayHours);
+            labels.Add(ClockText(hourStarts, dayHours));
+        }
+
+        // The title says what the strip is ("09:00–10:00 of the 24 h day"); an axis label here would print over it.
+        top.SetTicks([.. positions], [.. labels]);
+        top.Min = 0;
+        top.Max = dayHours;
+        strip.Min = 0;
+        strip.Max = 1;
+        strip.TickGenerator = new ScottPlot.TickGenerators.NumericManual();
+    }
+
+    /// <summary>Ticks of the fitted time axis: every 10, 15 or 30 min, or every 1, 2 or 3 h, at most about 13.</summary>
+    private static double[] TimeTicks(IReadOnlyList<string> hourStarts, int from, int to, out string[] labels)
+    {
+        var hours = to - from;
+        double[] stepsHours = [1 / 6.0, 0.25, 0.5, 1, 2, 3];
+        var step = stepsHours.First(s => hours / s <= 12 || s == 3);
+        var positions = new List<double>();
+        var texts = new List<string>();
+        var count = (int)Math.Round(hours / step);
+        for (var i = 0; i <= count; i++)
+        {
+            var x = from + (i * step);
+            positions.Add(x);
+            texts.Add(ClockText(hourStarts, x));
+        }
+
+        labels = [.. texts];
+        return [.. positions];
+    }
+
+    /// <summary>Local clock time of a position in hours since local midnight, from the day's hour starts; the day's end reads 24:00.</summary>
+    private static string ClockText(IReadOnlyList<string> hourStarts, double hoursSinceMidnight)
+    {
+        // Whole minutes first, so that 10 steps of 1/6 h never read "09:60".
+        var totalMinutes = (int)Math.Round(hoursSinceMidnight * 60);
+        var hour = totalMinutes / 60;
+        var minutes = totalMinutes % 60;
+        if (hour >= hourStarts.Count)
+        {
+            return "24:00";
+        }
+
+        var clock = hourStarts[hour].AsSpan(11, 5);
+        var localHour = int.Parse(clock[..2], CultureInfo.InvariantCulture);
+        return string.Create(CultureInfo.InvariantCulture, $"{localHour:00}:{minutes:00}");
     }
 
     private static double DaySummarizerRound(double value) => Math.Round(value, 3, MidpointRounding.AwayFromZero);
@@ -228,6 +490,14 @@ internal static class SummaryPlots
 
         var scale = Math.Pow(10, digits - 1 - (int)Math.Floor(Math.Log10(Math.Abs(value))));
         return Math.Round(value * scale) / scale;
+    }
+
+    /// <summary>The timeline's colour scale as a colour axis, so ScottPlot can draw its key: Viridis over 0–60 minutes.</summary>
+    private sealed class MinutesKey : IHasColorAxis
+    {
+        public IColormap Colormap { get; } = new ScottPlot.Colormaps.Viridis();
+
+        public ScottPlot.Range GetRange() => new(0, TimelineKeyMaxMinutes);
     }
 }
 

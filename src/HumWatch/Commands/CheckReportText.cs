@@ -118,8 +118,8 @@ internal static class CheckReportText
             return "not in the catalogue";
         }
 
-        var harmonic = line.Harmonic == 1 ? "" : $" ×{line.Harmonic}";
-        var aliased = line.Aliased ? ", folded" : "";
+        var harmonic = line.Harmonic == 1 ? "" : $" h{line.Harmonic}";
+        var aliased = line.Aliased ? $", aliased ({Core.Reporting.PlainWords.Aliased})" : "";
         return $"{line.SourceName}{harmonic}{aliased}";
     }
 

@@ -79,6 +79,7 @@ internal static class ListenCommand
     internal static void Pump(SubscriberSocket subscriber, StatusLines status, bool raw, TextWriter output, CancellationToken token, Action<string, bool>? onFirst = null)
     {
         var frames = new List<byte[]>(2);
+        var session = new PrintSession();
         var streamsSeen = new HashSet<string>(StringComparer.Ordinal);
         while (!token.IsCancellationRequested)
         {
@@ -104,7 +105,7 @@ internal static class ListenCommand
             var topicText = Encoding.UTF8.GetString(frames[0]);
             var isStatus = topicText.StartsWith("status/", StringComparison.Ordinal);
             var showStatus = status == StatusLines.All || (status == StatusLines.FirstPerStream && isStatus && streamsSeen.Add(topicText));
-            var line = raw ? $"{topicText} {Encoding.UTF8.GetString(frames[1])}" : MessagePrinter.Format(topicText, frames[1], showStatus);
+            var line = raw ? $"{topicText} {Encoding.UTF8.GetString(frames[1])}" : MessagePrinter.Format(topicText, frames[1], showStatus, session);
             if (line is not null)
             {
                 output.WriteLine(line);

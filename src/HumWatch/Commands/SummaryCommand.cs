@@ -72,7 +72,7 @@ internal static class SummaryCommand
 
         try
         {
-            return list ? List(storeOptions, zone, stdout) : Render(storeOptions, options, bound.Site.Name, zone, day, stream, output, stdout, stderr);
+            return list ? List(storeOptions, zone, stdout) : Render(storeOptions, options, bound.Site.Name, zone, day, stream, output, bound.Analysis.Sources.MainsHz, stdout, stderr);
         }
         catch (Exception ex) when (ex is InvalidOperationException or IOException or UnauthorizedAccessException)
         {
@@ -100,9 +100,9 @@ internal static class SummaryCommand
         return ExitCodes.Ok;
     }
 
-    private static int Render(StoreOptions storeOptions, SummaryOutputOptions options, string siteName, TimeZoneInfo zone, DateOnly day, string? stream, string? output, TextWriter stdout, TextWriter stderr)
+    private static int Render(StoreOptions storeOptions, SummaryOutputOptions options, string siteName, TimeZoneInfo zone, DateOnly day, string? stream, string? output, double? siteGridHz, TextWriter stdout, TextWriter stderr)
     {
-        var rendered = SummaryOnDemand.Render(storeOptions, options, siteName, zone, day, stream, output);
+        var rendered = SummaryOnDemand.Render(storeOptions, options, siteName, zone, day, stream, output, siteGridHz);
         if (rendered.Count == 0)
         {
             stderr.WriteLine(stream is null

@@ -1,14 +1,35 @@
 using System.Globalization;
 using System.Text;
 using System.Text.Json;
+using HumWatch.Core.Reporting;
 
 namespace HumWatch.Cli.Listening;
+
+/// <summary>What a console session has already said once: the safety caution, and what "aliased" means.</summary>
+internal sealed class PrintSession
+{
+    /// <summary>True once the caution has been printed.</summary>
+    public bool CautionShown { get; set; }
+
+    /// <summary>True once "aliased" has been explained.</summary>
+    public bool AliasedExplained { get; set; }
+}
 
 /// <summary>Turns published messages (topic + JSON body) into one readable line each.</summary>
 internal static class MessagePrinter
 {
+    /// <summary>Indent of the lines under an alert (hint, caution), so they line up under its text.</summary>
+    private const string Indent = "           ";
+
     /// <summary>The line for a message, or null when it is not worth a line (e.g. status in quiet mode).</summary>
-    public static string? Format(string topic, byte[] body, bool includeStatus)
+    /// <param name="topic">Topic frame.</param>
+    /// <param name="body">JSON body.</param>
+    /// <param name="includeStatus">Print status messages.</param>
+    /// <param name="session">
+    /// The console session: the first hint of a session is followed by the safety caution reports carry, and the
+    /// first aliased line says what aliased means. Null prints each message on its own (no session notes).
+    /// </param>
+    public static string? Format(string topic, byte[] body, bool includeStatus, PrintSession? session = null)
     {
         var kind = topic.Split('/', 2)[0];
         JsonElement json;
@@ -30,7 +51,7 @@ internal static class MessagePrinter
         {
             case "alert":
             {
-                var what = Describe(json);
+                var what = Describe(json, session);
                 var evt = Text(json, "event");
                 var severity = Text(json, "severity");
                 var head = evt == "severity" ? $"now {severity} (was {Text(json, "previousSeverity")})" : $"{severity} — raised";
@@ -39,13 +60,20 @@ internal static class MessagePrinter
                 var worst = json.TryGetProperty("worstChannels", out var w) && w.ValueKind == JsonValueKind.Array && w.GetArrayLength() > 0
                     ? $" (strongest: {string.Join(", ", w.EnumerateArray().Select(x => x.GetString()))})"
                     : "";
-                var hint = Text(json, "suggestion") is { } h ? $"{Environment.NewLine}           hint: {h}" : "";
+                var hint = Text(json, "suggestion") is { } h ? $"{Environment.NewLine}{Indent}hint: {h}" : "";
+                if (hint.Length > 0 && session is { CautionShown: false })
+                {
+                    // Once per session, as a report carries it once: the caution that goes with every hint.
+                    hint += $"{Environment.NewLine}{Indent}caution (applies to every hint): {SafetyNotice.Text}";
+                    session.CautionShown = true;
+                }
+
                 return $"{when}  ▲ {stream}: {what} {head}{amplitude}{share}{worst}{hint}";
             }
 
             case "clear":
             {
-                var what = Describe(json);
+                var what = Describe(json, session);
                 var duration = Number(json, "durationSeconds") ?? 0;
                 var peak = Number(json, "peakAmplitudeUvRms") is { } p ? string.Create(c, $", peak {p:0.0} µV RMS") : "";
                 return string.Create(c, $"{when}  ▽ {stream}: {what} cleared ({Text(json, "reason")}) after {duration:0} s{peak}");
@@ -102,7 +130,7 @@ internal static class MessagePrinter
             : string.Create(c, $", data dated {dataUtc:yyyy-MM-dd HH:mm} UTC, ahead of this clock");
     }
 
-    private static string Describe(JsonElement json)
+    private static string Describe(JsonElement json, PrintSession? session)
     {
         var c = CultureInfo.InvariantCulture;
         if (Text(json, "fault") is { } fault)
@@ -116,8 +144,18 @@ internal static class MessagePrinter
 
         var frequency = Number(json, "frequencyHz") is { } f ? string.Create(c, $"{f:0.00} Hz ") : "";
         var source = Text(json, "source") ?? "unidentified line";
-        var harmonic = Number(json, "harmonic") is { } h && h > 1 ? string.Create(c, $" ×{h:0}") : "";
-        var aliased = json.TryGetProperty("aliased", out var al) && al.ValueKind == JsonValueKind.True ? ", folded" : "";
+        // Spelled as in keys and labels (h3 = the third harmonic); the fundamental goes without.
+        var harmonic = Number(json, "harmonic") is { } h && h > 1 ? string.Create(c, $" h{h:0}") : "";
+        var aliased = "";
+        if (json.TryGetProperty("aliased", out var al) && al.ValueKind == JsonValueKind.True)
+        {
+            aliased = session is { AliasedExplained: false } ? $", aliased ({PlainWords.Aliased})" : ", aliased";
+            if (session is not null)
+            {
+                session.AliasedExplained = true;
+            }
+        }
+
         return $"{frequency}{source}{harmonic}{aliased}";
     }
 

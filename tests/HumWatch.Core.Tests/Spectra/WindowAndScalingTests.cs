@@ -23,7 +23,9 @@ public sealed class WindowAndScalingTests
         var window = new double[128];
         HannWindow.FillSymmetric(window);
 
-        // Harris 1978 (Proc. IEEE 66:51–83) ENBW = N·Σw²/(Σw)², evaluated for a 128-point symmetric Hann: 1.5118 bins (computed)
+        // Harris 1978 (Proc. IEEE 66:51–83, eq. 11) ENBW = N·Σw²/(Σw)². For the symmetric Hann w[n] = ½(1 − cos(2πn/(N−1)))
+        // the sums are Σw = (N−1)/2 and Σw² = 3(N−1)/8, so ENBW = 3N / (2(N−1)) = 384/254 = 1.51181 bins for N = 128.
+        Assert.Equal(3.0 * 128 / (2 * 127), HannWindow.EnbwBins(window), 12);
         Assert.Equal(1.5118, HannWindow.EnbwBins(window), 4);
     }
 
