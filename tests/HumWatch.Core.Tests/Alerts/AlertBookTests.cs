@@ -303,7 +303,8 @@ public sealed class AlertBookTests
     public void Options_validation_names_each_bad_key()
     {
         var options = new AlertOptions { RaiseAfterFrames = 0, MarkedUvRms = 0.5, MinChannelShare = 2, UnidentifiedMinSeverity = AlertSeverity.None };
-        var errors = options.Validate();
+        Assert.Contains(options.Validate(), e => e.StartsWith("RaiseAfterFrames", StringComparison.Ordinal));
+        var errors = options.Validate("Alerts");
         Assert.Contains(errors, e => e.StartsWith("Alerts:RaiseAfterFrames", StringComparison.Ordinal));
         Assert.Contains(errors, e => e.StartsWith("Alerts:MarkedUvRms", StringComparison.Ordinal));
         Assert.Contains(errors, e => e.StartsWith("Alerts:MinChannelShare", StringComparison.Ordinal));

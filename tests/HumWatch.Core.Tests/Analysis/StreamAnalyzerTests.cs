@@ -20,8 +20,11 @@ public sealed class StreamAnalyzerTests
 
         var error = Assert.Throws<ArgumentException>(() => new StreamAnalyzer(Layout(250, 2), options));
 
-        Assert.Contains("Analysis:Lines:MinProminenceDb", error.Message, StringComparison.Ordinal);
-        Assert.Contains("Analysis:Spectra:HopSeconds", error.Message, StringComparison.Ordinal);
+        // Core names the settings by their place in AnalysisOptions; only the Host knows the configuration section.
+        Assert.Contains("Lines:MinProminenceDb", error.Message, StringComparison.Ordinal);
+        Assert.Contains("Spectra:HopSeconds", error.Message, StringComparison.Ordinal);
+        Assert.DoesNotContain("Analysis:", error.Message, StringComparison.Ordinal);
+        Assert.Contains(options.Validate("Analysis"), e => e.StartsWith("Analysis:Spectra:HopSeconds", StringComparison.Ordinal));
         Assert.Equal("options", error.ParamName);
     }
 

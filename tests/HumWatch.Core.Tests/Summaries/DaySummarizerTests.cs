@@ -84,7 +84,8 @@ public sealed class DaySummarizerTests
 
         // 89 min of display lines: over the warn level (30) and under the fail level (120).
         Assert.Equal(DayVerdict.Warn, summary.Verdict);
-        Assert.Contains("Summaries:Day:Display:WarnMinutes", Assert.Single(summary.VerdictReasons), StringComparison.Ordinal);
+        // Without a configuration key from the caller the reason names the rule itself (the Host passes "Summaries:Day").
+        Assert.Contains("(Display:WarnMinutes)", Assert.Single(summary.VerdictReasons), StringComparison.Ordinal);
 
         // Mains track: minute values cycle 49.990 … 50.008; mean of 150 full cycles is 49.999.
         Assert.Equal(1500, summary.Mains.MinutesWithEstimate);
@@ -170,7 +171,7 @@ public sealed class DaySummarizerTests
     }
 
     [Fact]
-    public void Invalid_limits_are_reported_with_their_configuration_keys()
+    public void Invalid_limits_are_reported_under_the_key_the_caller_gives()
     {
         var options = new DaySummaryRules
         {
@@ -178,7 +179,8 @@ public sealed class DaySummarizerTests
             EpisodeMinuteMinSeconds = 0,
             WorstChannelCount = 0,
         };
-        var errors = options.Validate();
+        Assert.Contains(options.Validate(), e => e.StartsWith("Mains:WarnMinutes", StringComparison.Ordinal));
+        var errors = options.Validate("Summaries:Day");
         Assert.Contains(errors, e => e.Contains("Summaries:Day:Mains:WarnMinutes", StringComparison.Ordinal) && e.Contains("Summaries:Day:Mains:FailMinutes", StringComparison.Ordinal));
         Assert.Contains(errors, e => e.StartsWith("Summaries:Day:EpisodeMinuteMinSeconds", StringComparison.Ordinal));
         Assert.Contains(errors, e => e.StartsWith("Summaries:Day:WorstChannelCount", StringComparison.Ordinal));
