@@ -36,6 +36,18 @@ public sealed class HumWatchHostSettings
 /// <summary>Builds the HumWatch service: configuration, validation, logging and every hosted part.</summary>
 public static class HumWatchHost
 {
+    /// <summary>
+    /// Where a started host listens: the publish endpoint and the ingest endpoints as bound or connected, an ephemeral
+    /// port (<c>tcp://127.0.0.1:*</c>) resolved to the port the system gave. Valid once the host has started.
+    /// </summary>
+    public static (string Publish, IReadOnlyList<string> Ingest) Endpoints(IHost host)
+    {
+        ArgumentNullException.ThrowIfNull(host);
+        var publish = host.Services.GetRequiredService<ZmqPublisher>().Endpoint;
+        var ingest = host.Services.GetServices<IHostedService>().OfType<SocketIngestService>().FirstOrDefault()?.Endpoints ?? [];
+        return (publish, ingest);
+    }
+
     /// <summary>Builds the host. Every invalid setting is reported at once.</summary>
     /// <exception cref="ConfigurationException">A file is missing or invalid, or settings fail validation; the message names each key.</exception>
     public static IHost Build(HumWatchHostSettings settings)

@@ -3,8 +3,8 @@ namespace HumWatch.Host.Store;
 /// <summary>Where and how the SQLite store is kept. Bound from config section "Store".</summary>
 public sealed class StoreOptions
 {
-    /// <summary>Database file; relative paths resolve against the working directory. The default is "data/humwatch.db".</summary>
-    public string Path { get; set; } = "data/humwatch.db";
+    /// <summary>Database file; relative paths resolve against the working directory. The default is "humwatch-data/humwatch.db", as the embedded defaults set it.</summary>
+    public string Path { get; set; } = "humwatch-data/humwatch.db";
 
     /// <summary>How long a statement waits for a lock held by another connection, ms. The default is 5000 ms.</summary>
     public int BusyTimeoutMs { get; set; } = 5000;

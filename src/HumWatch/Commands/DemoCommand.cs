@@ -95,34 +95,29 @@ internal static class DemoCommand
             return ExitCodes.BadInput;
         }
 
-        string ingestEndpoint = IngestOptions.DefaultAddress;
-        string publishEndpoint = "tcp://127.0.0.1:5711";
-        var hostSettings = new HumWatchHostSettings
-        {
-            Sources = sources,
-            ConfigureServices = (services, bound) =>
-            {
-                ingestEndpoint = bound.Ingest.Endpoints.Count > 0 ? bound.Ingest.Endpoints[0].Address : IngestOptions.DefaultAddress;
-                publishEndpoint = bound.Publish.Endpoint;
-                var endpoint = ingestEndpoint;
-                services.AddHostedService(sp => new DemoRoomPlayer(rooms, endpoint, speed, sp.GetRequiredService<TimeProvider>()));
-            },
-        };
+        var hostSettings = new HumWatchHostSettings { Sources = sources };
 
         using var stopPrinting = new CancellationTokenSource();
         Thread? printer = null;
+        DemoRoomPlayer? player = null;
         var code = ServiceRunner.Run("demo", hostSettings, host =>
         {
+            // The endpoints as bound, so an ephemeral port (tcp://127.0.0.1:*) in the settings works for the demo too.
+            var (publishEndpoint, ingest) = HumWatchHost.Endpoints(host);
+            var ingestEndpoint = ingest.Count > 0 ? ingest[0] : IngestOptions.DefaultAddress;
+            player = new DemoRoomPlayer(rooms, ConnectAddress(ingestEndpoint), speed, TimeProvider.System);
+            player.StartAsync(CancellationToken.None).GetAwaiter().GetResult();
+            var lifetime = host.Services.GetRequiredService<IHostApplicationLifetime>();
+            lifetime.ApplicationStopping.Register(() => player.StopAsync(CancellationToken.None).Wait(TimeSpan.FromSeconds(2)));
             var names = string.Join(", ", rooms.Select(r => r.StreamId));
             Console.Out.WriteLine($"HumWatch demo: {rooms.Count} simulated rooms ({names}) streaming to {ingestEndpoint} at {speed:0.##}× real time.");
             Console.Out.WriteLine($"Alerts are published on {publishEndpoint} (try 'humwatch listen' in another terminal); store, logs and inbox in {Path.GetFullPath(dataFolder)}.");
             Console.Out.WriteLine("Each room needs one analysis span (8 s) before its first frame; alerts follow a few frames after a source switches on. Ctrl-C stops.");
             Console.Out.WriteLine();
-            printer = new Thread(() => PrintAlerts(publishEndpoint, stopPrinting.Token)) { IsBackground = true, Name = "humwatch-demo-printer" };
+            printer = new Thread(() => PrintAlerts(ConnectAddress(publishEndpoint), stopPrinting.Token)) { IsBackground = true, Name = "humwatch-demo-printer" };
             printer.Start();
             if (stopAfterSeconds is { } after)
             {
-                var lifetime = host.Services.GetRequiredService<IHostApplicationLifetime>();
                 _ = Task.Delay(TimeSpan.FromSeconds(after)).ContinueWith(_ => lifetime.StopApplication(), TaskScheduler.Default);
             }
         },
@@ -131,6 +126,7 @@ internal static class DemoCommand
             // The printer's socket must close before NetMQ's context is cleaned up.
             stopPrinting.Cancel();
             printer?.Join(TimeSpan.FromSeconds(2));
+            player?.Dispose();
         });
         return code;
     }
@@ -139,10 +135,14 @@ internal static class DemoCommand
     {
         using var subscriber = new SubscriberSocket();
         subscriber.Options.Linger = TimeSpan.Zero;
-        subscriber.Connect(endpoint.Replace("*", "127.0.0.1", StringComparison.Ordinal));
+        subscriber.Connect(endpoint);
         subscriber.SubscribeToAnyTopic();
         ListenCommand.Pump(subscriber, StatusLines.FirstPerStream, raw: false, Console.Out, token);
     }
+
+    /// <summary>An address to connect to for an endpoint bound on every interface (<c>*</c> or 0.0.0.0): this machine's loopback.</summary>
+    private static string ConnectAddress(string endpoint) =>
+        endpoint.Replace("://*:", "://127.0.0.1:", StringComparison.Ordinal).Replace("://0.0.0.0:", "://127.0.0.1:", StringComparison.Ordinal);
 
     private static string DefaultScenarioFolder()
     {
