@@ -57,12 +57,23 @@ public sealed class SettingsLayersTests : IDisposable
     }
 
     [Fact]
-    public void Without_any_source_the_embedded_defaults_apply_over_the_option_classes_own()
+    public void Without_any_source_the_embedded_defaults_apply_and_agree_with_the_option_classes_own()
     {
         var bound = SettingsBuilder.Build(new SettingsSources { BaseDirectory = _folder.Path, Environment = new Dictionary<string, string?>() });
 
         Assert.Equal("humwatch-data/humwatch.db", bound.Store.Path);
-        Assert.NotEqual(new StoreOptions().Path, bound.Store.Path);
+
+        // The README and docs name one default per folder; the class defaults (what tests and embedders see) say the same.
+        var classDefaults = new Dictionary<string, string?>
+        {
+            ["Store:Path"] = new StoreOptions().Path,
+            ["Logs:Folder"] = new LogOptions().Folder,
+            ["Inbox:Folder"] = new InboxOptions().Folder,
+            ["Inbox:ArchiveFolder"] = new InboxOptions().ArchiveFolder,
+            ["Inbox:RejectedFolder"] = new InboxOptions().RejectedFolder,
+            ["Summaries:Folder"] = new SummaryOutputOptions().Folder,
+        };
+        Assert.Equal(SettingsBuilder.EmbeddedDefaults.OrderBy(p => p.Key), classDefaults.OrderBy(p => p.Key));
     }
 
     [Fact]
