@@ -74,6 +74,8 @@ public static class CurveKeyFile
             throw new InvalidDataException($"CURVE key file '{path}' has no \"secretKey\"; the server needs its full key pair.");
         }
 
+        EnsureOwnerOnly(path);
+
         NetMQCertificate certificate;
         try
         {
@@ -110,6 +112,24 @@ public static class CurveKeyFile
     public static bool IsReadableByOthers(string path) =>
         !OperatingSystem.IsWindows() &&
         (File.GetUnixFileMode(path) & (UnixFileMode.GroupRead | UnixFileMode.OtherRead)) != 0;
+
+    /// <summary>
+    /// Refuses a secret key file that its group or other users can read: anyone holding the secret can pose as this
+    /// server. Windows has no Unix mode bits (its ACLs are left to the administrator), so the check is skipped there.
+    /// </summary>
+    /// <exception cref="InvalidDataException">The file is readable by others; the message names the file, its mode and the fix.</exception>
+    public static void EnsureOwnerOnly(string path)
+    {
+        if (OperatingSystem.IsWindows() || !IsReadableByOthers(path))
+        {
+            return;
+        }
+
+        var mode = Convert.ToString((int)File.GetUnixFileMode(path), 8).PadLeft(4, '0');
+        throw new InvalidDataException(
+            $"CURVE key file '{path}' holds a secret key but has mode {mode}, readable by its group or other users; " +
+            $"restrict it to the service account with `chmod 600 {path}` (humwatch keys new writes 0600).");
+    }
 
     private static (string? PublicKey, string? SecretKey) ReadKeys(string path)
     {
