@@ -29,6 +29,14 @@ public static class ClientKeyProof
     /// <summary>Makes a proof frame for a sender holding <paramref name="client"/> (with its secret key) that sends to the server with public key <paramref name="serverPublicKey"/>.</summary>
     public static byte[] Create(NetMQCertificate client, byte[] serverPublicKey)
     {
+        Span<byte> nonce = stackalloc byte[NonceLength];
+        RandomNumberGenerator.Fill(nonce);
+        return Create(client, serverPublicKey, nonce);
+    }
+
+    /// <summary>As <see cref="Create(NetMQCertificate, byte[])"/> with a given nonce (tests compare against libsodium's box); a nonce must never repeat for one key pair.</summary>
+    internal static byte[] Create(NetMQCertificate client, byte[] serverPublicKey, ReadOnlySpan<byte> nonce)
+    {
         ArgumentNullException.ThrowIfNull(client);
         ArgumentNullException.ThrowIfNull(serverPublicKey);
         if (!client.HasSecretKey)
@@ -38,8 +46,8 @@ public static class ClientKeyProof
 
         var proof = new byte[Length];
         client.PublicKey.CopyTo(proof, 0);
-        var nonce = proof.AsSpan(ClientKeyAllowList.KeyLength, NonceLength);
-        RandomNumberGenerator.Fill(nonce);
+        ArgumentOutOfRangeException.ThrowIfNotEqual(nonce.Length, NonceLength, nameof(nonce));
+        nonce.CopyTo(proof.AsSpan(ClientKeyAllowList.KeyLength, NonceLength));
         using var box = new Curve25519XSalsa20Poly1305(client.SecretKey, serverPublicKey);
         box.Encrypt(proof.AsSpan(ClientKeyAllowList.KeyLength + NonceLength), Label, nonce);
         return proof;

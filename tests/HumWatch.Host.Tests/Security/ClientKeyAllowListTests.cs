@@ -55,6 +55,24 @@ public sealed class ClientKeyAllowListTests : IDisposable
     }
 
     [Fact]
+    public void A_proof_made_by_libsodium_is_accepted_and_ours_is_the_same_bytes()
+    {
+        // Fixture from tests/fixtures/curve/make_client_proof.py: python3-nacl 1.5.0 (libsodium crypto_box), zmq_curve(7) test keys.
+        using var fixture = System.Text.Json.JsonDocument.Parse(File.ReadAllText(Path.Combine(AppContext.BaseDirectory, "fixtures", "curve", "client-proof.json")));
+        var root = fixture.RootElement;
+        var clientPublic = root.GetProperty("clientPublicZ85").GetString()!;
+        var server = NetMQCertificate.CreateFromSecretKey(root.GetProperty("serverSecretZ85").GetString()!);
+        var proof = Convert.FromHexString(root.GetProperty("proofHex").GetString()!);
+        using var gate = new ClientKeyGate(ClientKeyAllowList.Read(_temp.WriteText("senders.keys", clientPublic + "\n")), server);
+
+        Assert.Equal(ClientKeyCheck.Allowed, gate.Check(proof, present: true));
+
+        // zmq_curve(7) client secret (from memory; the script asserts it matches the public key above).
+        var client = NetMQCertificate.CreateFromSecretKey("D:)Q[IlAW!ahhC2ac:9*A}h:p?([4%wOTJ%JR%cs");
+        Assert.Equal(proof, ClientKeyProof.Create(client, server.PublicKey, proof.AsSpan(32, 24)));
+    }
+
+    [Fact]
     public void A_proof_opens_only_for_the_listed_key_it_was_made_with_and_the_server_it_was_made_for()
     {
         var server = new NetMQCertificate();
