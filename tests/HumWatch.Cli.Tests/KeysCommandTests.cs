@@ -37,9 +37,9 @@ public sealed class KeysCommandTests : IDisposable
         Assert.Contains("Curve:AllowedClientKeysFile", output, StringComparison.Ordinal);
 
         var publicKey = CurveKeyFile.ReadPublicKey(path);
-        var list = ClientKeyAllowList.Read(_work.WriteText("senders.keys", $"# {path}
-{publicKey}
-"));
+        var listFile = Path.Combine(_work.Path, "senders.keys");
+        File.WriteAllText(listFile, $"# {path}\n{publicKey}\n");
+        var list = ClientKeyAllowList.Read(listFile);
         Assert.True(list.Contains(NetMQ.NetMQCertificate.FromPublicKey(publicKey).PublicKey));
 
         if (!OperatingSystem.IsWindows())

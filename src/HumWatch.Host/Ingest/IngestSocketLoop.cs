@@ -171,6 +171,8 @@ internal sealed class IngestSocketLoop : IDisposable
                 _socket.Dispose();
                 _logger.SocketClosed(Origin);
             }
+
+            _gate?.Dispose();
         }
         else
         {
