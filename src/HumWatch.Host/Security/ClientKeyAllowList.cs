@@ -22,16 +22,7 @@ public sealed class ClientKeyAllowList
     /// <exception cref="InvalidDataException">The file cannot be read, a line is not a Z85 key, or no key is listed; the message names the file and line.</exception>
     public static ClientKeyAllowList Read(string path)
     {
-        ArgumentException.ThrowIfNullOrWhiteSpace(path);
-        string[] lines;
-        try
-        {
-            lines = File.ReadAllLines(path);
-        }
-        catch (Exception ex) when (ex is IOException or UnauthorizedAccessException)
-        {
-            throw new InvalidDataException($"Allowed client keys file '{path}' cannot be read: {ex.Message}", ex);
-        }
+        var lines = CurveKeyFile.ReadAll(path, "Allowed client keys file", File.ReadAllLines);
 
         var keys = new List<byte[]>();
         for (var i = 0; i < lines.Length; i++)

@@ -131,18 +131,23 @@ public static class CurveKeyFile
             $"restrict it to the service account with `chmod 600 {path}` (humwatch keys new writes 0600).");
     }
 
-    private static (string? PublicKey, string? SecretKey) ReadKeys(string path)
+    /// <summary>Reads a key-related file; a missing or unreadable one becomes an error naming it as <paramref name="what"/>.</summary>
+    internal static T ReadAll<T>(string path, string what, Func<string, T> read)
     {
         ArgumentException.ThrowIfNullOrWhiteSpace(path);
-        byte[] bytes;
         try
         {
-            bytes = File.ReadAllBytes(path);
+            return read(path);
         }
         catch (Exception ex) when (ex is IOException or UnauthorizedAccessException)
         {
-            throw new InvalidDataException($"CURVE key file '{path}' cannot be read: {ex.Message}", ex);
+            throw new InvalidDataException($"{what} '{path}' cannot be read: {ex.Message}", ex);
         }
+    }
+
+    private static (string? PublicKey, string? SecretKey) ReadKeys(string path)
+    {
+        var bytes = ReadAll(path, "CURVE key file", File.ReadAllBytes);
 
         string? publicKey = null;
         string? secretKey = null;
