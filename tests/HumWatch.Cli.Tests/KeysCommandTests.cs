@@ -29,6 +29,28 @@ public sealed class KeysCommandTests : IDisposable
     }
 
     [Fact]
+    public async Task A_sender_key_made_by_keys_new_goes_on_an_allow_list_and_an_opened_up_pair_file_is_refused()
+    {
+        var path = Path.Combine(_work.Path, "sender.key");
+        var (code, output, error) = await CliRunner.RunAsync("keys", "new", path);
+        Assert.True(code == 0, error);
+        Assert.Contains("Curve:AllowedClientKeysFile", output, StringComparison.Ordinal);
+
+        var publicKey = CurveKeyFile.ReadPublicKey(path);
+        var listFile = Path.Combine(_work.Path, "senders.keys");
+        File.WriteAllText(listFile, $"# {path}\n{publicKey}\n");
+        var list = ClientKeyAllowList.Read(listFile);
+        Assert.True(list.Contains(NetMQ.NetMQCertificate.FromPublicKey(publicKey).PublicKey));
+
+        if (!OperatingSystem.IsWindows())
+        {
+            File.SetUnixFileMode(path, UnixFileMode.UserRead | UnixFileMode.UserWrite | UnixFileMode.GroupRead);
+            var ex = Assert.Throws<InvalidDataException>(() => CurveKeyFile.ReadKeyPair(path));
+            Assert.Contains("chmod 600", ex.Message, StringComparison.Ordinal);
+        }
+    }
+
+    [Fact]
     public async Task An_existing_key_file_is_kept_without_force_and_replaced_owner_only_with_it()
     {
         var path = Path.Combine(_work.Path, "ingest-server.key");

@@ -60,6 +60,12 @@ public sealed class IngestEndpointOptions
     /// <summary>Must be true to bind to an address other than loopback; such a bind is logged as a warning. The default is false.</summary>
     public bool AllowNonLoopback { get; set; }
 
+    /// <summary>
+    /// Must be true to use a tcp address other than loopback (bind or connect) without <see cref="Curve"/>: the data
+    /// then travels unencrypted and any host that reaches the port can send it. Logged as a warning. The default is false.
+    /// </summary>
+    public bool AllowInsecureRemote { get; set; }
+
     /// <summary>Optional CurveZMQ encryption for off-host senders; null (the default) means plain TCP.</summary>
     public IngestCurveOptions? Curve { get; set; }
 }
@@ -69,6 +75,13 @@ public sealed class IngestCurveOptions
 {
     /// <summary>Path of the server key pair file (JSON with Z85 "publicKey" and "secretKey"); senders need its public key.</summary>
     public string ServerKeyFile { get; set; } = string.Empty;
+
+    /// <summary>
+    /// Optional text file of the senders' CURVE public keys (one Z85 key per line, # comments). When set, a
+    /// message is accepted only with a proof frame made with a listed key's secret (docs/protocol.md); others are refused,
+    /// counted and logged. Empty (the default) accepts every sender that knows the server key.
+    /// </summary>
+    public string AllowedClientKeysFile { get; set; } = string.Empty;
 }
 
 /// <summary>Whether an ingest socket binds or connects.</summary>

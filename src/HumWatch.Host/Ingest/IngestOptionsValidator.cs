@@ -101,6 +101,11 @@ internal sealed class IngestOptionsValidator : IValidateOptions<IngestOptions>
             {
                 failures.Add($"{key}:AllowNonLoopback must be true to bind to the non-loopback address '{address}' (other hosts could send data); or bind to 127.0.0.1.");
             }
+
+            if (!IsLocalOnly(address) && endpoint.Curve is null && !endpoint.AllowInsecureRemote)
+            {
+                failures.Add(Security.RemoteEndpointRule.Refusal($"{key}:Address", address, $"{key}:Curve:ServerKeyFile", $"{key}:AllowInsecureRemote"));
+            }
         }
         else if (!(address.StartsWith("ipc://", StringComparison.Ordinal) || address.StartsWith("inproc://", StringComparison.Ordinal)) || address.IndexOf("//", StringComparison.Ordinal) + 2 == address.Length)
         {

@@ -24,12 +24,15 @@ internal sealed class IngestSocketLoop : IDisposable
     private readonly int _endpointIndex;
     private readonly long _maxMessageBytes;
     private readonly ILogger _logger;
+    private readonly WarningThrottle _refusalThrottle;
+    private ClientKeyGate? _gate;
     private NetMQSocket? _socket;
     private Thread? _thread;
     private int _disposed;
 
-    public IngestSocketLoop(IngestEndpointOptions endpoint, int endpointIndex, long maxMessageBytes, ILogger logger)
+    public IngestSocketLoop(IngestEndpointOptions endpoint, int endpointIndex, long maxMessageBytes, ILogger logger, WarningThrottle refusalThrottle)
     {
+        _refusalThrottle = refusalThrottle;
         _endpoint = endpoint;
         _endpointIndex = endpointIndex;
         _maxMessageBytes = maxMessageBytes;
@@ -39,6 +42,9 @@ internal sealed class IngestSocketLoop : IDisposable
 
     /// <summary>The endpoint as bound (port resolved when the address used *) or as connected.</summary>
     public string Origin { get; private set; }
+
+    /// <summary>Messages refused for lack of a listed client key (0 without an allow-list).</summary>
+    public long ClientKeyRefusals => _gate?.RefusedCount ?? 0;
 
     /// <summary>Creates the socket and binds or connects it; throws <see cref="StartFailureException"/> naming the configuration key.</summary>
     public void Open()
@@ -56,9 +62,16 @@ internal sealed class IngestSocketLoop : IDisposable
                 throw new StartFailureException($"{key}:Curve:ServerKeyFile: {ex.Message}", ex);
             }
 
-            if (CurveKeyFile.IsReadableByOthers(curve.ServerKeyFile))
+            if (!string.IsNullOrWhiteSpace(curve.AllowedClientKeysFile))
             {
-                _logger.KeyFileTooOpen(curve.ServerKeyFile);
+                try
+                {
+                    _gate = new ClientKeyGate(ClientKeyAllowList.Read(curve.AllowedClientKeysFile), certificate);
+                }
+                catch (InvalidDataException ex)
+                {
+                    throw new StartFailureException($"{key}:Curve:AllowedClientKeysFile: {ex.Message}", ex);
+                }
             }
         }
 
@@ -101,7 +114,16 @@ internal sealed class IngestSocketLoop : IDisposable
 
         _socket = socket;
         _logger.SocketOpened(_endpoint.SocketType, _endpoint.Mode, Origin, _endpointIndex, certificate is not null);
-        if (_endpoint.Mode == IngestSocketMode.Bind && !IngestOptionsValidator.IsLocalOnly(_endpoint.Address))
+        if (_gate is not null)
+        {
+            _logger.ClientKeysLoaded(Origin, _gate.KeyCount, _endpoint.Curve!.AllowedClientKeysFile);
+        }
+
+        if (certificate is null && !IngestOptionsValidator.IsLocalOnly(_endpoint.Address))
+        {
+            _logger.InsecureRemote(Origin, $"{key}:AllowInsecureRemote", "send data to it", $"{key}:Curve:ServerKeyFile");
+        }
+        else if (_endpoint.Mode == IngestSocketMode.Bind && !IngestOptionsValidator.IsLocalOnly(_endpoint.Address))
         {
             _logger.NonLoopbackBind(Origin, _endpointIndex);
         }
@@ -121,6 +143,7 @@ internal sealed class IngestSocketLoop : IDisposable
             finally
             {
                 socket.Dispose();
+                _gate?.Dispose();
                 _logger.SocketClosed(Origin);
                 done.TrySetResult();
             }
@@ -148,12 +171,31 @@ internal sealed class IngestSocketLoop : IDisposable
                 _socket.Dispose();
                 _logger.SocketClosed(Origin);
             }
+
+            _gate?.Dispose();
         }
         else
         {
             // The owner thread sees the stopping token within one poll interval and disposes the socket itself.
             _thread.Join(TimeSpan.FromSeconds(5));
         }
+    }
+
+    /// <summary>True when the message's third frame proves a listed client key; a refusal is counted and logged (throttled).</summary>
+    private bool Admit(int frames, ReadOnlySpan<byte> proof)
+    {
+        var outcome = _gate!.Check(proof, present: frames == 3);
+        if (outcome == ClientKeyCheck.Allowed)
+        {
+            return true;
+        }
+
+        if (_refusalThrottle.ShouldWarn(Origin + "|client-key", out var suppressed))
+        {
+            _logger.ClientKeyRefused(Origin, $"{IngestOptions.SectionName}:Endpoints:{_endpointIndex}:Curve:AllowedClientKeysFile", outcome, _gate.RefusedCount, suppressed);
+        }
+
+        return false;
     }
 
     private void Receive(NetMQSocket socket, WireMessageHandler handler, CancellationToken stoppingToken)
@@ -193,7 +235,15 @@ internal sealed class IngestSocketLoop : IDisposable
                         more = extra.HasMore;
                     }
 
-                    handler(first.Slice(), frames >= 2 ? second.Slice() : default, frames, bytes, Origin);
+                    if (_gate is not null && !Admit(frames, extra.Slice()))
+                    {
+                        continue;
+                    }
+
+                    // With an allow-list the proof frame is ours, not the chunk's: the codec sees the two frames it expects.
+                    var chunkFrames = _gate is not null ? frames - 1 : frames;
+                    var chunkBytes = _gate is not null ? bytes - extra.Size : bytes;
+                    handler(first.Slice(), frames >= 2 ? second.Slice() : default, chunkFrames, chunkBytes, Origin);
                 }
                 catch (Exception ex) when (ex is not (TerminatingException or ObjectDisposedException))
                 {

@@ -54,6 +54,9 @@ internal sealed class SocketIngestService : BackgroundService
         }
     }
 
+    /// <summary>Messages refused on every socket for lack of a listed CURVE client key.</summary>
+    internal long ClientKeyRefusals => _loops.Sum(static loop => loop.ClientKeyRefusals);
+
     /// <summary>Binds and connects every socket before the host reports started, so a bad endpoint stops startup with a clear message.</summary>
     public override Task StartAsync(CancellationToken cancellationToken)
     {
@@ -64,7 +67,7 @@ internal sealed class SocketIngestService : BackgroundService
         {
             for (var i = 0; i < endpoints.Count; i++)
             {
-                var loop = new IngestSocketLoop(endpoints[i], i, _options.MaxMessageBytes, _logger);
+                var loop = new IngestSocketLoop(endpoints[i], i, _options.MaxMessageBytes, _logger, _rejectionThrottle);
                 loop.Open();
                 _loops.Add(loop);
             }

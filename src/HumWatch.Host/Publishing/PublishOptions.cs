@@ -12,6 +12,15 @@ public sealed class PublishOptions
     /// <summary>Binding to anything but loopback must be asked for explicitly (a warning is logged). The default is false.</summary>
     public bool AllowNonLoopback { get; set; }
 
+    /// <summary>
+    /// Must be true to bind a non-loopback address (including * and 0.0.0.0) without <see cref="Curve"/>: messages then
+    /// go out unencrypted to any subscriber that reaches the port. Logged as a warning. The default is false.
+    /// </summary>
+    public bool AllowInsecureRemote { get; set; }
+
+    /// <summary>Optional CurveZMQ encryption of the PUB socket (HumWatch is the CURVE server); null (the default) means plain TCP.</summary>
+    public PublishCurveOptions? Curve { get; set; }
+
     /// <summary>Seconds between status messages per stream. The default is 10 s.</summary>
     public double StatusIntervalSeconds { get; set; } = 10;
 
@@ -35,6 +44,16 @@ public sealed class PublishOptions
         else if (!IsLoopback(host) && !AllowNonLoopback)
         {
             errors.Add($"{prefix}:Endpoint {Endpoint} is not a loopback address; set {prefix}:AllowNonLoopback = true to publish beyond this machine.");
+        }
+
+        if (TryParseEndpoint(Endpoint, out var remoteHost, out _) && !IsLoopback(remoteHost) && Curve is null && !AllowInsecureRemote)
+        {
+            errors.Add(Security.RemoteEndpointRule.Refusal($"{prefix}:Endpoint", Endpoint, $"{prefix}:Curve:ServerKeyFile", $"{prefix}:AllowInsecureRemote"));
+        }
+
+        if (Curve is not null && string.IsNullOrWhiteSpace(Curve.ServerKeyFile))
+        {
+            errors.Add($"{prefix}:Curve:ServerKeyFile must name the server key pair file (JSON with publicKey and secretKey in Z85).");
         }
 
         if (!(StatusIntervalSeconds >= 1 && StatusIntervalSeconds <= 3600))
@@ -102,4 +121,11 @@ public sealed class PublishOptions
     /// <summary>True for localhost and loopback addresses (127.0.0.0/8, ::1).</summary>
     internal static bool IsLoopback(string host) =>
         host == "localhost" || (IPAddress.TryParse(host.Trim('[', ']'), out var address) && IPAddress.IsLoopback(address));
+}
+
+/// <summary>CurveZMQ settings of the publisher, which acts as the CURVE server; subscribers need its public key.</summary>
+public sealed class PublishCurveOptions
+{
+    /// <summary>Path of the server key pair file (JSON with Z85 "publicKey" and "secretKey"; mode 600 on Unix).</summary>
+    public string ServerKeyFile { get; set; } = string.Empty;
 }

@@ -43,7 +43,26 @@ internal sealed class ZmqPublisher : IMessagePublisher, IDisposable
             throw new ArgumentOutOfRangeException(nameof(options), options.Endpoint, "Publish:Endpoint is not a tcp://host:port endpoint.");
         }
 
+        NetMQCertificate? certificate = null;
+        if (options.Curve is { } curve)
+        {
+            try
+            {
+                certificate = Security.CurveKeyFile.ReadKeyPair(curve.ServerKeyFile);
+            }
+            catch (Exception ex) when (ex is InvalidDataException or IOException or UnauthorizedAccessException)
+            {
+                throw new StartFailureException($"Publish:Curve:ServerKeyFile: {ex.Message}", ex);
+            }
+        }
+
         _socket = new PublisherSocket();
+        if (certificate is not null)
+        {
+            _socket.Options.CurveServer = true;
+            _socket.Options.CurveCertificate = certificate;
+        }
+
         _socket.Options.Linger = TimeSpan.FromMilliseconds(options.LingerMs);
         _socket.Options.SendHighWatermark = options.SendHighWaterMark;
         try
@@ -65,13 +84,14 @@ internal sealed class ZmqPublisher : IMessagePublisher, IDisposable
             throw StartFailureException.ForSocket("Publish:Endpoint", options.Endpoint, "bind", ex);
         }
 
-        if (PublishOptions.IsLoopback(host))
+        if (PublishOptions.IsLoopback(host) || certificate is not null)
         {
             _logger.PublisherBound(Endpoint);
         }
         else
         {
-            _logger.PublisherNotLoopback(Endpoint);
+            // One warning at start: the operator set Publish:AllowInsecureRemote and should see what it means.
+            Security.SecurityLog.InsecureRemote(_logger, Endpoint, "Publish:AllowInsecureRemote", "subscribe and read every message", "Publish:Curve:ServerKeyFile");
         }
 
         _queue = new NetMQQueue<(string Topic, byte[] Body)>();

@@ -74,6 +74,8 @@ public static class CurveKeyFile
             throw new InvalidDataException($"CURVE key file '{path}' has no \"secretKey\"; the server needs its full key pair.");
         }
 
+        EnsureOwnerOnly(path);
+
         NetMQCertificate certificate;
         try
         {
@@ -111,18 +113,41 @@ public static class CurveKeyFile
         !OperatingSystem.IsWindows() &&
         (File.GetUnixFileMode(path) & (UnixFileMode.GroupRead | UnixFileMode.OtherRead)) != 0;
 
-    private static (string? PublicKey, string? SecretKey) ReadKeys(string path)
+    /// <summary>
+    /// Refuses a secret key file that its group or other users can read: anyone holding the secret can pose as this
+    /// server. Windows has no Unix mode bits (its ACLs are left to the administrator), so the check is skipped there.
+    /// </summary>
+    /// <exception cref="InvalidDataException">The file is readable by others; the message names the file, its mode and the fix.</exception>
+    public static void EnsureOwnerOnly(string path)
+    {
+        if (OperatingSystem.IsWindows() || !IsReadableByOthers(path))
+        {
+            return;
+        }
+
+        var mode = Convert.ToString((int)File.GetUnixFileMode(path), 8).PadLeft(4, '0');
+        throw new InvalidDataException(
+            $"CURVE key file '{path}' holds a secret key but has mode {mode}, readable by its group or other users; " +
+            $"restrict it to the service account with `chmod 600 {path}` (humwatch keys new writes 0600).");
+    }
+
+    /// <summary>Reads a key-related file; a missing or unreadable one becomes an error naming it as <paramref name="what"/>.</summary>
+    internal static T ReadAll<T>(string path, string what, Func<string, T> read)
     {
         ArgumentException.ThrowIfNullOrWhiteSpace(path);
-        byte[] bytes;
         try
         {
-            bytes = File.ReadAllBytes(path);
+            return read(path);
         }
         catch (Exception ex) when (ex is IOException or UnauthorizedAccessException)
         {
-            throw new InvalidDataException($"CURVE key file '{path}' cannot be read: {ex.Message}", ex);
+            throw new InvalidDataException($"{what} '{path}' cannot be read: {ex.Message}", ex);
         }
+    }
+
+    private static (string? PublicKey, string? SecretKey) ReadKeys(string path)
+    {
+        var bytes = ReadAll(path, "CURVE key file", File.ReadAllBytes);
 
         string? publicKey = null;
         string? secretKey = null;

@@ -8,7 +8,7 @@ internal static class KeysCommand
 {
     public static Command Create()
     {
-        var file = new Argument<string>("file") { Description = "Key pair file to write, e.g. /etc/humwatch/ingest-server.key (set it as Ingest:Endpoints:N:Curve:ServerKeyFile)." };
+        var file = new Argument<string>("file") { Description = "Key pair file to write, e.g. /etc/humwatch/ingest-server.key (set it as Ingest:Endpoints:N:Curve:ServerKeyFile or Publish:Curve:ServerKeyFile)." };
         var force = new Option<bool>("--force") { Description = "Replace a file that already exists." };
         var create = new Command("new", "Writes a new CurveZMQ key pair as JSON {\"publicKey\", \"secretKey\"} (owner read/write only on Unix) and prints its public key for the senders.")
         {
@@ -16,7 +16,7 @@ internal static class KeysCommand
             force,
         };
         create.SetAction(parse => New(parse.GetValue(file)!, parse.GetValue(force), Console.Out, Console.Error));
-        return new Command("keys", "Makes CurveZMQ key files for encrypted ingest (see docs/protocol.md).") { create };
+        return new Command("keys", "Makes CurveZMQ key files for encrypted ingest and publishing (see docs/protocol.md).") { create };
     }
 
     /// <summary>Writes the key pair; returns the exit code.</summary>
@@ -39,6 +39,7 @@ internal static class KeysCommand
             var certificate = CurveKeyFile.Create(path);
             stdout.WriteLine($"Wrote a CurveZMQ key pair to {path} (keep it secret: readable by its owner only).");
             stdout.WriteLine($"Public key for the senders' curve_serverkey: {certificate.PublicKeyZ85}");
+            stdout.WriteLine("For a sender's own key pair, add that public key as one line of the server's Curve:AllowedClientKeysFile.");
             return ExitCodes.Ok;
         }
         catch (Exception ex) when (ex is IOException or UnauthorizedAccessException)

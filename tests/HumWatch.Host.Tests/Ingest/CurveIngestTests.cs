@@ -51,6 +51,111 @@ public sealed class CurveIngestTests
     }
 
     [Fact]
+    public async Task With_an_allow_list_only_a_sender_proving_a_listed_client_key_is_accepted()
+    {
+        using var temp = new TempFolder();
+        var keyFile = Path.Combine(temp.Path, "ingest.key");
+        var server = CurveKeyFile.Create(keyFile);
+        var listed = new NetMQCertificate();
+        var unlisted = new NetMQCertificate();
+        var allowFile = temp.WriteText("senders.keys", $"# ward 3 amplifier PC\n{listed.PublicKeyZ85}   # added by the lab\n\n");
+        await using var harness = new IngestHarness(IngestHarness.LoopbackOptions(e =>
+            e.Curve = new IngestCurveOptions { ServerKeyFile = keyFile, AllowedClientKeysFile = allowFile }));
+        await harness.StartAsync();
+        var layout = Some.Layout(250, "Pz");
+
+        // Both senders pass the CURVE handshake (they know the server key); only the message check tells them apart.
+        using var stranger = CurvePush(unlisted, server, harness.Endpoint);
+        stranger.SendMultipartBytes([.. Frames("stranger", layout), ClientKeyProof.Create(unlisted, server.PublicKey)]);
+
+        // Claims the listed public key but cannot make its box without the listed secret key.
+        var forged = ClientKeyProof.Create(unlisted, server.PublicKey);
+        listed.PublicKey.CopyTo(forged, 0);
+        stranger.SendMultipartBytes([.. Frames("forger", layout), forged]);
+
+        // A sender that knows nothing of the allow-list sends the plain two frames.
+        stranger.SendMultipartBytes(Frames("unproved", layout));
+
+        using var member = CurvePush(listed, server, harness.Endpoint);
+        member.SendMultipartBytes([.. Frames("member", layout), ClientKeyProof.Create(listed, server.PublicKey)]);
+
+        var chunk = Assert.Single(await harness.ReadAsync(1));
+        Assert.Equal("member", chunk.StreamId);
+        await IngestHarness.WaitUntilAsync(() => harness.Service.ClientKeyRefusals == 3, "three refused messages");
+        Assert.Null(harness.Counters.Get("stranger"));
+        Assert.Null(harness.Counters.Get("forger"));
+        Assert.Null(harness.Counters.Get("unproved"));
+        Assert.Equal(1, harness.Counters.Get("member")!.Accepted);
+        Assert.Equal(0, harness.Queue.Count);
+
+        // Refusals are logged once per warning interval with a running count (the fake clock does not move here).
+        var refusal = Assert.Single(harness.ServiceLogger.Entries, e => e.EventId.Id == 1201);
+        Assert.Contains("Ingest:Endpoints:0:Curve:AllowedClientKeysFile", refusal.Message, StringComparison.Ordinal);
+        Assert.Contains(harness.ServiceLogger.Entries, e => e.EventId.Id == 1202 && e.Message.Contains(allowFile, StringComparison.Ordinal));
+    }
+
+    [Fact]
+    public async Task A_bad_allow_list_or_an_open_server_key_file_stops_startup_naming_the_setting_and_the_file()
+    {
+        using var temp = new TempFolder();
+        var keyFile = Path.Combine(temp.Path, "ingest.key");
+        CurveKeyFile.Create(keyFile);
+        var allowFile = temp.WriteText("senders.keys", "# nothing yet\nnot-a-key\n");
+        await using (var harness = new IngestHarness(IngestHarness.LoopbackOptions(e =>
+            e.Curve = new IngestCurveOptions { ServerKeyFile = keyFile, AllowedClientKeysFile = allowFile })))
+        {
+            var ex = await Assert.ThrowsAsync<StartFailureException>(() => harness.Service.StartAsync(CancellationToken.None));
+            Assert.Contains("Ingest:Endpoints:0:Curve:AllowedClientKeysFile", ex.Message, StringComparison.Ordinal);
+            Assert.Contains($"'{allowFile}' line 2", ex.Message, StringComparison.Ordinal);
+        }
+
+        if (OperatingSystem.IsWindows())
+        {
+            return; // no Unix mode bits to check
+        }
+
+        File.SetUnixFileMode(keyFile, UnixFileMode.UserRead | UnixFileMode.UserWrite | UnixFileMode.OtherRead);
+        await using (var harness = new IngestHarness(IngestHarness.LoopbackOptions(e => e.Curve = new IngestCurveOptions { ServerKeyFile = keyFile })))
+        {
+            var ex = await Assert.ThrowsAsync<StartFailureException>(() => harness.Service.StartAsync(CancellationToken.None));
+            Assert.Contains("Ingest:Endpoints:0:Curve:ServerKeyFile", ex.Message, StringComparison.Ordinal);
+            Assert.Contains("mode 0604", ex.Message, StringComparison.Ordinal);
+            Assert.Contains($"chmod 600 {keyFile}", ex.Message, StringComparison.Ordinal);
+        }
+    }
+
+    [Fact]
+    public async Task An_off_host_endpoint_with_the_insecure_flag_starts_and_warns_once()
+    {
+        // Connect mode to a TEST-NET-1 address (RFC 5737, never routed): ZeroMQ connects in the background, so the
+        // socket opens without anything listening and nothing here is reachable from other hosts.
+        var options = new IngestOptions();
+        options.Endpoints.Add(new IngestEndpointOptions { Address = "tcp://192.0.2.1:5710", Mode = IngestSocketMode.Connect, AllowInsecureRemote = true });
+        await using var harness = new IngestHarness(options);
+
+        await harness.StartAsync();
+
+        var warning = Assert.Single(harness.ServiceLogger.Entries, e => e.Level == Microsoft.Extensions.Logging.LogLevel.Warning);
+        Assert.Equal(1200, warning.EventId.Id);
+        Assert.Contains("tcp://192.0.2.1:5710", warning.Message, StringComparison.Ordinal);
+        Assert.Contains("Ingest:Endpoints:0:AllowInsecureRemote", warning.Message, StringComparison.Ordinal);
+        Assert.Contains("Ingest:Endpoints:0:Curve:ServerKeyFile", warning.Message, StringComparison.Ordinal);
+    }
+
+    private static PushSocket CurvePush(NetMQCertificate client, NetMQCertificate server, string endpoint)
+    {
+        var push = new PushSocket();
+        push.Options.Linger = TimeSpan.FromSeconds(5);
+        push.Options.CurveServerKey = server.PublicKey;
+        push.Options.CurveCertificate = client;
+        push.Connect(endpoint);
+        return push;
+    }
+
+    private static byte[][] Frames(string streamId, HumWatch.Core.Signals.StreamLayout layout) =>
+        SocketIngestServiceTests.Frames(ChunkWireCodec.Encode(streamId, Some.Chunk(layout, 0, 10, 0)));
+
+    [Fact]
     public async Task Missing_key_file_stops_startup_naming_the_key()
     {
         using var temp = new TempFolder();

@@ -59,6 +59,8 @@ public sealed class IngestOptionsTests
             ["Ingest:Endpoints:1:Mode"] = "Connect",
             ["Ingest:Endpoints:1:SocketType"] = "Sub",
             ["Ingest:Endpoints:1:SubscribePrefix"] = "{\"v\":1,\"stream\":\"ward-",
+            ["Ingest:Endpoints:1:AllowInsecureRemote"] = "true", // off-host without CURVE: must be asked for by name
+            ["Ingest:Endpoints:0:Curve:AllowedClientKeysFile"] = "/etc/humwatch/senders.keys",
             ["Ingest:QueueCapacity"] = "64",
             ["Ingest:BufferBytes"] = "33554432",
         });
@@ -68,11 +70,55 @@ public sealed class IngestOptionsTests
         Assert.Equal(2, options.Endpoints.Count);
         Assert.True(options.Endpoints[0].AllowNonLoopback);
         Assert.Equal("/etc/humwatch/ingest.key", options.Endpoints[0].Curve!.ServerKeyFile);
+        Assert.Equal("/etc/humwatch/senders.keys", options.Endpoints[0].Curve!.AllowedClientKeysFile);
+        Assert.False(options.Endpoints[0].AllowInsecureRemote);
+        Assert.True(options.Endpoints[1].AllowInsecureRemote);
         Assert.Equal(IngestSocketType.Sub, options.Endpoints[1].SocketType);
         Assert.Equal(IngestSocketMode.Connect, options.Endpoints[1].Mode);
         Assert.Equal(64, provider.GetRequiredService<IngestQueue>().Capacity);
         Assert.Equal(32L * 1024 * 1024, provider.GetRequiredService<SampleBufferPool>().BudgetBytes);
     }
+
+    [Theory]
+    [InlineData("tcp://0.0.0.0:5710", "Bind")]
+    [InlineData("tcp://*:5710", "Bind")]
+    [InlineData("tcp://192.168.1.20:5710", "Bind")]
+    [InlineData("tcp://192.0.2.7:6000", "Connect")]
+    [InlineData("tcp://sender-host:6000", "Connect")]
+    public void An_off_host_endpoint_without_CURVE_keys_is_refused_naming_the_endpoint_the_key_setting_and_the_insecure_flag(string address, string mode)
+    {
+        var settings = new Dictionary<string, string?>
+        {
+            ["Ingest:Endpoints:0:Address"] = address,
+            ["Ingest:Endpoints:0:Mode"] = mode,
+            ["Ingest:Endpoints:0:AllowNonLoopback"] = "true",
+        };
+
+        var ex = Assert.Throws<ConfigurationException>(() => Build(settings));
+
+        Assert.Contains($"Ingest:Endpoints:0:Address '{address}' is reachable from other hosts but has no CURVE keys", ex.Message, StringComparison.Ordinal);
+        Assert.Contains("Set Ingest:Endpoints:0:Curve:ServerKeyFile", ex.Message, StringComparison.Ordinal);
+        Assert.Contains("Ingest:Endpoints:0:AllowInsecureRemote = true", ex.Message, StringComparison.Ordinal);
+
+        settings["Ingest:Endpoints:0:AllowInsecureRemote"] = "true";
+        using var accepted = Build(settings);
+        Assert.True(accepted.GetRequiredService<IOptions<IngestOptions>>().Value.Endpoints[0].AllowInsecureRemote);
+
+        settings.Remove("Ingest:Endpoints:0:AllowInsecureRemote");
+        settings["Ingest:Endpoints:0:Curve:ServerKeyFile"] = "/etc/humwatch/ingest.key";
+        using var encrypted = Build(settings);
+        Assert.NotNull(encrypted.GetRequiredService<IOptions<IngestOptions>>().Value.Endpoints[0].Curve);
+    }
+
+    [Theory]
+    [InlineData("tcp://127.0.0.1:5710")]
+    [InlineData("tcp://127.8.9.10:5710")]
+    [InlineData("tcp://localhost:5710")]
+    [InlineData("tcp://[::1]:5710")]
+    [InlineData("ipc:///tmp/humwatch-ingest.sock")]
+    [InlineData("inproc://humwatch-ingest")]
+    public void Loopback_and_local_transports_need_no_keys_and_no_flag(string address) =>
+        Assert.True(new IngestOptionsValidator().Validate(null, WithEndpoint(address)).Succeeded);
 
     [Fact]
     public void A_buffer_budget_equal_to_the_message_limit_is_valid()
@@ -102,6 +148,13 @@ public sealed class IngestOptionsTests
 
         Assert.Contains("Ingest", ex.Message, StringComparison.Ordinal);
         Assert.Contains("QueueCapasity", ex.Message, StringComparison.Ordinal);
+    }
+
+    private static IngestOptions WithEndpoint(string address)
+    {
+        var options = new IngestOptions();
+        options.Endpoints.Add(new IngestEndpointOptions { Address = address });
+        return options;
     }
 
     private static ServiceProvider Build(Dictionary<string, string?> settings)

@@ -136,9 +136,65 @@ public sealed class ZmqPublisherTests
     [InlineData("tcp://not a host:1", true, false)]
     public void Endpoint_validation_keeps_loopback_unless_told_otherwise(string endpoint, bool allowNonLoopback, bool valid)
     {
-        var errors = new PublishOptions { Endpoint = endpoint, AllowNonLoopback = allowNonLoopback }.Validate();
+        // Off-host without CURVE also needs the insecure flag (see the test below); here both come together.
+        var errors = new PublishOptions { Endpoint = endpoint, AllowNonLoopback = allowNonLoopback, AllowInsecureRemote = allowNonLoopback }.Validate();
         Assert.Equal(valid, errors.Count == 0);
         Assert.All(errors, e => Assert.StartsWith("Publish:Endpoint", e, StringComparison.Ordinal));
+    }
+
+    [Theory]
+    [InlineData("tcp://*:5711")]
+    [InlineData("tcp://0.0.0.0:5711")]
+    [InlineData("tcp://192.0.2.10:0")]
+    public void Publishing_off_host_without_CURVE_keys_needs_the_insecure_flag_by_name(string endpoint)
+    {
+        var refused = new PublishOptions { Endpoint = endpoint, AllowNonLoopback = true }.Validate();
+
+        var error = Assert.Single(refused);
+        Assert.StartsWith($"Publish:Endpoint '{endpoint}' is reachable from other hosts but has no CURVE keys", error, StringComparison.Ordinal);
+        Assert.Contains("Publish:Curve:ServerKeyFile", error, StringComparison.Ordinal);
+        Assert.Contains("Publish:AllowInsecureRemote = true", error, StringComparison.Ordinal);
+        Assert.Empty(new PublishOptions { Endpoint = endpoint, AllowNonLoopback = true, AllowInsecureRemote = true }.Validate());
+        Assert.Empty(new PublishOptions { Endpoint = endpoint, AllowNonLoopback = true, Curve = new PublishCurveOptions { ServerKeyFile = "/etc/humwatch/publish.key" } }.Validate());
+        Assert.Contains(
+            new PublishOptions { Endpoint = endpoint, AllowNonLoopback = true, Curve = new PublishCurveOptions() }.Validate(),
+            e => e.StartsWith("Publish:Curve:ServerKeyFile must name", StringComparison.Ordinal));
+    }
+
+    [Fact]
+    public void A_CURVE_publisher_delivers_to_a_subscriber_holding_its_public_key_and_refuses_a_key_file_readable_by_others()
+    {
+        using var temp = new TempFolder();
+        var keyFile = Path.Combine(temp.Path, "publish.key");
+        var server = HumWatch.Host.Security.CurveKeyFile.Create(keyFile);
+        var logger = new RecordingLogger<ZmqPublisher>();
+        using (var publisher = new ZmqPublisher(new PublishOptions { Endpoint = "tcp://127.0.0.1:0", LingerMs = 0, Curve = new PublishCurveOptions { ServerKeyFile = keyFile } }, logger))
+        using (var subscriber = new SubscriberSocket())
+        {
+            subscriber.Options.CurveServerKey = server.PublicKey;
+            subscriber.Options.CurveCertificate = new NetMQCertificate();
+            subscriber.Connect(publisher.Endpoint);
+            subscriber.Subscribe("");
+
+            // PUB drops messages until the subscription arrives (ZeroMQ's slow joiner); probe until one gets through.
+            (string Topic, byte[] Body)? received = null;
+            for (var attempt = 0; attempt < 100 && received is null; attempt++)
+            {
+                publisher.TryPublish("status", "probe", [1]);
+                received = TryReceive(subscriber);
+            }
+
+            Assert.Equal("status/probe", received?.Topic);
+        }
+
+        Assert.DoesNotContain(logger.Entries, e => e.Level == LogLevel.Warning);
+        if (!OperatingSystem.IsWindows())
+        {
+            File.SetUnixFileMode(keyFile, UnixFileMode.UserRead | UnixFileMode.UserWrite | UnixFileMode.GroupRead | UnixFileMode.OtherRead);
+            var ex = Assert.Throws<StartFailureException>(() => new ZmqPublisher(new PublishOptions { Endpoint = "tcp://127.0.0.1:0", Curve = new PublishCurveOptions { ServerKeyFile = keyFile } }, logger));
+            Assert.StartsWith("Publish:Curve:ServerKeyFile: ", ex.Message, StringComparison.Ordinal);
+            Assert.Contains("mode 0644", ex.Message, StringComparison.Ordinal);
+        }
     }
 
     [Fact]

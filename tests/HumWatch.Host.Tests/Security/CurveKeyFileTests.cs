@@ -37,7 +37,7 @@ public sealed class CurveKeyFileTests : IDisposable
         // zmq_curve(7) test key pair (from memory): the server's Z85 secret and public key.
         const string secretZ85 = "JTKVSB%%)wK0E.X)V>+}o?pNmC{O&4W4b!Ni{Lh6";
         const string publicZ85 = "rq:rM>}U?@Lns47E1%kR.o@n%FcmmsL/@{H8]yf7";
-        var path = _temp.WriteText("secret-only.key", $$"""{ "secretKey": {{Quoted(secretZ85)}} }""");
+        var path = OwnerOnly(_temp.WriteText("secret-only.key", $$"""{ "secretKey": {{Quoted(secretZ85)}} }"""));
 
         Assert.Equal(publicZ85, CurveKeyFile.ReadPublicKey(path));
         Assert.Equal(publicZ85, CurveKeyFile.ReadKeyPair(path).PublicKeyZ85);
@@ -81,7 +81,7 @@ public sealed class CurveKeyFileTests : IDisposable
     {
         var mine = new NetMQCertificate();
         var other = new NetMQCertificate();
-        var path = _temp.WriteText("mixed.key", $$"""{ "publicKey": {{Quoted(other.PublicKeyZ85)}}, "secretKey": {{Quoted(mine.SecretKeyZ85!)}} }""");
+        var path = OwnerOnly(_temp.WriteText("mixed.key", $$"""{ "publicKey": {{Quoted(other.PublicKeyZ85)}}, "secretKey": {{Quoted(mine.SecretKeyZ85!)}} }"""));
 
         var ex = Assert.Throws<InvalidDataException>(() => CurveKeyFile.ReadKeyPair(path));
 
@@ -98,6 +98,43 @@ public sealed class CurveKeyFileTests : IDisposable
 
         Assert.Contains(path, ex.Message, StringComparison.Ordinal);
         Assert.Contains("cannot be read", ex.Message, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void A_secret_key_file_readable_by_group_or_others_is_refused_naming_the_file_its_mode_and_chmod_600()
+    {
+        if (OperatingSystem.IsWindows())
+        {
+            return; // Windows files have no Unix mode bits; the check is skipped there by design.
+        }
+
+        var path = _temp.File("open.key");
+        CurveKeyFile.Create(path);
+        File.SetUnixFileMode(path, UnixFileMode.UserRead | UnixFileMode.UserWrite | UnixFileMode.GroupRead | UnixFileMode.OtherRead);
+
+        var ex = Assert.Throws<InvalidDataException>(() => CurveKeyFile.ReadKeyPair(path));
+
+        Assert.Contains($"'{path}'", ex.Message, StringComparison.Ordinal);
+        Assert.Contains("mode 0644", ex.Message, StringComparison.Ordinal);
+        Assert.Contains($"chmod 600 {path}", ex.Message, StringComparison.Ordinal);
+
+        File.SetUnixFileMode(path, UnixFileMode.UserRead | UnixFileMode.UserWrite | UnixFileMode.GroupRead);
+        Assert.Contains("mode 0640", Assert.Throws<InvalidDataException>(() => CurveKeyFile.ReadKeyPair(path)).Message, StringComparison.Ordinal);
+
+        // A public key is meant to be handed out: the sender-side reader does not mind the mode.
+        Assert.Equal(40, CurveKeyFile.ReadPublicKey(path).Length);
+        File.SetUnixFileMode(path, UnixFileMode.UserRead | UnixFileMode.UserWrite);
+        Assert.NotNull(CurveKeyFile.ReadKeyPair(path));
+    }
+
+    private static string OwnerOnly(string path)
+    {
+        if (!OperatingSystem.IsWindows())
+        {
+            File.SetUnixFileMode(path, UnixFileMode.UserRead | UnixFileMode.UserWrite);
+        }
+
+        return path;
     }
 
     // Z85's alphabet has no quote or backslash (ZeroMQ RFC 32), but quoting through the serializer keeps the JSON valid regardless.
