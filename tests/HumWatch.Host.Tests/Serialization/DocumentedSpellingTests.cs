@@ -11,10 +11,7 @@ namespace HumWatch.Host.Tests.Serialization;
 
 public sealed class DocumentedSpellingTests
 {
-    private static readonly JsonSerializerOptions Json = new()
-    {
-        Converters = { new VerdictJsonConverter(), new DayVerdictJsonConverter(), new AlertSeverityJsonConverter(), new FindingCategoryJsonConverter(), new FindingKeyJsonConverter() },
-    };
+    private static readonly JsonSerializerOptions Json = TextFormConverterTests.Options;
 
     [Fact]
     public void Every_verdict_is_written_as_its_documented_text_and_reads_back()

@@ -10,7 +10,8 @@ namespace HumWatch.Host.Tests.Serialization;
 
 public sealed class TextFormConverterTests
 {
-    private static readonly JsonSerializerOptions Options = new()
+    /// <summary>Every text-form converter the service registers; the documented-spelling tests use the same set.</summary>
+    internal static readonly JsonSerializerOptions Options = new()
     {
         Converters = { new VerdictJsonConverter(), new DayVerdictJsonConverter(), new AlertSeverityJsonConverter(), new FindingCategoryJsonConverter(), new FindingKeyJsonConverter() },
     };
