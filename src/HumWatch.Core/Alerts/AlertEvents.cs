@@ -23,18 +23,25 @@ public enum AlertClearReason
 
     /// <summary>The stream (or file) ended while the alert was active.</summary>
     StreamEnded,
+
+    /// <summary>
+    /// The service stopped without closing the alert (killed, crashed, power lost); the next start closed it, at the
+    /// last moment the stream is known to have been watched.
+    /// </summary>
+    ServiceRestarted,
 }
 
 /// <summary>Text forms of <see cref="AlertClearReason"/>.</summary>
 public static class AlertClearReasonText
 {
-    /// <summary>The table: "subsided", "stream ended" (an undefined value is written "subsided").</summary>
+    /// <summary>The table: "subsided", "stream ended", "service restarted" (an undefined value is written "subsided").</summary>
     public static TextForms<AlertClearReason> Forms { get; } = new(
         AlertClearReason.Subsided,
         (AlertClearReason.Subsided, "subsided"),
-        (AlertClearReason.StreamEnded, "stream ended"));
+        (AlertClearReason.StreamEnded, "stream ended"),
+        (AlertClearReason.ServiceRestarted, "service restarted"));
 
-    /// <summary>"subsided" or "stream ended".</summary>
+    /// <summary>"subsided", "stream ended" or "service restarted".</summary>
     public static string ToText(this AlertClearReason reason) => Forms.ToText(reason);
 
     /// <summary>Parses the text form; unknown text gives false.</summary>

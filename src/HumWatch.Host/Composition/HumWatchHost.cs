@@ -102,6 +102,9 @@ public static class HumWatchHost
         // Hosted services stop in reverse order: ingest (added last) stops taking input first, then the inbox, then
         // the stream monitors drain what they hold and close their alerts, then the ledger writer writes the last rows.
         services.AddHostedService(sp => sp.GetRequiredService<LedgerWriter>());
+
+        // Before anything is analysed: the alerts an unclean stop left open are closed first.
+        services.AddHostedService<UnclosedAlertCloser>();
         services.AddSingleton<StreamMonitorService>();
         services.AddHostedService(sp => sp.GetRequiredService<StreamMonitorService>());
         services.AddSingleton<InboxService>();

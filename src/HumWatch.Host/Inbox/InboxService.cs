@@ -190,6 +190,9 @@ internal sealed class InboxService : BackgroundService
         }
 
         var checker = new RecordingChecker(_sessions.Analysis, _limits);
+
+        // A second attempt replays what the interrupted one already stored; the filter keeps it from doing so twice.
+        var recheck = entry.Attempts > 1 ? new StoredEventFilter(_store.Alerts, _sessions.AlertSink) : null;
         DateTimeOffset? recordingStartUtc = null;
         var sessions = new List<StreamSession>();
         var report = checker.Check(
@@ -199,7 +202,7 @@ internal sealed class InboxService : BackgroundService
             {
                 // Read inside the check, and once: a read failure here becomes the file's error report.
                 recordingStartUtc ??= RecordingStartUtc(file);
-                var session = _sessions.CreateForFileGroup(streamId, sha256, group, recordingStartUtc.Value, groupReport);
+                var session = _sessions.CreateForFileGroup(streamId, sha256, group, recordingStartUtc.Value, groupReport, recheck);
                 sessions.Add(session);
                 return session;
             },
@@ -212,6 +215,10 @@ internal sealed class InboxService : BackgroundService
 
         // The file's minute rows reach the store (or the writer's retry backlog) before its journal entry is completed.
         _ledger.Flush();
+        if (recheck is not null)
+        {
+            _logger.RecheckSkipped(file.FullName, recheck.Skipped);
+        }
 
         if (report.Error is not null)
         {

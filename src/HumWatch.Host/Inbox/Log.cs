@@ -22,4 +22,7 @@ internal static partial class InboxLog
 
     [LoggerMessage(EventId = 4006, Level = LogLevel.Error, Message = "Inbox: scanning {Folder} failed")]
     public static partial void ScanFailed(this ILogger logger, Exception exception, string folder);
+
+    [LoggerMessage(EventId = 4007, Level = LogLevel.Information, Message = "Inbox: {File} is checked again after an interrupted attempt; {Skipped} alert event(s) already stored were not stored or published again")]
+    public static partial void RecheckSkipped(this ILogger logger, string file, int skipped);
 }

@@ -25,4 +25,10 @@ internal static partial class MonitoringLog
 
     [LoggerMessage(EventId = 3208, Level = LogLevel.Error, Message = "Status publishing failed; it will be tried again at the next interval")]
     public static partial void StatusFailed(this ILogger logger, Exception exception);
+
+    [LoggerMessage(EventId = 3209, Level = LogLevel.Warning, Message = "Start: {Count} alert(s) left open by an unclean stop were closed (reason \"service restarted\") at the last time their streams were watched")]
+    public static partial void UnclosedAlertsClosed(this ILogger logger, int count);
+
+    [LoggerMessage(EventId = 3210, Level = LogLevel.Error, Message = "Start: the alerts an unclean stop left open could not be read from the store; they stay open")]
+    public static partial void UnclosedAlertsFailed(this ILogger logger, Exception exception);
 }

@@ -17,7 +17,11 @@ internal sealed class StreamMonitor : IAsyncDisposable
     private readonly Channel<MonitorItem> _queue;
     private readonly StreamSessionFactory _sessions;
     private readonly MonitorOptions _options;
+    /// <summary>Shortest interval between two gap lines of one stream.</summary>
+    private static readonly TimeSpan GapLogInterval = TimeSpan.FromSeconds(10);
+
     private readonly TimeProvider _time;
+    private long _lastGapLogTicks;
     private readonly ILogger _logger;
     private readonly Task _worker;
     private StreamAnalyzer? _analyzer;
@@ -153,7 +157,14 @@ internal sealed class StreamMonitor : IAsyncDisposable
         if (analyzer.GapCount != _lastGapCount)
         {
             _lastGapCount = analyzer.GapCount;
-            _logger.GapDetected(StreamId, _lastGapCount);
+
+            // The first gap, then at most one line per interval: the count in the line says how many came between.
+            var now = _time.GetTimestamp();
+            if (_lastGapLogTicks == 0 || _time.GetElapsedTime(_lastGapLogTicks, now) >= GapLogInterval)
+            {
+                _lastGapLogTicks = now;
+                _logger.GapDetected(StreamId, _lastGapCount);
+            }
         }
     }
 

@@ -33,7 +33,7 @@ internal sealed class StreamSession : IAnalysisFrameSink
     /// <param name="sessionId">Ledger session id; it repeats for the same input (a file's hash) so a re-run is not counted twice.</param>
     /// <param name="recordingStartUtc">UTC time of sample 0 when the source has no per-chunk times (files); null for live streams.</param>
     /// <param name="report">A check report's accumulator that gets the same frames (dropped files); null for none.</param>
-    internal StreamSession(StreamSessionFactory outputs, string streamId, string sessionId, StreamLayout layout, DateTimeOffset? recordingStartUtc, RecordingAccumulator? report)
+    internal StreamSession(StreamSessionFactory outputs, string streamId, string sessionId, StreamLayout layout, DateTimeOffset? recordingStartUtc, RecordingAccumulator? report, IAlertEventSink? alertSink = null)
     {
         ArgumentNullException.ThrowIfNull(layout);
         StreamId = streamId;
@@ -50,7 +50,7 @@ internal sealed class StreamSession : IAnalysisFrameSink
             _spectrumSink = spectrumSink;
         }
 
-        _alertSink = outputs.AlertSink;
+        _alertSink = alertSink ?? outputs.AlertSink;
         _rowSink = outputs.RowSink;
         _clock = outputs.Time.GetUtcNow;
         _recordingStartUtc = recordingStartUtc;

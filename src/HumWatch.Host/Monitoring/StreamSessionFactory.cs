@@ -74,13 +74,14 @@ internal sealed class StreamSessionFactory
     /// "{stream}.{rate}hz". Frames are placed in time from <paramref name="recordingStartUtc"/> (the file's sample 0).
     /// </summary>
     /// <param name="report">The check report's accumulator for this group; the session hands it every frame first.</param>
-    public StreamSession CreateForFileGroup(string streamId, string sha256, SignalGroup group, DateTimeOffset recordingStartUtc, RecordingAccumulator? report)
+    /// <param name="alertSink">Where this session's alert events go instead of the factory's sink (a re-checked file's filter); null for the usual.</param>
+    public StreamSession CreateForFileGroup(string streamId, string sha256, SignalGroup group, DateTimeOffset recordingStartUtc, RecordingAccumulator? report, IAlertEventSink? alertSink = null)
     {
         ArgumentException.ThrowIfNullOrWhiteSpace(streamId);
         ArgumentException.ThrowIfNullOrWhiteSpace(sha256);
         ArgumentNullException.ThrowIfNull(group);
         var groupStream = GroupStreamId(streamId, group);
-        return new StreamSession(this, groupStream, $"file:{sha256}:{group.Index}", group.Layout, recordingStartUtc, report);
+        return new StreamSession(this, groupStream, $"file:{sha256}:{group.Index}", group.Layout, recordingStartUtc, report, alertSink);
     }
 
     /// <summary>Stream name of a file's signal group: the stream itself for the first group, "{stream}.{rate}hz" for the others.</summary>

@@ -69,6 +69,69 @@ internal sealed class AlertTable(StoreConnection connection) : IAlertEventStore
         return Sql.ReadAll(command, Read);
     });
 
+    /// <summary>
+    /// Alerts whose last stored event is not a clear: after an unclean stop, the alerts that stop left open. Each comes
+    /// with its events from the raise on, oldest first.
+    /// </summary>
+    public IReadOnlyList<IReadOnlyList<StoredAlert>> Unclosed() => connection.Run(c =>
+    {
+        using var last = Sql.Command(c, """
+            SELECT a.stream, a.key, a.id
+            FROM alerts a
+            JOIN (SELECT stream, key, max(id) AS id FROM alerts GROUP BY stream, key) newest ON newest.id = a.id
+            WHERE a.event <> 'cleared'
+            ORDER BY a.id
+            """);
+        var open = Sql.ReadAll(last, static reader => (Stream: reader.GetString(0), Key: reader.GetString(1), LastId: reader.GetInt64(2)));
+        var result = new List<IReadOnlyList<StoredAlert>>(open.Count);
+        foreach (var (stream, key, lastId) in open)
+        {
+            using var events = Sql.Command(c, $"""
+                SELECT id, {Columns}
+                FROM alerts
+                WHERE stream = $stream AND key = $key AND id <= $last
+                  AND id >= coalesce((SELECT max(id) FROM alerts WHERE stream = $stream AND key = $key AND id <= $last AND event = 'raised'), 0)
+                ORDER BY id
+                """);
+            Sql.Add(events, "$stream", stream);
+            Sql.Add(events, "$key", key);
+            Sql.Add(events, "$last", lastId);
+            result.Add(Sql.ReadAll(events, Read));
+        }
+
+        return result;
+    });
+
+    /// <summary>True when an event of the same stream, key, kind and UTC millisecond is already stored.</summary>
+    public bool Contains(AlertEvent alertEvent)
+    {
+        ArgumentNullException.ThrowIfNull(alertEvent);
+        return connection.Run(c =>
+        {
+            using var command = Sql.Command(c, """
+                SELECT EXISTS (SELECT 1 FROM alerts WHERE stream = $stream AND key = $key AND event = $event AND utc_ms = $utc)
+                """);
+            Sql.Add(command, "$stream", alertEvent.StreamId);
+            Sql.Add(command, "$key", alertEvent.Key.ToString());
+            Sql.Add(command, "$event", alertEvent.EventKind.ToText());
+            Sql.Add(command, "$utc", alertEvent.Utc.ToUnixTimeMilliseconds());
+            return Convert.ToInt64(command.ExecuteScalar(), System.Globalization.CultureInfo.InvariantCulture) != 0;
+        });
+    }
+
+    /// <summary>True when the newest stored event of the stream's alert <paramref name="key"/> is a "service restarted" clear.</summary>
+    public bool ClosedAtRestart(string stream, FindingKey key) => connection.Run(c =>
+    {
+        using var command = Sql.Command(c, """
+            SELECT event = 'cleared' AND reason = $reason FROM alerts
+            WHERE stream = $stream AND key = $key ORDER BY id DESC LIMIT 1
+            """);
+        Sql.Add(command, "$stream", stream);
+        Sql.Add(command, "$key", key.ToString());
+        Sql.Add(command, "$reason", AlertClearReason.ServiceRestarted.ToText());
+        return command.ExecuteScalar() is long flag && flag != 0;
+    });
+
     /// <summary>Alert events of one local day in <paramref name="zone"/>.</summary>
     public IReadOnlyList<StoredAlert> ForDay(DateOnly day, TimeZoneInfo zone, string? stream = null)
     {

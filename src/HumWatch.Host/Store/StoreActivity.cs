@@ -34,6 +34,24 @@ internal sealed class StoreActivity(StoreConnection connection)
         return result;
     }
 
+    /// <summary>
+    /// The end of the stream's last monitored time in the minute ledger (start of its newest "*" minute plus the seconds
+    /// monitored in it), or null when the ledger has none.
+    /// </summary>
+    public DateTimeOffset? LastMonitoredUtc(string stream) => connection.Run(c =>
+    {
+        using var command = Sql.Command(c, """
+            SELECT minute_utc, monitored_s FROM minute_ledger
+            WHERE stream = $stream AND source_key = '*'
+            ORDER BY minute_utc DESC LIMIT 1
+            """);
+        Sql.Add(command, "$stream", stream);
+        using var reader = command.ExecuteReader();
+        return reader.Read()
+            ? DateTimeOffset.FromUnixTimeSeconds(reader.GetInt64(0)).AddSeconds(reader.GetDouble(1))
+            : (DateTimeOffset?)null;
+    });
+
     /// <summary>Local days in <paramref name="zone"/> that have ledger rows or alerts, oldest first.</summary>
     public IReadOnlyList<DateOnly> Days(TimeZoneInfo zone)
     {

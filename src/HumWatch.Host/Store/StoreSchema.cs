@@ -93,6 +93,10 @@ internal static class StoreSchema
             "ALTER TABLE minute_ledger RENAME COLUMN max_uv TO max_uv_rms",
             "ALTER TABLE minute_ledger RENAME COLUMN median_uv TO mean_median_uv_rms",
         ],
+
+        // Version 5: each alert's events in order, so a start finds the alerts an unclean stop left open without a
+        // scan of the whole table, and a re-checked file finds the events it already stored.
+        ["CREATE INDEX ix_alerts_stream_key_id ON alerts (stream, key, id)"],
     ];
 
     /// <summary>Newest schema version this build knows.</summary>

@@ -9,6 +9,7 @@ using HumWatch.Formats.Edf;
 using HumWatch.Host.Configuration;
 using HumWatch.Host.Inbox;
 using HumWatch.Host.Monitoring;
+using HumWatch.Host.Publishing;
 using HumWatch.Host.Store;
 using HumWatch.Host.Tests.EndToEnd;
 using HumWatch.Host.Tests.Ingest.Support;
@@ -145,6 +146,77 @@ public sealed class InboxServiceTests : IDisposable
         Assert.Empty(Directory.GetFiles(Inbox, "*", SearchOption.AllDirectories));
     }
 
+    [Theory]
+    [InlineData(false)]
+    [InlineData(true)]
+    public void A_file_checked_again_after_an_interrupted_attempt_stores_and_publishes_no_alert_event_twice(bool closedAtRestart)
+    {
+        var source = _temp.File("source.edf");
+        ServiceEndToEndTests.WriteRecording(source, Rooms.WithMains("bay-2", onSeconds: 0, offSeconds: null), seconds: 90);
+        var dropped = Path.Combine(Inbox, "bay-2.edf");
+        Directory.CreateDirectory(Inbox);
+
+        // What a whole attempt emits, from a store of its own.
+        List<AlertEvent> complete;
+        using (var scratch = new HumWatchStore(new StoreOptions { Path = _temp.File("scratch.db") }, new FakeTimeProvider(RecordingStartUtc)))
+        using (var outputs = new SessionHarness())
+        {
+            File.Copy(source, dropped);
+            Assert.Equal(1, NewInbox(scratch, outputs).ScanOnce());
+            complete = [.. outputs.Outputs.Alerts];
+        }
+
+        var first = complete[0];
+        Assert.IsType<AlertRaised>(first);
+        Assert.Contains(complete, e => e is AlertCleared { Reason: AlertClearReason.StreamEnded } && e.Key == first.Key);
+
+        // The interrupted attempt: the file claimed, its first event stored, then the process died.
+        File.Copy(source, dropped);
+        var file = new FileInfo(dropped);
+        using (var killed = OpenStore())
+        {
+            Assert.True(killed.Files.TryBegin(file.FullName, file.Length, file.LastWriteTimeUtc, Sha256Of(dropped), out _));
+            killed.Alerts.AppendAlert(first);
+        }
+
+        using var store = OpenStore();
+        using var sessions = new SessionHarness();
+        var publisher = new RecordingPublisher();
+        if (closedAtRestart)
+        {
+            var closer = new UnclosedAlertCloser(store, new AlertDispatcher(store.Alerts, publisher, new RecordingLogger<AlertDispatcher>()), sessions.Time, new RecordingLogger<UnclosedAlertCloser>());
+            Assert.Equal(1, closer.CloseAll());
+        }
+
+        var logger = new RecordingLogger<InboxService>();
+        Assert.Equal(1, NewInbox(store, sessions, StoringFactory(store, sessions, publisher), logger).ScanOnce());
+
+        var stored = store.Alerts.Between(RecordingStartUtc.AddDays(-1), RecordingStartUtc.AddDays(1));
+        Assert.Equal(stored.Count, stored.Select(a => (a.Stream, a.Key, a.Event, a.Utc)).Distinct().Count());
+        var firstAlert = stored.Where(a => a.Key == first.Key).ToList();
+        var others = complete.Where(e => e.Key != first.Key).ToList();
+        Assert.Equal(others.Count, stored.Count(a => a.Key != first.Key));
+        int skipped;
+        if (closedAtRestart)
+        {
+            // The restart's clear is the alert's record; the second check adds nothing to it.
+            Assert.Equal([AlertEventKind.Raised, AlertEventKind.Cleared], firstAlert.Select(a => a.Event));
+            Assert.Equal(AlertClearReason.ServiceRestarted, firstAlert[1].Reason);
+            skipped = complete.Count(e => e.Key == first.Key);
+            Assert.Equal(1 + others.Count, publisher.Published.Count); // the restart's clear, then the other alerts
+        }
+        else
+        {
+            Assert.Equal(complete.Where(e => e.Key == first.Key).Select(e => e.EventKind), firstAlert.Select(a => a.Event));
+            skipped = 1;
+            Assert.Equal(complete.Count - 1, publisher.Published.Count); // all but the stored raise
+        }
+
+        var entry = Assert.Single(logger.Entries, e => e.EventId.Id == 4007);
+        Assert.Contains($"{skipped} alert event(s)", entry.Message, StringComparison.Ordinal);
+        Assert.Equal(FileJournalState.Archived, store.Files.Find(Sha256Of(Path.Combine(Archive, "bay-2", "bay-2.edf")), file.Length)?.State);
+    }
+
     [Fact]
     public void Each_rate_of_a_multi_rate_file_is_its_own_stream_with_its_own_session()
     {
@@ -205,14 +277,23 @@ public sealed class InboxServiceTests : IDisposable
 
     private HumWatchStore OpenStore() => new(new StoreOptions { Path = _temp.File("inbox.db") }, new FakeTimeProvider(RecordingStartUtc));
 
-    private InboxService NewInbox(HumWatchStore store, SessionHarness sessions) => new(
+    private InboxService NewInbox(HumWatchStore store, SessionHarness sessions, StreamSessionFactory? factory = null, RecordingLogger<InboxService>? logger = null) => new(
         Options.Create(new InboxOptions { Folder = Inbox, ArchiveFolder = Archive, RejectedFolder = _temp.File("rejected"), StableSeconds = 0 }),
         Options.Create(new CheckLimits()),
         Options.Create(new SiteOptions { TimeZone = "UTC" }),
         store,
-        sessions.Factory,
+        factory ?? sessions.Factory,
         sessions.Writer,
-        new RecordingLogger<InboxService>());
+        logger ?? new RecordingLogger<InboxService>());
+
+    /// <summary>Sessions whose alert events go through the service's dispatcher into <paramref name="store"/> and <paramref name="publisher"/>.</summary>
+    private static StreamSessionFactory StoringFactory(HumWatchStore store, SessionHarness sessions, RecordingPublisher publisher) => new(
+        new Core.Analysis.AnalysisOptions(),
+        Options.Create(new AlertOptions()),
+        Options.Create(new MonitorOptions()),
+        new AlertDispatcher(store.Alerts, publisher, new RecordingLogger<AlertDispatcher>()),
+        sessions.Writer,
+        sessions.Time);
 
     /// <summary>The file's chunks as its reader yields them, each stamped with the UTC time of its first sample.</summary>
     private static IEnumerable<SampleChunk> Timed(string path, DateTimeOffset startUtc)

@@ -1,0 +1,137 @@
+using System.Diagnostics;
+using System.Net.Sockets;
+using System.Runtime.InteropServices;
+
+namespace HumWatch.KillHarness;
+
+/// <summary>
+/// The real `humwatch run` (humwatch.dll built next to the harness) as a child process on fixed loopback ports, so a
+/// restarted process is found where the killed one was. Output goes to one log file per start.
+/// </summary>
+internal sealed partial class ServiceProcess : IDisposable
+{
+    private const int SigTerm = 15;
+    private readonly Process _process;
+    private readonly StreamWriter _log;
+
+    private ServiceProcess(Process process, StreamWriter log)
+    {
+        _process = process;
+        _log = log;
+    }
+
+    public int Id => _process.Id;
+
+    public bool HasExited => _process.HasExited;
+
+    public static async Task<ServiceProcess> StartAsync(string dataFolder, int ingestPort, int publishPort, string logPath, CancellationToken cancel)
+    {
+        var info = new ProcessStartInfo("dotnet")
+        {
+            RedirectStandardOutput = true,
+            RedirectStandardError = true,
+            UseShellExecute = false,
+            WorkingDirectory = dataFolder,
+        };
+        info.ArgumentList.Add(Path.Combine(AppContext.BaseDirectory, "humwatch.dll"));
+        foreach (var argument in new[]
+        {
+            "run", "--data", dataFolder,
+            "--set", $"Ingest:Endpoints:0:Address=tcp://127.0.0.1:{ingestPort}",
+            "--set", $"Publish:Endpoint=tcp://127.0.0.1:{publishPort}",
+            "--set", "Publish:StatusIntervalSeconds=1",
+            "--set", "Inbox:StableSeconds=0.5",
+            "--set", "Inbox:RescanSeconds=0.5",
+
+            // Mains fixed: rooms with both a 50 Hz and a 60 Hz line would otherwise make the estimate a coin toss.
+            "--set", "Analysis:Sources:MainsHz=50",
+
+            // The day summaries are not under test here; they would only add load.
+            "--set", "Summaries:Enabled=false",
+            "--set", "Logs:ConsoleLevel=Warning",
+        })
+        {
+            info.ArgumentList.Add(argument);
+        }
+
+        var process = Process.Start(info) ?? throw new InvalidOperationException("could not start humwatch run");
+        var log = new StreamWriter(logPath, append: true) { AutoFlush = true };
+        process.OutputDataReceived += (_, e) => Write(log, e.Data);
+        process.ErrorDataReceived += (_, e) => Write(log, e.Data);
+        process.BeginOutputReadLine();
+        process.BeginErrorReadLine();
+        var service = new ServiceProcess(process, log);
+
+        // Ready when the ingest socket accepts a connection (the PULL socket is bound during start).
+        var deadline = DateTime.UtcNow.AddSeconds(60);
+        while (DateTime.UtcNow < deadline)
+        {
+            cancel.ThrowIfCancellationRequested();
+            if (process.HasExited)
+            {
+                throw new InvalidOperationException($"humwatch run exited with code {process.ExitCode} during start; see {logPath}");
+            }
+
+            using var probe = new TcpClient();
+            try
+            {
+                await probe.ConnectAsync("127.0.0.1", ingestPort, cancel);
+                return service;
+            }
+            catch (SocketException)
+            {
+                await Task.Delay(50, cancel);
+            }
+        }
+
+        service.Kill();
+        service.Dispose();
+        throw new TimeoutException($"humwatch run did not bind tcp://127.0.0.1:{ingestPort} within 60 s; see {logPath}");
+    }
+
+    /// <summary>SIGKILL: no handler runs, nothing is flushed.</summary>
+    public void Kill()
+    {
+        if (!_process.HasExited)
+        {
+            _process.Kill(); // Process.Kill sends SIGKILL on Unix.
+        }
+
+        _process.WaitForExit();
+    }
+
+    /// <summary>SIGTERM, the orderly stop; returns the exit code.</summary>
+    public async Task<int> StopAsync(TimeSpan timeout)
+    {
+        if (!_process.HasExited)
+        {
+            _ = NativeKill(_process.Id, SigTerm);
+        }
+
+        using var wait = new CancellationTokenSource(timeout);
+        await _process.WaitForExitAsync(wait.Token);
+        return _process.ExitCode;
+    }
+
+    public void Dispose()
+    {
+        _process.Dispose();
+        _log.Dispose();
+    }
+
+    private static void Write(StreamWriter log, string? line)
+    {
+        if (line is null)
+        {
+            return;
+        }
+
+        lock (log)
+        {
+            log.WriteLine(line);
+        }
+    }
+
+    [LibraryImport("libc", EntryPoint = "kill")]
+    private static partial int NativeKill(int pid, int signal);
+}
