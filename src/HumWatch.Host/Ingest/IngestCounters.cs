@@ -32,18 +32,29 @@ public sealed class IngestCounters
     public void RecordRejected(WireRejectReason reason, string? streamId, string origin)
     {
         ArgumentNullException.ThrowIfNull(origin);
-        var cell = (streamId is null ? null : StreamCell(streamId)) ?? _origins.GetOrAdd(origin, static _ => new Cell());
+        // Only a stream already counted keeps its rejections: a flood of ids that never sent a good chunk makes no cells.
+        var cell = (streamId is not null && _streams.TryGetValue(streamId, out var known) ? known : null) ?? _origins.GetOrAdd(origin, static _ => new Cell());
         Interlocked.Increment(ref cell.Rejected[(int)reason]);
     }
+
+    /// <summary>Counts a good chunk of a stream that was not admitted (so has no counts of its own) under its endpoint.</summary>
+    public void RecordDroppedUnattributed(string origin, IngestDropReason reason)
+    {
+        ArgumentNullException.ThrowIfNull(origin);
+        CheckReason(reason);
+        Interlocked.Increment(ref _origins.GetOrAdd(origin, static _ => new Cell()).DroppedFor[(int)reason]);
+    }
+
+    /// <summary>Forgets a stream's counts (it went idle and its slot was given up); it counts from zero when it returns.</summary>
+    public void Forget(string streamId) => _streams.TryRemove(streamId, out _);
+
+    /// <summary>Streams counted individually now.</summary>
+    public int TrackedStreamCount => _streams.Count;
 
     /// <summary>Counts a good chunk dropped before analysis, with the reason.</summary>
     public void RecordDropped(string streamId, IngestDropReason reason)
     {
-        if ((uint)reason >= (uint)DropReasonCount)
-        {
-            throw new ArgumentOutOfRangeException(nameof(reason), reason, "Must be a defined IngestDropReason.");
-        }
-
+        CheckReason(reason);
         var cell = StreamCell(streamId);
         if (cell is not null)
         {
@@ -74,11 +85,19 @@ public sealed class IngestCounters
         var result = new List<IngestOriginRejections>(_origins.Count);
         foreach (var pair in _origins)
         {
-            result.Add(new IngestOriginRejections(pair.Key, pair.Value.RejectedByReason()));
+            result.Add(new IngestOriginRejections(pair.Key, pair.Value.RejectedByReason()) { DroppedByReason = pair.Value.DroppedByReason() });
         }
 
         result.Sort(static (a, b) => string.CompareOrdinal(a.Origin, b.Origin));
         return result;
+    }
+
+    private static void CheckReason(IngestDropReason reason)
+    {
+        if ((uint)reason >= (uint)DropReasonCount)
+        {
+            throw new ArgumentOutOfRangeException(nameof(reason), reason, "Must be a defined IngestDropReason.");
+        }
     }
 
     private Cell? StreamCell(string streamId)
@@ -154,11 +173,17 @@ public sealed record IngestStreamCounts(string StreamId, long Accepted, long Dro
     public long RejectedFor(WireRejectReason reason) => Rejected.TryGetValue(reason, out var count) ? count : 0;
 }
 
-/// <summary>Refused messages that named no valid stream, for one endpoint.</summary>
+/// <summary>Refused messages that named no counted stream, and dropped chunks of streams not admitted, for one endpoint.</summary>
 /// <param name="Origin">Endpoint address.</param>
 /// <param name="Rejected">Counts by reason.</param>
 public sealed record IngestOriginRejections(string Origin, IReadOnlyDictionary<WireRejectReason, long> Rejected)
 {
     /// <summary>Refused messages for one reason.</summary>
     public long RejectedFor(WireRejectReason reason) => Rejected.TryGetValue(reason, out var count) ? count : 0;
+
+    /// <summary>Good chunks of streams that were not admitted, by reason (reasons with zero count are absent).</summary>
+    public IReadOnlyDictionary<IngestDropReason, long> DroppedByReason { get; init; } = new Dictionary<IngestDropReason, long>();
+
+    /// <summary>Dropped chunks for one reason.</summary>
+    public long DroppedFor(IngestDropReason reason) => DroppedByReason.TryGetValue(reason, out var count) ? count : 0;
 }

@@ -25,4 +25,7 @@ internal static partial class MonitoringLog
 
     [LoggerMessage(EventId = 3208, Level = LogLevel.Error, Message = "Status publishing failed; it will be tried again at the next interval")]
     public static partial void StatusFailed(this ILogger logger, Exception exception);
+
+    [LoggerMessage(EventId = 1321, Level = LogLevel.Error, Message = "Retiring the idle monitor of stream {Stream} failed")]
+    public static partial void RetireFailed(this ILogger logger, Exception exception, string stream);
 }
