@@ -9,11 +9,19 @@ public sealed class IngestCounters
     /// <summary>Most streams counted individually (10 000); rejections for further streams count under their endpoint.</summary>
     public const int MaxTrackedStreams = 10_000;
 
+    /// <summary>
+    /// Most streams counted that never had a chunk accepted (1000). Past it their counts are added to their endpoints'
+    /// and the table starts over, so invented ids cost at most this many cells.
+    /// </summary>
+    public const int MaxRejectedOnlyStreams = 1000;
+
     private static readonly int ReasonCount = Enum.GetValues<WireRejectReason>().Length;
     private static readonly int DropReasonCount = Enum.GetValues<IngestDropReason>().Length;
 
     private readonly ConcurrentDictionary<string, Cell> _streams = new(StringComparer.Ordinal);
     private readonly ConcurrentDictionary<string, Cell> _origins = new(StringComparer.Ordinal);
+    private readonly Lock _rejectedOnlyLock = new();
+    private readonly Dictionary<string, Cell> _rejectedOnly = new(StringComparer.Ordinal);
 
     /// <summary>Counts an accepted chunk and remembers its end index (one past its last sample).</summary>
     public void RecordAccepted(string streamId, long endSampleIndex)
@@ -32,9 +40,59 @@ public sealed class IngestCounters
     public void RecordRejected(WireRejectReason reason, string? streamId, string origin)
     {
         ArgumentNullException.ThrowIfNull(origin);
-        // Only a stream already counted keeps its rejections: a flood of ids that never sent a good chunk makes no cells.
-        var cell = (streamId is not null && _streams.TryGetValue(streamId, out var known) ? known : null) ?? _origins.GetOrAdd(origin, static _ => new Cell());
-        Interlocked.Increment(ref cell.Rejected[(int)reason]);
+        if (streamId is null)
+        {
+            Interlocked.Increment(ref _origins.GetOrAdd(origin, static _ => new Cell()).Rejected[(int)reason]);
+        }
+        else if (_streams.TryGetValue(streamId, out var known))
+        {
+            Interlocked.Increment(ref known.Rejected[(int)reason]);
+        }
+        else
+        {
+            RecordRejectedOnly(reason, streamId, origin);
+        }
+    }
+
+    /// <summary>Streams counted now that never had a chunk accepted (at most <see cref="MaxRejectedOnlyStreams"/>).</summary>
+    public int RejectedOnlyStreamCount
+    {
+        get
+        {
+            lock (_rejectedOnlyLock)
+            {
+                return _rejectedOnly.Count;
+            }
+        }
+    }
+
+    private void RecordRejectedOnly(WireRejectReason reason, string streamId, string origin)
+    {
+        lock (_rejectedOnlyLock)
+        {
+            if (!_rejectedOnly.TryGetValue(streamId, out var cell))
+            {
+                if (_rejectedOnly.Count >= MaxRejectedOnlyStreams)
+                {
+                    // A flood of invented ids: keep their counts, under their endpoints, and forget the ids.
+                    foreach (var entry in _rejectedOnly.Values)
+                    {
+                        var into = _origins.GetOrAdd(entry.Origin!, static _ => new Cell());
+                        for (var i = 0; i < ReasonCount; i++)
+                        {
+                            Interlocked.Add(ref into.Rejected[i], entry.Rejected[i]);
+                        }
+                    }
+
+                    _rejectedOnly.Clear();
+                }
+
+                cell = new Cell { Origin = origin };
+                _rejectedOnly.Add(streamId, cell);
+            }
+
+            Interlocked.Increment(ref cell.Rejected[(int)reason]);
+        }
     }
 
     /// <summary>Counts a good chunk of a stream that was not admitted (so has no counts of its own) under its endpoint.</summary>
@@ -62,9 +120,19 @@ public sealed class IngestCounters
         }
     }
 
-    /// <summary>Counts of one stream, or null when it was never seen.</summary>
-    public IngestStreamCounts? Get(string streamId) =>
-        _streams.TryGetValue(streamId, out var cell) ? cell.ToStreamCounts(streamId) : null;
+    /// <summary>Counts of one stream, or null when it was never seen (or forgotten).</summary>
+    public IngestStreamCounts? Get(string streamId)
+    {
+        if (_streams.TryGetValue(streamId, out var cell))
+        {
+            return cell.ToStreamCounts(streamId);
+        }
+
+        lock (_rejectedOnlyLock)
+        {
+            return _rejectedOnly.TryGetValue(streamId, out var rejected) ? rejected.ToStreamCounts(streamId) : null;
+        }
+    }
 
     /// <summary>Counts of every stream seen, ordered by stream id.</summary>
     public IReadOnlyList<IngestStreamCounts> Snapshot()
@@ -73,6 +141,17 @@ public sealed class IngestCounters
         foreach (var pair in _streams)
         {
             result.Add(pair.Value.ToStreamCounts(pair.Key));
+        }
+
+        lock (_rejectedOnlyLock)
+        {
+            foreach (var pair in _rejectedOnly)
+            {
+                if (!_streams.ContainsKey(pair.Key))
+                {
+                    result.Add(pair.Value.ToStreamCounts(pair.Key));
+                }
+            }
         }
 
         result.Sort(static (a, b) => string.CompareOrdinal(a.StreamId, b.StreamId));
@@ -109,14 +188,30 @@ public sealed class IngestCounters
         }
 
         // The cap keeps a sender that invents stream ids from growing memory without bound.
-        return _streams.Count < MaxTrackedStreams ? _streams.GetOrAdd(streamId, static _ => new Cell()) : null;
+        if (_streams.Count >= MaxTrackedStreams)
+        {
+            return null;
+        }
+
+        lock (_rejectedOnlyLock)
+        {
+            // A stream's first good chunk: its earlier rejections move with it.
+            var earlier = _rejectedOnly.Remove(streamId, out var rejected) ? rejected : null;
+            return _streams.GetOrAdd(streamId, _ => earlier is null ? new Cell() : new Cell(earlier.Rejected));
+        }
     }
 
     private sealed class Cell
     {
         public long Accepted;
         public long LastEndSampleIndex = -1;
-        public readonly long[] Rejected = new long[ReasonCount];
+        public readonly long[] Rejected;
+
+        public Cell(long[]? rejected = null) => Rejected = rejected ?? new long[ReasonCount];
+
+        /// <summary>The endpoint of a stream that never had a chunk accepted, where its counts go when it is forgotten.</summary>
+        public string? Origin { get; init; }
+
         public readonly long[] DroppedFor = new long[DropReasonCount];
 
         public Dictionary<WireRejectReason, long> RejectedByReason() => NonZero<WireRejectReason>(Rejected);
