@@ -17,4 +17,7 @@ public enum IngestDropReason
 
     /// <summary>The chunk arrived while the service was stopping.</summary>
     ShuttingDown,
+
+    /// <summary>The stream sent faster than <c>Ingest:RateAllowance</c> × its declared rate (after <c>Ingest:RateBurstSeconds</c> of samples).</summary>
+    RateExceeded,
 }

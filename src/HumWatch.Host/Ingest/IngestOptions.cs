@@ -37,6 +37,34 @@ public sealed class IngestOptions
     /// <summary>Shortest interval between repeated warnings about the same stream's drops or rejections. The default is 10 s.</summary>
     public TimeSpan WarningInterval { get; set; } = TimeSpan.FromSeconds(10);
 
+    /// <summary>Most warnings about drops and rejections written per <see cref="WarningInterval"/> across all streams, 1 to 10 000; the rest are counted and summed up in one line per interval. The default is 20.</summary>
+    public int MaxWarningsPerInterval { get; set; } = 20;
+
+    /// <summary>Most channels one stream may declare, 1 to 1024 (the protocol's limit); larger headers are refused as BadChannels. The default is 256.</summary>
+    public int MaxChannels { get; set; } = 256;
+
+    /// <summary>Highest sample rate a stream may declare, Hz, 1 to 1 000 000 (the protocol's limit); higher ones are refused as BadSampleRate. The default is 20 000 Hz.</summary>
+    public double MaxSampleRateHz { get; set; } = 20_000;
+
+    /// <summary>Most samples per channel in one chunk, 1 to 16 777 216; longer chunks are refused as TooLarge. The default is 1 048 576 (about 17 min at 1 kHz; the message size limit usually binds first).</summary>
+    public int MaxChunkSamples { get; set; } = 1 << 20;
+
+    /// <summary>Largest header frame, bytes, 256 to 1 MiB; larger ones are refused as TooLarge before they are parsed. The default is 64 KiB (256 labels of 64 characters fit).</summary>
+    public int MaxHeaderBytes { get; set; } = 64 * 1024;
+
+    /// <summary>
+    /// How far a stream may run ahead of its declared rate, as a factor, 1 to 100: samples beyond
+    /// <see cref="RateBurstSeconds"/> of them plus this factor × rate × elapsed time are dropped (reason RateExceeded),
+    /// not buffered. The default is 2.
+    /// </summary>
+    public double RateAllowance { get; set; } = 2;
+
+    /// <summary>Seconds of samples (at the declared rate) a stream may send at once, on top of its running allowance, 1 to 3600 (a sender catching up after a network stall). The default is 600 s (a recorder replaying ten minutes it held back during an outage).</summary>
+    public double RateBurstSeconds { get; set; } = 600;
+
+    /// <summary>Messages ZeroMQ queues per connected sender before it stops reading that sender's TCP connection, 1 to 100 000. Bounds a sender's memory in the service to this × its message size. The default is 1000.</summary>
+    public int ReceiveHighWatermark { get; set; } = 1000;
+
     /// <summary>The configured endpoints, or the single default one.</summary>
     internal IReadOnlyList<IngestEndpointOptions> EffectiveEndpoints() =>
         Endpoints.Count > 0 ? [.. Endpoints] : [new IngestEndpointOptions()];

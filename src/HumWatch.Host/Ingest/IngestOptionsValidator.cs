@@ -1,5 +1,6 @@
 using System.Globalization;
 using System.Net;
+using HumWatch.Formats.Wire;
 using Microsoft.Extensions.Options;
 
 namespace HumWatch.Host.Ingest;
@@ -35,6 +36,50 @@ internal sealed class IngestOptionsValidator : IValidateOptions<IngestOptions>
         if (options.WarningInterval < TimeSpan.Zero || options.WarningInterval > TimeSpan.FromHours(1))
         {
             failures.Add($"{Section}:WarningInterval must be between 00:00:00 and 01:00:00; it is {options.WarningInterval}.");
+        }
+
+        if (options.MaxWarningsPerInterval is < 1 or > 10_000)
+        {
+            failures.Add($"{Section}:MaxWarningsPerInterval must be between 1 and 10000; it is {options.MaxWarningsPerInterval}.");
+        }
+
+        if (options.MaxChannels is < 1 or > ChunkWireCodec.MaxChannels)
+        {
+            failures.Add($"{Section}:MaxChannels must be between 1 and {ChunkWireCodec.MaxChannels} (the protocol's limit); it is {options.MaxChannels}.");
+        }
+
+        if (!(options.MaxSampleRateHz >= 1 && options.MaxSampleRateHz <= ChunkWireCodec.MaxSampleRateHz))
+        {
+            failures.Add($"{Section}:MaxSampleRateHz must be between 1 and 1000000 Hz (the protocol's limit); it is {options.MaxSampleRateHz.ToString(CultureInfo.InvariantCulture)}.");
+        }
+
+        if (options.MaxChunkSamples is < 1 or > 1 << 24)
+        {
+            failures.Add($"{Section}:MaxChunkSamples must be between 1 and 16777216 samples per channel; it is {options.MaxChunkSamples}.");
+        }
+
+        if (options.MaxHeaderBytes is < 256 or > 1 << 20)
+        {
+            failures.Add($"{Section}:MaxHeaderBytes must be between 256 and 1048576 (1 MiB); it is {options.MaxHeaderBytes}.");
+        }
+        else if (options.MaxHeaderBytes > options.MaxMessageBytes)
+        {
+            failures.Add($"{Section}:MaxHeaderBytes ({options.MaxHeaderBytes}) must not exceed {Section}:MaxMessageBytes ({options.MaxMessageBytes}).");
+        }
+
+        if (!(options.RateAllowance >= 1 && options.RateAllowance <= 100))
+        {
+            failures.Add($"{Section}:RateAllowance must be between 1 and 100 (times the declared rate); it is {options.RateAllowance.ToString(CultureInfo.InvariantCulture)}.");
+        }
+
+        if (!(options.RateBurstSeconds >= 1 && options.RateBurstSeconds <= 3600))
+        {
+            failures.Add($"{Section}:RateBurstSeconds must be between 1 and 3600 s; it is {options.RateBurstSeconds.ToString(CultureInfo.InvariantCulture)}.");
+        }
+
+        if (options.ReceiveHighWatermark is < 1 or > 100_000)
+        {
+            failures.Add($"{Section}:ReceiveHighWatermark must be between 1 and 100000 messages; it is {options.ReceiveHighWatermark}.");
         }
 
         var bound = new HashSet<string>(StringComparer.OrdinalIgnoreCase);

@@ -24,7 +24,8 @@ public sealed class IngestQueue
     /// <param name="logger">Where drops are reported.</param>
     /// <param name="timeProvider">Clock for the warning rate limit.</param>
     /// <param name="warningInterval">Shortest interval between drop warnings for one stream.</param>
-    public IngestQueue(int capacity, IngestCounters counters, ILogger<IngestQueue> logger, TimeProvider timeProvider, TimeSpan warningInterval)
+    /// <param name="maxWarningsPerInterval">Most drop warnings per interval over all streams; the rest are summed up in one line.</param>
+    public IngestQueue(int capacity, IngestCounters counters, ILogger<IngestQueue> logger, TimeProvider timeProvider, TimeSpan warningInterval, int maxWarningsPerInterval = int.MaxValue)
     {
         if (capacity is < 1 or > 1_000_000)
         {
@@ -36,7 +37,8 @@ public sealed class IngestQueue
         Capacity = capacity;
         _counters = counters;
         _logger = logger;
-        _throttle = new WarningThrottle(timeProvider, warningInterval);
+        _throttle = new WarningThrottle(timeProvider, warningInterval, maxWarningsPerInterval,
+            (count, interval) => logger.WarningsSuppressed(count, interval.TotalSeconds, maxWarningsPerInterval));
         _channel = Channel.CreateBounded<StreamChunk>(new BoundedChannelOptions(capacity)
         {
             FullMode = BoundedChannelFullMode.Wait,
@@ -84,6 +86,9 @@ public sealed class IngestQueue
 
         return false;
     }
+
+    /// <summary>True once <see cref="Complete"/> was called.</summary>
+    public bool IsCompleted => _completed;
 
     /// <summary>Marks the end of input; readers finish after the queued chunks.</summary>
     public void Complete()

@@ -22,7 +22,8 @@ public static class IngestServiceCollectionExtensions
             provider.GetRequiredService<IngestCounters>(),
             provider.GetRequiredService<ILogger<IngestQueue>>(),
             provider.GetRequiredService<TimeProvider>(),
-            options.WarningInterval));
+            options.WarningInterval,
+            options.MaxWarningsPerInterval));
         services.TryAddSingleton(_ => new SampleBufferPool(options.BufferBytes));
         services.AddHostedService<SocketIngestService>();
         return services;

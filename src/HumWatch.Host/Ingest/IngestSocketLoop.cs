@@ -22,7 +22,7 @@ internal sealed class IngestSocketLoop : IDisposable
 
     private readonly IngestEndpointOptions _endpoint;
     private readonly int _endpointIndex;
-    private readonly long _maxMessageBytes;
+    private readonly IngestOptions _options;
     private readonly ILogger _logger;
     private readonly WarningThrottle _refusalThrottle;
     private ClientKeyGate? _gate;
@@ -30,12 +30,12 @@ internal sealed class IngestSocketLoop : IDisposable
     private Thread? _thread;
     private int _disposed;
 
-    public IngestSocketLoop(IngestEndpointOptions endpoint, int endpointIndex, long maxMessageBytes, ILogger logger, WarningThrottle refusalThrottle)
+    public IngestSocketLoop(IngestEndpointOptions endpoint, int endpointIndex, IngestOptions options, ILogger logger, WarningThrottle refusalThrottle)
     {
         _refusalThrottle = refusalThrottle;
         _endpoint = endpoint;
         _endpointIndex = endpointIndex;
-        _maxMessageBytes = maxMessageBytes;
+        _options = options;
         _logger = logger;
         Origin = endpoint.Address;
     }
@@ -83,7 +83,19 @@ internal sealed class IngestSocketLoop : IDisposable
 
             // Hard per-frame ceiling: ZeroMQ disconnects a peer past it, before buffering the frame. Messages between the
             // configured limit and this ceiling are still received, so they can be counted as TooLarge.
-            socket.Options.MaxMsgSize = Math.Min(int.MaxValue, 2 * _maxMessageBytes);
+            socket.Options.MaxMsgSize = Math.Min(int.MaxValue, 2 * _options.MaxMessageBytes);
+
+            // Per-sender bound: past this many queued messages ZeroMQ stops reading that sender's connection (TCP
+            // pushes back), so one fast or stuck sender holds at most this × its message size here.
+            socket.Options.ReceiveHighWatermark = _options.ReceiveHighWatermark;
+
+            // A sender whose host vanished (no FIN) would keep its connection and buffers for ever; keepalive and
+            // ZMTP heartbeats find it. A live sender that sends nothing answers both and stays (docs/reliability.md).
+            socket.Options.TcpKeepalive = true;
+            socket.Options.TcpKeepaliveIdle = TimeSpan.FromSeconds(60);
+            socket.Options.TcpKeepaliveInterval = TimeSpan.FromSeconds(10);
+            socket.Options.HeartbeatInterval = TimeSpan.FromSeconds(10);
+            socket.Options.HeartbeatTimeout = TimeSpan.FromSeconds(30);
             if (certificate is not null)
             {
                 socket.Options.CurveServer = true;
@@ -214,6 +226,8 @@ internal sealed class IngestSocketLoop : IDisposable
                 {
                     if (!socket.TryReceive(ref first, PollInterval))
                     {
+                        // Quiet moment: a flood that stopped still gets its one summary line.
+                        _refusalThrottle.Flush();
                         continue;
                     }
 

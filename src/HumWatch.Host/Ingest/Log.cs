@@ -30,6 +30,9 @@ internal static partial class IngestLog
     [LoggerMessage(1108, LogLevel.Information, "Ingest holds up to {BufferMiB:F0} MiB of decoded samples in flight (Ingest:BufferBytes) and up to {QueueCapacity} chunks in its queue (Ingest:QueueCapacity)")]
     public static partial void BufferBudget(this ILogger logger, double bufferMiB, int queueCapacity);
 
+    [LoggerMessage(1320, LogLevel.Warning, "{Suppressed} ingest warnings not logged in the last {IntervalSeconds:0.#} s: more than {MaxWarnings} in one interval (Ingest:MaxWarningsPerInterval); the counters have every one")]
+    public static partial void WarningsSuppressed(this ILogger logger, long suppressed, double intervalSeconds, int maxWarnings);
+
     [LoggerMessage(1107, LogLevel.Warning, "CURVE key file {Path} can be read by other users; restrict it to the service account (e.g. chmod 600)")]
     public static partial void KeyFileTooOpen(this ILogger logger, string path);
 }

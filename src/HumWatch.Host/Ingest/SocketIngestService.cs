@@ -18,12 +18,13 @@ internal sealed class SocketIngestService : BackgroundService
     private readonly IngestCounters _counters;
     private readonly ILogger _logger;
     private readonly SampleBufferPool _pool;
-    private readonly WarningThrottle _rejectionThrottle;
-    private readonly WarningThrottle _dropThrottle;
+    private readonly WarningThrottle _throttle;
     private readonly StreamLayoutCache _layouts = new();
+    private readonly StreamAdmission _admission;
     private readonly List<IngestSocketLoop> _loops = [];
 
-    public SocketIngestService(IOptions<IngestOptions> options, IngestQueue queue, IngestCounters counters, SampleBufferPool pool, ILogger<SocketIngestService> logger, TimeProvider timeProvider)
+    /// <param name="monitor">Monitor:MaxStreams and Monitor:IdleCloseSeconds bound the streams admitted; the defaults when not given.</param>
+    public SocketIngestService(IOptions<IngestOptions> options, IngestQueue queue, IngestCounters counters, SampleBufferPool pool, ILogger<SocketIngestService> logger, TimeProvider timeProvider, IOptions<Monitoring.MonitorOptions>? monitor = null)
     {
         ArgumentNullException.ThrowIfNull(options);
         ArgumentNullException.ThrowIfNull(queue);
@@ -35,8 +36,10 @@ internal sealed class SocketIngestService : BackgroundService
         _counters = counters;
         _pool = pool;
         _logger = logger;
-        _rejectionThrottle = new WarningThrottle(timeProvider, _options.WarningInterval);
-        _dropThrottle = new WarningThrottle(timeProvider, _options.WarningInterval);
+        _throttle = new WarningThrottle(timeProvider, _options.WarningInterval, _options.MaxWarningsPerInterval,
+            (count, interval) => _logger.WarningsSuppressed(count, interval.TotalSeconds, _options.MaxWarningsPerInterval));
+        var streams = monitor?.Value ?? new Monitoring.MonitorOptions();
+        _admission = new StreamAdmission(streams.MaxStreams, streams.IdleCloseSeconds, _options.RateAllowance, _options.RateBurstSeconds, timeProvider, Forget);
     }
 
     /// <summary>Endpoints as bound or connected, in configuration order (valid after start).</summary>
@@ -57,6 +60,15 @@ internal sealed class SocketIngestService : BackgroundService
     /// <summary>Messages refused on every socket for lack of a listed CURVE client key.</summary>
     internal long ClientKeyRefusals => _loops.Sum(static loop => loop.ClientKeyRefusals);
 
+    /// <summary>Streams the ingest holds state for now (at most Monitor:MaxStreams).</summary>
+    internal int AdmittedStreamCount => _admission.Count;
+
+    /// <summary>Stream layouts remembered now.</summary>
+    internal int RememberedLayoutCount => _layouts.Count;
+
+    /// <summary>Warnings held back by the throttle so far.</summary>
+    internal long SuppressedWarnings => _throttle.SuppressedTotal;
+
     /// <summary>Binds and connects every socket before the host reports started, so a bad endpoint stops startup with a clear message.</summary>
     public override Task StartAsync(CancellationToken cancellationToken)
     {
@@ -67,7 +79,7 @@ internal sealed class SocketIngestService : BackgroundService
         {
             for (var i = 0; i < endpoints.Count; i++)
             {
-                var loop = new IngestSocketLoop(endpoints[i], i, _options.MaxMessageBytes, _logger, _rejectionThrottle);
+                var loop = new IngestSocketLoop(endpoints[i], i, _options, _logger, _throttle);
                 loop.Open();
                 _loops.Add(loop);
             }
@@ -107,6 +119,14 @@ internal sealed class SocketIngestService : BackgroundService
             return;
         }
 
+        if (header.Length > _options.MaxHeaderBytes)
+        {
+            // Not parsed at all: the point of the limit is that a huge header costs nothing to refuse.
+            Reject(new WireRejection(WireRejectReason.TooLarge, null,
+                $"header frame has {header.Length} bytes, over {IngestOptions.SectionName}:MaxHeaderBytes ({_options.MaxHeaderBytes} bytes)"), origin);
+            return;
+        }
+
         if (frameCount != ChunkWireCodec.FrameCount)
         {
             Reject(ChunkWireCodec.RejectFrameCount(frameCount, header), origin);
@@ -123,7 +143,7 @@ internal sealed class SocketIngestService : BackgroundService
         if (result.IsBufferFull)
         {
             _counters.RecordDropped(result.StreamId, IngestDropReason.BufferFull);
-            if (_dropThrottle.ShouldWarn(result.StreamId, out var suppressed))
+            if (_throttle.ShouldWarn(result.StreamId + "|drop", out var suppressed))
             {
                 _logger.ChunkDropped(result.StreamId, origin, IngestDropReason.BufferFull,
                     $"decoded samples in flight fill Ingest:BufferBytes ({_pool.BudgetBytes} bytes); analysis is behind", suppressed);
@@ -135,6 +155,22 @@ internal sealed class SocketIngestService : BackgroundService
         if (!result.IsSuccess)
         {
             throw new InvalidOperationException("The decoder returned neither a chunk, a rejection nor a full buffer.");
+        }
+
+        var over = OverLimit(result);
+        if (over is not null)
+        {
+            Refuse(result);
+            Reject(over, origin);
+            return;
+        }
+
+        var refused = _admission.Admit(result.StreamId, result.Chunk.Layout.SampleRateHz, result.Chunk.SamplesPerChannel);
+        if (refused is { } reason)
+        {
+            Refuse(result);
+            Drop(result.StreamId, reason, origin);
+            return;
         }
 
         // The queue takes the chunk either way (it disposes one it cannot hold), so nothing below can strand the array.
@@ -155,10 +191,78 @@ internal sealed class SocketIngestService : BackgroundService
     {
         _counters.RecordRejected(rejection.Reason, rejection.StreamId, origin);
         var key = (rejection.StreamId ?? origin) + "|" + rejection.Reason;
-        if (_rejectionThrottle.ShouldWarn(key, out var suppressed))
+        if (_throttle.ShouldWarn(key, out var suppressed))
         {
             _logger.MessageRejected(origin, rejection.Message, rejection.Reason, suppressed);
         }
+    }
+
+    /// <summary>The refusal of a decoded chunk past the configured channel, rate or length limits, or null.</summary>
+    private WireRejection? OverLimit(WireDecodeResult result)
+    {
+        var chunk = result.Chunk!;
+        var layout = chunk.Layout;
+        var streamId = result.StreamId!;
+        const string Section = IngestOptions.SectionName;
+        if (layout.ChannelCount > _options.MaxChannels)
+        {
+            return Rejection(WireRejectReason.BadChannels, streamId, $"{layout.ChannelCount} channels, over {Section}:MaxChannels ({_options.MaxChannels})");
+        }
+
+        if (layout.SampleRateHz > _options.MaxSampleRateHz)
+        {
+            return Rejection(WireRejectReason.BadSampleRate, streamId,
+                $"'fs' = {layout.SampleRateHz.ToString(System.Globalization.CultureInfo.InvariantCulture)} Hz, over {Section}:MaxSampleRateHz ({_options.MaxSampleRateHz.ToString(System.Globalization.CultureInfo.InvariantCulture)} Hz)");
+        }
+
+        if (chunk.SamplesPerChannel > _options.MaxChunkSamples)
+        {
+            return Rejection(WireRejectReason.TooLarge, streamId, $"{chunk.SamplesPerChannel} samples per channel, over {Section}:MaxChunkSamples ({_options.MaxChunkSamples})");
+        }
+
+        return null;
+    }
+
+    private static WireRejection Rejection(WireRejectReason reason, string streamId, string problem) =>
+        new(reason, streamId, $"stream '{streamId}': {problem}");
+
+    /// <summary>Gives a decoded chunk's samples back, and the layout it made, so a refused chunk leaves nothing behind.</summary>
+    private void Refuse(WireDecodeResult result)
+    {
+        result.Samples!.Dispose();
+        if (result.StartsNewLayout)
+        {
+            _layouts.Remove(result.StreamId!);
+        }
+    }
+
+    private void Drop(string streamId, IngestDropReason reason, string origin)
+    {
+        string detail;
+        if (reason == IngestDropReason.TooManyStreams)
+        {
+            // Not admitted: counted under the endpoint, so the id leaves no state.
+            _counters.RecordDroppedUnattributed(origin, reason);
+            detail = "the service holds Monitor:MaxStreams streams, none idle";
+        }
+        else
+        {
+            _counters.RecordDropped(streamId, reason);
+            detail = $"over {IngestOptions.SectionName}:RateAllowance ({_options.RateAllowance.ToString(System.Globalization.CultureInfo.InvariantCulture)}) × its declared rate after {IngestOptions.SectionName}:RateBurstSeconds ({_options.RateBurstSeconds.ToString(System.Globalization.CultureInfo.InvariantCulture)} s) of samples";
+        }
+
+        var key = reason == IngestDropReason.TooManyStreams ? origin + "|too-many" : streamId + "|drop";
+        if (_throttle.ShouldWarn(key, out var suppressed))
+        {
+            _logger.ChunkDropped(streamId, origin, reason, detail, suppressed);
+        }
+    }
+
+    /// <summary>A stream went idle and gave up its slot: forget its layout and counts too.</summary>
+    private void Forget(string streamId)
+    {
+        _layouts.Remove(streamId);
+        _counters.Forget(streamId);
     }
 
     private void DisposeLoops()

@@ -31,4 +31,7 @@ internal static partial class MonitoringLog
 
     [LoggerMessage(EventId = 3210, Level = LogLevel.Error, Message = "Start: the alerts an unclean stop left open could not be read from the store; they stay open")]
     public static partial void UnclosedAlertsFailed(this ILogger logger, Exception exception);
+
+    [LoggerMessage(EventId = 1321, Level = LogLevel.Error, Message = "Retiring the idle monitor of stream {Stream} failed")]
+    public static partial void RetireFailed(this ILogger logger, Exception exception, string stream);
 }

@@ -42,7 +42,7 @@ internal sealed class StreamMonitorService : BackgroundService
         _time = sessions.Time;
         _loggerFactory = loggerFactory;
         _logger = loggerFactory.CreateLogger<StreamMonitorService>();
-        _tooManyThrottle = new WarningThrottle(_time, TimeSpan.FromSeconds(10));
+        _tooManyThrottle = new WarningThrottle(_time, TimeSpan.FromSeconds(10), maxPerInterval: 20);
     }
 
     /// <summary>Streams currently held.</summary>
@@ -101,7 +101,18 @@ internal sealed class StreamMonitorService : BackgroundService
             monitor = _monitors.GetOrAdd(item.StreamId, id => new StreamMonitor(id, _sessions, _loggerFactory.CreateLogger($"HumWatch.Stream.{id}")));
         }
 
-        return monitor.TryPost(item, out var reason) ? null : reason;
+        if (monitor.TryPost(item, out var reason))
+        {
+            return null;
+        }
+
+        // A monitor retired for idleness between the look-up and the post: the stream is back, so give it a new one.
+        if (reason == IngestDropReason.ShuttingDown && !_queue.IsCompleted && !_monitors.ContainsKey(item.StreamId))
+        {
+            return Post(item);
+        }
+
+        return reason;
     }
 
     /// <summary>Publishes one status message per stream.</summary>
@@ -131,15 +142,40 @@ internal sealed class StreamMonitorService : BackgroundService
         }
     }
 
-    /// <summary>Closes the sessions of streams idle longer than the configured time.</summary>
+    /// <summary>
+    /// Closes the sessions of streams idle longer than the configured time, and retires the monitors whose session is
+    /// already closed and that stayed idle: a slot of Monitor:MaxStreams is not held for ever by a stream that left.
+    /// </summary>
     internal void CloseIdleStreams()
     {
-        foreach (var monitor in _monitors.Values)
+        foreach (var pair in _monitors)
         {
-            if (monitor.IsOpen && monitor.IdleSeconds >= _options.IdleCloseSeconds)
+            var monitor = pair.Value;
+            if (monitor.IdleSeconds < _options.IdleCloseSeconds)
+            {
+                continue;
+            }
+
+            if (monitor.IsOpen)
             {
                 monitor.RequestClose($"no data for {_options.IdleCloseSeconds:0} s");
             }
+            else if (_monitors.TryRemove(pair))
+            {
+                _ = RetireAsync(monitor);
+            }
+        }
+    }
+
+    private async Task RetireAsync(StreamMonitor monitor)
+    {
+        try
+        {
+            await monitor.DisposeAsync().ConfigureAwait(false);
+        }
+        catch (Exception ex) when (ex is not OutOfMemoryException)
+        {
+            _logger.RetireFailed(ex, monitor.StreamId);
         }
     }
 

@@ -13,7 +13,7 @@ internal sealed class IngestHarness : IAsyncDisposable
 {
     private bool _started;
 
-    public IngestHarness(IngestOptions options)
+    public IngestHarness(IngestOptions options, HumWatch.Host.Monitoring.MonitorOptions? monitor = null)
     {
         Options = options;
         Time = new FakeTimeProvider(new DateTimeOffset(2025, 3, 1, 8, 0, 0, TimeSpan.Zero));
@@ -22,7 +22,7 @@ internal sealed class IngestHarness : IAsyncDisposable
         ServiceLogger = new RecordingLogger<SocketIngestService>();
         Queue = new IngestQueue(options.QueueCapacity, Counters, QueueLogger, Time, options.WarningInterval);
         Pool = new SampleBufferPool(options.BufferBytes, poisonReturned: true);
-        Service = new SocketIngestService(Microsoft.Extensions.Options.Options.Create(options), Queue, Counters, Pool, ServiceLogger, Time);
+        Service = new SocketIngestService(Microsoft.Extensions.Options.Options.Create(options), Queue, Counters, Pool, ServiceLogger, Time, monitor is null ? null : Microsoft.Extensions.Options.Options.Create(monitor));
     }
 
     public IngestOptions Options { get; }
