@@ -85,7 +85,8 @@ public sealed class CurveIngestTests
         Assert.Null(harness.Counters.Get("stranger"));
         Assert.Null(harness.Counters.Get("forger"));
         Assert.Null(harness.Counters.Get("unproved"));
-        Assert.Equal(1, harness.Counters.Get("member")!.Accepted);
+        // The ingest thread counts a chunk just after it queues it, so the reader can see the chunk first.
+        await IngestHarness.WaitUntilAsync(() => harness.Counters.Get("member")?.Accepted == 1, "the member's chunk counted");
         Assert.Equal(0, harness.Queue.Count);
 
         // Refusals are logged once per warning interval with a running count (the fake clock does not move here).

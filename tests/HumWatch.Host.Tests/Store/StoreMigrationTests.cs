@@ -30,7 +30,7 @@ public sealed class StoreMigrationTests : IDisposable
 
         using (var store = new HumWatchStore(new StoreOptions { Path = DbPath }, _time))
         {
-            Assert.Equal(4, store.SchemaVersion);
+            Assert.Equal(StoreSchema.LatestVersion, store.SchemaVersion);
             var row = Assert.Single(store.Ledger.Rows("room-a", Some.Utc.AddMinutes(-1), Some.Utc.AddMinutes(1)));
             Assert.Equal(3, row.MaxUvRms);
             Assert.Equal(2, row.MeanMedianUvRms);
@@ -46,7 +46,8 @@ public sealed class StoreMigrationTests : IDisposable
 
         var columns = string.Join(",", Enumerable.Range(0, 10).Select(i => OlderStoreFile.Raw(DbPath, $"SELECT name FROM pragma_table_info('minute_ledger') WHERE cid = {i}")));
         Assert.Equal("stream,minute_utc,source_key,monitored_s,affected_s,max_uv_rms,mean_median_uv_rms,worst_channels,mains_hz,parts", columns);
-        Assert.Equal(4L, OlderStoreFile.Raw(DbPath, "SELECT count(*) FROM schema_version"));
+        // One schema_version row per version, the three it had and each migration since.
+        Assert.Equal((long)StoreSchema.LatestVersion, OlderStoreFile.Raw(DbPath, "SELECT count(*) FROM schema_version"));
     }
 
     [Fact]
