@@ -25,7 +25,7 @@ internal sealed class MailCertificateTrust
 
     public bool Validate(object sender, X509Certificate? certificate, X509Chain? chain, SslPolicyErrors errors)
     {
-        if (errors == SslPolicyErrors.None)
+        if (errors == SslPolicyErrors.None || (errors == SslPolicyErrors.RemoteCertificateChainErrors && OnlyRevocationUnknown(chain)))
         {
             return true;
         }
@@ -85,6 +85,16 @@ internal sealed class MailCertificateTrust
         }
 
         return authorities.Count > 0 ? authorities : throw new StartFailureException($"{settingKey} '{path}' holds no certificate (expected -----BEGIN CERTIFICATE----- blocks).");
+    }
+
+    /// <summary>
+    /// True when the chain is sound but for a revocation status that could not be fetched (no route to the authority's
+    /// server, common on clinical networks): that soft-fails, as mail and web clients commonly do; a revoked certificate does not.
+    /// </summary>
+    private static bool OnlyRevocationUnknown(X509Chain? chain)
+    {
+        const X509ChainStatusFlags Unknown = X509ChainStatusFlags.RevocationStatusUnknown | X509ChainStatusFlags.OfflineRevocation;
+        return chain is { ChainStatus.Length: > 0 } && chain.ChainStatus.All(s => (s.Status & ~Unknown) == 0);
     }
 
     /// <summary>Null when the certificate chains to one of the configured authorities, else what the chain said.</summary>

@@ -148,6 +148,30 @@ public sealed class NotifySettingsTests
         Assert.NotNull(host.Services.GetRequiredService<AlertDispatcher>());
     }
 
+    [Fact]
+    public void Every_notify_setting_is_in_the_settings_table_of_its_page()
+    {
+        var page = File.ReadAllText(Path.Combine(RepositoryRoot(), "docs", "notifications.md"));
+        var keys = SettingsSchema.KnownKeys()
+            .Where(k => k.StartsWith("Notify:", StringComparison.Ordinal))
+            .Select(k => k["Notify:".Length..].Replace(":*:", ":<n>:", StringComparison.Ordinal).Replace(":*", "", StringComparison.Ordinal))
+            .ToList();
+
+        Assert.Equal(29, keys.Count);
+        Assert.All(keys, key => Assert.Contains($"| `{key}` |", page, StringComparison.Ordinal));
+    }
+
+    private static string RepositoryRoot()
+    {
+        var folder = new DirectoryInfo(AppContext.BaseDirectory);
+        while (folder is not null && !File.Exists(Path.Combine(folder.FullName, "HumWatch.sln")))
+        {
+            folder = folder.Parent;
+        }
+
+        return folder?.FullName ?? throw new InvalidOperationException("HumWatch.sln not found above the test folder.");
+    }
+
     private static BoundSettings Bind(Dictionary<string, string?> settings) => SettingsBuilder.Build(SettingsSources.Isolated(settings));
 
     private static List<string> Errors(Dictionary<string, string?> settings) =>

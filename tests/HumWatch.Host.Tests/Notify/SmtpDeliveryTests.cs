@@ -57,7 +57,7 @@ public sealed class SmtpDeliveryTests : IDisposable
         Assert.Contains("hint: On most channels", text, StringComparison.Ordinal);
         Assert.Contains("Alert cleared in room-a", text, StringComparison.Ordinal);
         Assert.Contains(SafetyNotice.Text, text.Replace("\n", " ", StringComparison.Ordinal), StringComparison.Ordinal);
-        Assert.Single(harness.Logs.WithId(1445));
+        Assert.Single(await harness.Logs.WaitForAsync(1445));
         Assert.All(harness.Logs.Entries, e => Assert.DoesNotContain(Password, e.Message, StringComparison.Ordinal));
     }
 

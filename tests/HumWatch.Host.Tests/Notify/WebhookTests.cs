@@ -91,7 +91,7 @@ public sealed class WebhookTests : IDisposable
 
         Assert.Equal(9, _receiver.Count); // 3 notifications × Notify:Retry:Attempts = 3
         Assert.Equal(0, harness.Target.Delivered);
-        var gaveUp = harness.Logs.WithId(1444);
+        var gaveUp = await harness.Logs.WaitForAsync(1444, 3);
         Assert.Equal(3, gaveUp.Count);
         Assert.All(gaveUp, e => Assert.Contains("HTTP 503", e.Message, StringComparison.Ordinal));
         Assert.Contains("3 given up so far", gaveUp[^1].Message, StringComparison.Ordinal);
@@ -110,7 +110,7 @@ public sealed class WebhookTests : IDisposable
 
         Assert.Equal(1, _receiver.Count);
         Assert.Empty(harness.Logs.WithId(1443));
-        Assert.Contains("HTTP 404", Assert.Single(harness.Logs.WithId(1444)).Message, StringComparison.Ordinal);
+        Assert.Contains("HTTP 404", Assert.Single(await harness.Logs.WaitForAsync(1444)).Message, StringComparison.Ordinal);
     }
 
     [Fact]
