@@ -14,7 +14,7 @@ namespace HumWatch.Host.Tests.Notify.Support;
 /// </summary>
 internal sealed class SmtpPeer : IAsyncDisposable
 {
-    public const string Python = "/usr/bin/python3";
+    public const string Python = Ingest.Support.PythonPeer.Python;
 
     private static readonly Lazy<string?> MissingReason = new(FindMissing);
     private readonly Process _process;
@@ -109,26 +109,7 @@ internal sealed class SmtpPeer : IAsyncDisposable
         _process.Dispose();
     }
 
-    private static string? FindMissing()
-    {
-        if (!File.Exists(Python))
-        {
-            return $"needs Debian's python3-aiosmtpd: {Python} is not installed (.ci/run installs it with apt)";
-        }
-
-        try
-        {
-            using var process = Process.Start(new ProcessStartInfo(Python, ["-c", "import aiosmtpd"]) { RedirectStandardError = true, UseShellExecute = false })!;
-            var error = process.StandardError.ReadToEnd();
-            process.WaitForExit();
-            var why = error.Split('\n', StringSplitOptions.RemoveEmptyEntries | StringSplitOptions.TrimEntries).LastOrDefault() ?? $"exit code {process.ExitCode}";
-            return process.ExitCode == 0 ? null : $"needs Debian's python3-aiosmtpd: {Python} cannot import aiosmtpd ({why}); .ci/run installs it with apt";
-        }
-        catch (System.ComponentModel.Win32Exception ex)
-        {
-            return $"{Python} cannot be started: {ex.Message}";
-        }
-    }
+    private static string? FindMissing() => Ingest.Support.PythonPeer.WhyCannotImport("aiosmtpd", "python3-aiosmtpd");
 }
 
 /// <summary>A throwaway self-signed certificate for 127.0.0.1, written as PEM files; it is also its own authority (for CA-file trust).</summary>
