@@ -6,6 +6,7 @@ using HumWatch.Host.Configuration;
 using HumWatch.Host.Inbox;
 using HumWatch.Host.Ingest;
 using HumWatch.Host.Monitoring;
+using HumWatch.Host.Notify;
 using HumWatch.Host.Publishing;
 using HumWatch.Host.Store;
 using HumWatch.Host.Summaries;
@@ -102,6 +103,9 @@ public static class HumWatchHost
         // Hosted services stop in reverse order: ingest (added last) stops taking input first, then the inbox, then
         // the stream monitors drain what they hold and close their alerts, then the ledger writer writes the last rows.
         services.AddHostedService(sp => sp.GetRequiredService<LedgerWriter>());
+
+        // Started before and stopped after everything that raises or clears alerts, so no notification is missed.
+        services.AddHumWatchNotify(bound.Notify, bound.Site, settings.Sources.Environment);
 
         // Before anything is analysed: the alerts an unclean stop left open are closed first.
         services.AddHostedService<UnclosedAlertCloser>();

@@ -7,7 +7,8 @@ namespace HumWatch.Host.Publishing;
 /// <summary>
 /// Sends each alert event to the store, then the log, then subscribers, in that order and each step isolated:
 /// a failing publish never loses the stored row, and a failing store still lets people hear about it.
-/// Events the store refused are kept (bounded) and written before the next event. Thread-safe.
+/// Events the store refused are kept (bounded) and written before the next event. Last, each extra
+/// <see cref="IDispatchSink"/> (notifications) is told of the published body. Thread-safe.
 /// </summary>
 internal sealed class AlertDispatcher : IAlertEventSink
 {
@@ -19,8 +20,9 @@ internal sealed class AlertDispatcher : IAlertEventSink
     private readonly ILogger _logger;
     private readonly Lock _gate = new();
     private readonly Queue<AlertEvent> _unstored = new();
+    private readonly IDispatchSink[] _sinks;
 
-    public AlertDispatcher(IAlertEventStore store, IMessagePublisher publisher, ILogger<AlertDispatcher> logger)
+    public AlertDispatcher(IAlertEventStore store, IMessagePublisher publisher, ILogger<AlertDispatcher> logger, IEnumerable<IDispatchSink>? sinks = null)
     {
         ArgumentNullException.ThrowIfNull(store);
         ArgumentNullException.ThrowIfNull(publisher);
@@ -28,6 +30,7 @@ internal sealed class AlertDispatcher : IAlertEventSink
         _store = store;
         _publisher = publisher;
         _logger = logger;
+        _sinks = sinks?.ToArray() ?? [];
     }
 
     /// <summary>Events waiting for a store retry.</summary>
@@ -50,7 +53,12 @@ internal sealed class AlertDispatcher : IAlertEventSink
         ArgumentNullException.ThrowIfNull(alertEvent);
         var stored = Store(alertEvent);
         Log(alertEvent);
-        var published = Publish(alertEvent);
+        var (published, kind, body) = Publish(alertEvent);
+        if (body is not null)
+        {
+            Tell(alertEvent, kind!, body);
+        }
+
         return (stored, published);
     }
 
@@ -158,25 +166,63 @@ internal sealed class AlertDispatcher : IAlertEventSink
         }
     }
 
-    private bool Publish(AlertEvent alertEvent)
+    private (bool Published, string? Kind, byte[]? Body) Publish(AlertEvent alertEvent)
     {
+        string kind;
+        byte[] body;
         try
         {
-            var (kind, body) = Messages.For(alertEvent);
-            return _publisher.TryPublish(kind, alertEvent.StreamId, body);
+            (kind, body) = Messages.For(alertEvent);
         }
         catch (Exception ex)
         {
+            ReportPublishFailure(ex, alertEvent);
+            return (false, null, null);
+        }
+
+        try
+        {
+            return (_publisher.TryPublish(kind, alertEvent.StreamId, body), kind, body);
+        }
+        catch (Exception ex)
+        {
+            ReportPublishFailure(ex, alertEvent);
+            return (false, kind, body);
+        }
+    }
+
+    private void ReportPublishFailure(Exception ex, AlertEvent alertEvent)
+    {
+        try
+        {
+            _logger.PublishFailed(ex, alertEvent.EventKind.ToText(), alertEvent.Key.ToString(), alertEvent.StreamId);
+        }
+        catch (Exception)
+        {
+            // Nothing left to report to.
+        }
+    }
+
+    private void Tell(AlertEvent alertEvent, string kind, byte[] body)
+    {
+        foreach (var sink in _sinks)
+        {
             try
             {
-                _logger.PublishFailed(ex, alertEvent.EventKind.ToText(), alertEvent.Key.ToString(), alertEvent.StreamId);
+                sink.OnAlertDispatched(alertEvent, kind, body);
             }
-            catch (Exception)
+            catch (Exception ex)
             {
-                // Nothing left to report to.
+                // By design: a sink must not throw, and one that does must not stop the others.
+                try
+                {
+                    _logger.DispatchSinkFailed(ex, sink.GetType().Name, alertEvent.EventKind.ToText(), alertEvent.Key.ToString(), alertEvent.StreamId);
+                }
+                catch (Exception)
+                {
+                    // Nothing left to report to.
+                }
             }
-
-            return false;
         }
     }
 }

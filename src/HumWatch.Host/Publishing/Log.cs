@@ -2,7 +2,7 @@ using Microsoft.Extensions.Logging;
 
 namespace HumWatch.Host.Publishing;
 
-/// <summary>Source-generated log messages of alert dispatch and publishing. Event ids 3000–3099.</summary>
+/// <summary>Source-generated log messages of alert dispatch and publishing. Event ids 3000–3099, and 1470 (dispatch sinks).</summary>
 internal static partial class PublishingLog
 {
     [LoggerMessage(EventId = 3000, Level = LogLevel.Warning,
@@ -39,6 +39,9 @@ internal static partial class PublishingLog
 
     [LoggerMessage(EventId = 3014, Level = LogLevel.Error, Message = "Could not log the {Event} event of {Key} on {Stream}")]
     public static partial void LogFailed(this ILogger logger, Exception exception, string @event, string key, string stream);
+
+    [LoggerMessage(EventId = 1470, Level = LogLevel.Error, Message = "The {Sink} sink failed on the {Event} event of {Key} on {Stream}; the event is stored and published")]
+    public static partial void DispatchSinkFailed(this ILogger logger, Exception exception, string sink, string @event, string key, string stream);
 
     [LoggerMessage(EventId = 3020, Level = LogLevel.Information, Message = "Publishing on {Endpoint}")]
     public static partial void PublisherBound(this ILogger logger, string endpoint);
