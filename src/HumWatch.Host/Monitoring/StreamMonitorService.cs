@@ -1,4 +1,5 @@
 using System.Collections.Concurrent;
+using HumWatch.Host.Health;
 using HumWatch.Host.Ingest;
 using HumWatch.Host.Publishing;
 using Microsoft.Extensions.Hosting;
@@ -24,15 +25,19 @@ internal sealed class StreamMonitorService : BackgroundService
     private readonly ILogger _logger;
     private readonly ConcurrentDictionary<string, StreamMonitor> _monitors = new(StringComparer.Ordinal);
     private readonly WarningThrottle _tooManyThrottle;
+    private readonly ResourceStatus? _resources;
 
+    /// <param name="resources">The store and folder states each status message carries; null leaves them out.</param>
     public StreamMonitorService(
         IngestQueue queue,
         IngestCounters counters,
         StreamSessionFactory sessions,
         IOptions<PublishOptions> publish,
         IMessagePublisher publisher,
-        ILoggerFactory loggerFactory)
+        ILoggerFactory loggerFactory,
+        ResourceStatus? resources = null)
     {
+        _resources = resources;
         _queue = queue;
         _counters = counters;
         _sessions = sessions;
@@ -119,6 +124,9 @@ internal sealed class StreamMonitorService : BackgroundService
     internal void PublishStatus()
     {
         var now = _time.GetUtcNow();
+        var store = _resources?.Store.Snapshot();
+        var logFolder = _resources?.LogFolder.Snapshot();
+        var inboxFolder = _resources?.InboxFolder.Snapshot();
         foreach (var monitor in _monitors.Values)
         {
             var counts = _counters.Get(monitor.StreamId);
@@ -137,6 +145,9 @@ internal sealed class StreamMonitorService : BackgroundService
             {
                 MainsHz = double.IsFinite(monitor.GridNominalHz) ? monitor.GridNominalHz : null,
                 MainsFrom = Checking.RecordingChecker.GridOriginName(monitor.GridFrom),
+                Store = store,
+                LogFolder = logFolder,
+                InboxFolder = inboxFolder,
             };
             _publisher.TryPublish(Messages.StatusKind, monitor.StreamId, Messages.For(status));
         }
