@@ -81,3 +81,12 @@ internal sealed class ResourceStatus(StoreHealth store)
 
     public FolderState InboxFolder { get; } = new();
 }
+
+/// <summary>The store and folder states taken once, for every stream's status of one round.</summary>
+internal sealed record ResourceSnapshot(StoreStatus Store, FolderStatus LogFolder, FolderStatus InboxFolder)
+{
+    public ResourceSnapshot(ResourceStatus resources)
+        : this(resources.Store.Snapshot(), resources.LogFolder.Snapshot(), resources.InboxFolder.Snapshot())
+    {
+    }
+}

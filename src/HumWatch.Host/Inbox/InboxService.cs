@@ -187,8 +187,10 @@ internal sealed class InboxService : BackgroundService
             _candidates.Remove(path);
             try
             {
-                ProcessFile(info, cancellationToken);
-                processed++;
+                if (ProcessFile(info, cancellationToken))
+                {
+                    processed++;
+                }
             }
             catch (Exception ex) when (ex is IOException or UnauthorizedAccessException)
             {
@@ -212,7 +214,8 @@ internal sealed class InboxService : BackgroundService
         return processed;
     }
 
-    private void ProcessFile(FileInfo file, CancellationToken cancellationToken)
+    /// <summary>Checks a settled file; true when it left the inbox (false while it waits for the store or another worker).</summary>
+    private bool ProcessFile(FileInfo file, CancellationToken cancellationToken)
     {
         var streamId = StreamIdFor(file.FullName);
         var sha256 = HashOf(file.FullName);
@@ -221,7 +224,7 @@ internal sealed class InboxService : BackgroundService
         {
             if (entry.State == FileJournalState.Received)
             {
-                return; // another worker holds it
+                return false; // another worker holds it
             }
 
             var target = entry.State == FileJournalState.Archived
@@ -229,7 +232,7 @@ internal sealed class InboxService : BackgroundService
                 : UniqueTarget(_options.RejectedFolder, file.Name, sha256);
             MoveFile(file.FullName, target);
             _logger.AlreadyProcessed(file.FullName, entry.State == FileJournalState.Archived ? "archived" : "rejected");
-            return;
+            return true;
         }
 
         JournalCompletion completion;
@@ -243,7 +246,7 @@ internal sealed class InboxService : BackgroundService
             throw;
         }
 
-        Finish(completion);
+        return Finish(completion);
     }
 
     /// <summary>Checks a claimed file: its alerts and rows go out, its report or reason is written; returns its outcome.</summary>
@@ -321,7 +324,7 @@ internal sealed class InboxService : BackgroundService
     /// entry is written only once the file's minute rows and alert events are in the store; until then, and when the store
     /// refuses the entry, the file stays in the inbox and the store's retry writes the entry.
     /// </summary>
-    private void Finish(JournalCompletion completion)
+    private bool Finish(JournalCompletion completion)
     {
         if (!_health.IsFaulted && _ledger.Flush() && _health.Deferred == 0)
         {
@@ -329,7 +332,7 @@ internal sealed class InboxService : BackgroundService
             {
                 _completions.Complete(completion);
                 Move(completion);
-                return;
+                return true;
             }
             catch (Exception ex) when (StoreFaults.IsStoreFailure(ex))
             {
@@ -342,6 +345,7 @@ internal sealed class InboxService : BackgroundService
         }
 
         _logger.CompletionDeferred(completion.Source, _health.StorePath);
+        return false;
     }
 
     /// <summary>Moves the held files whose journal entry the store's retry has written; returns how many.</summary>

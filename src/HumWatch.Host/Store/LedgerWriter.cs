@@ -52,14 +52,17 @@ internal sealed class LedgerWriter : IMinuteRowSink, IStoreBacklog, IHostedServi
 
     public int RetryOrder => 2;
 
-    /// <summary>Rows waiting because the store refused them (rows waiting only for the next periodic write do not count).</summary>
+    /// <summary>
+    /// Rows waiting because the store refused them or is faulted (rows waiting only for the next periodic write of a
+    /// healthy store do not count).
+    /// </summary>
     public int Waiting
     {
         get
         {
             lock (_gate)
             {
-                return _failing ? _pending.Count : 0;
+                return _failing || _health.IsFaulted ? _pending.Count : 0;
             }
         }
     }
