@@ -199,7 +199,7 @@ public sealed class StoreFaultTests
         Assert.Equal(rig.Rows.Count, rig.Rows.Select(r => (r.SessionId, r.Sequence)).Distinct().Count());
         Assert.Equal(rig.Rows.Count, rig.Count("SELECT count(*) FROM minute_ledger_parts"));
         var expected = rig.Rows.GroupBy(r => (r.MinuteUtc, Key: r.SourceKey.ToString())).ToDictionary(g => g.Key, g => g.Sum(r => r.MonitoredSeconds));
-        var ledger = rig.Store.Ledger.Rows(stream, Rooms.Start.AddHours(-1), Rooms.Start.AddHours(1)).ToDictionary(r => (r.MinuteUtc, Key: r.SourceKey.ToString()), r => r.MonitoredSeconds);
+        var ledger = rig.Store.Ledger.Rows(stream, Rooms.Start.AddDays(-1), Rooms.Start.AddDays(1)).ToDictionary(r => (r.MinuteUtc, Key: r.SourceKey.ToString()), r => r.MonitoredSeconds);
         Assert.Equal(expected.Keys.Order(), ledger.Keys.Order());
         Assert.All(expected, p => Assert.Equal(p.Value, ledger[p.Key], 9));
 
