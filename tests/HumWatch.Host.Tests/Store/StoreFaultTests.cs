@@ -60,6 +60,28 @@ public sealed class StoreFaultTests
         });
     }
 
+    [WriteProtectionFact]
+    [System.Runtime.Versioning.UnsupportedOSPlatform("windows")]
+    public void A_write_protected_store_file_is_refused_at_open_naming_the_file()
+    {
+        // SQLite docs, sqlite3_open_v2: SQLITE_OPEN_READWRITE opens a file that the operating system write-protects
+        // read-only, without an error; the store must not start on it and fail every write afterwards.
+        using var temp = new TempFolder();
+        var path = temp.File("protected.db");
+        new HumWatchStore(new StoreOptions { Path = path }, TimeProvider.System).Dispose();
+        File.SetUnixFileMode(path, UnixFileMode.UserRead | UnixFileMode.GroupRead | UnixFileMode.OtherRead);
+        try
+        {
+            var refused = Assert.Throws<InvalidOperationException>(() => new HumWatchStore(new StoreOptions { Path = path }, TimeProvider.System));
+            Assert.Contains(path, refused.Message, StringComparison.Ordinal);
+            Assert.Contains("read-only", refused.Message, StringComparison.Ordinal);
+        }
+        finally
+        {
+            File.SetUnixFileMode(path, UnixFileMode.UserRead | UnixFileMode.UserWrite);
+        }
+    }
+
     [Theory]
     [InlineData(typeof(UnauthorizedAccessException), "read-only")]
     [InlineData(typeof(IOException), "failing")]
