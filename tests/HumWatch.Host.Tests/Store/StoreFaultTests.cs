@@ -82,6 +82,13 @@ public sealed class StoreFaultTests
         }
     }
 
+    [Fact]
+    public void Every_fault_kind_has_its_documented_spelling()
+    {
+        // docs/messages.md, status "store.state": ok, full, read-only, locked or failing.
+        Assert.Equal(["ok", "full", "read-only", "locked", "failing"], Enum.GetValues<StoreFaultKind>().Select(k => k.ToText()));
+    }
+
     [Theory]
     [InlineData(typeof(UnauthorizedAccessException), "read-only")]
     [InlineData(typeof(IOException), "failing")]
