@@ -4,6 +4,7 @@ using HumWatch.Host.Store;
 using Microsoft.Extensions.Time.Testing;
 using Serilog.Events;
 using Serilog.Parsing;
+using HumWatch.Host.Tests.EndToEnd;
 using Xunit;
 
 namespace HumWatch.Host.Tests.Composition;
@@ -19,12 +20,9 @@ public sealed class LogFolderGuardTests : IDisposable
     {
         var folder = _temp.File("logs");
         using var files = new LogFiles(new LogOptions { Folder = folder });
-        var time = new FakeTimeProvider();
-        var resources = new ResourceStatus(new StoreHealth("unused.db", time, new RecordingLogger<StoreHealth>()));
-        var logger = new RecordingLogger<LogFolderGuard>();
-        var guard = new LogFolderGuard(files, resources, time, logger);
+        var (guard, resources, logger) = Guard(files);
         files.Emit(Line("before the removal"));
-        Assert.Contains("before the removal", ReadLogs(folder), StringComparison.Ordinal);
+        Assert.Contains("before the removal", string.Join("\n", ServiceUnderTest.LogLines(folder)), StringComparison.Ordinal);
 
         Directory.Delete(folder, recursive: true);
         files.Emit(Line("into the removed file")); // the open file went with its folder: this line is lost
@@ -33,7 +31,7 @@ public sealed class LogFolderGuardTests : IDisposable
         files.Emit(Line("after the check"));
 
         Assert.True(Directory.Exists(folder));
-        var text = ReadLogs(folder);
+        var text = string.Join("\n", ServiceUnderTest.LogLines(folder));
         Assert.Contains("after the check", text, StringComparison.Ordinal);
         Assert.DoesNotContain("before the removal", text, StringComparison.Ordinal);
         Assert.Single(logger.Entries, e => e.EventId.Id == 1351);
@@ -46,10 +44,7 @@ public sealed class LogFolderGuardTests : IDisposable
         var parent = _temp.File("var");
         var folder = Path.Combine(parent, "logs");
         using var files = new LogFiles(new LogOptions { Folder = folder });
-        var time = new FakeTimeProvider();
-        var resources = new ResourceStatus(new StoreHealth("unused.db", time, new RecordingLogger<StoreHealth>()));
-        var logger = new RecordingLogger<LogFolderGuard>();
-        var guard = new LogFolderGuard(files, resources, time, logger);
+        var (guard, resources, logger) = Guard(files);
         files.Emit(Line("first"));
 
         Directory.Delete(parent, recursive: true);
@@ -65,23 +60,18 @@ public sealed class LogFolderGuardTests : IDisposable
         files.Emit(Line("back again"));
 
         Assert.Single(logger.Entries, e => e.EventId.Id == 1353);
-        Assert.Contains("back again", ReadLogs(folder), StringComparison.Ordinal);
+        Assert.Contains("back again", string.Join("\n", ServiceUnderTest.LogLines(folder)), StringComparison.Ordinal);
         Assert.Equal("ok", resources.LogFolder.Snapshot().State);
+    }
+
+    private static (LogFolderGuard Guard, ResourceStatus Resources, RecordingLogger<LogFolderGuard> Logger) Guard(LogFiles files)
+    {
+        var time = new FakeTimeProvider();
+        var resources = new ResourceStatus(new StoreHealth("unused.db", time, new RecordingLogger<StoreHealth>()));
+        var logger = new RecordingLogger<LogFolderGuard>();
+        return (new LogFolderGuard(files, resources, time, logger), resources, logger);
     }
 
     private static LogEvent Line(string text) =>
         new(DateTimeOffset.UtcNow, LogEventLevel.Information, null, new MessageTemplateParser().Parse(text), []);
-
-    private static string ReadLogs(string folder)
-    {
-        var text = "";
-        foreach (var path in Directory.GetFiles(folder, "humwatch-*.log"))
-        {
-            using var stream = new FileStream(path, FileMode.Open, FileAccess.Read, FileShare.ReadWrite | FileShare.Delete);
-            using var reader = new StreamReader(stream);
-            text += reader.ReadToEnd();
-        }
-
-        return text;
-    }
 }

@@ -53,8 +53,8 @@ public sealed class ResourceFaultEndToEndTests
             .Order()
             .ToList();
         Assert.Equal(published, stored);
-        Assert.Contains(ReadLogs(Path.Combine(temp.Path, "logs")), l => l.Contains("is locked:", StringComparison.Ordinal));
-        Assert.Contains(ReadLogs(Path.Combine(temp.Path, "logs")), l => l.Contains("takes writes again", StringComparison.Ordinal));
+        Assert.Contains(ServiceUnderTest.LogLines(Path.Combine(temp.Path, "logs")), l => l.Contains("is locked:", StringComparison.Ordinal));
+        Assert.Contains(ServiceUnderTest.LogLines(Path.Combine(temp.Path, "logs")), l => l.Contains("takes writes again", StringComparison.Ordinal));
     }
 
     [Fact]
@@ -96,7 +96,7 @@ public sealed class ResourceFaultEndToEndTests
         Assert.True(File.Exists(archived), "the file dropped into the recreated inbox was not archived");
 
         // And the log files in the recreated folder carry the lines written since.
-        var lines = ReadLogs(logs);
+        var lines = ServiceUnderTest.LogLines(logs);
         Assert.Contains(lines, l => l.Contains($"The log folder {logs} was removed while running", StringComparison.Ordinal));
         Assert.Contains(lines, l => l.Contains("checked as stream bay-e2e", StringComparison.Ordinal));
     }
@@ -116,22 +116,5 @@ public sealed class ResourceFaultEndToEndTests
 
     private static DateTimeOffset Utc(JsonElement body) => DateTimeOffset.Parse(Text(body, "utc")!, CultureInfo.InvariantCulture);
 
-    private static string? Text(JsonElement json, string name) =>
-        json.TryGetProperty(name, out var value) && value.ValueKind == JsonValueKind.String ? value.GetString() : null;
-
-    private static List<string> ReadLogs(string folder)
-    {
-        var lines = new List<string>();
-        foreach (var path in Directory.GetFiles(folder, "humwatch-*.log"))
-        {
-            using var stream = new FileStream(path, FileMode.Open, FileAccess.Read, FileShare.ReadWrite | FileShare.Delete);
-            using var reader = new StreamReader(stream);
-            while (reader.ReadLine() is { } line)
-            {
-                lines.Add(line);
-            }
-        }
-
-        return lines;
-    }
+    private static string? Text(JsonElement json, string name) => ServiceEndToEndTests.Text(json, name);
 }

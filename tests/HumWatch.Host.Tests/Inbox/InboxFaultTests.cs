@@ -23,9 +23,7 @@ public sealed class InboxFaultTests
         await rig.StartAsync();
         var logger = new RecordingLogger<InboxService>();
         var inbox = NewInbox(rig, logger);
-        var dropped = Path.Combine(rig.Temp.File("inbox"), "bay-7.edf");
-        Directory.CreateDirectory(Path.GetDirectoryName(dropped)!);
-        ServiceEndToEndTests.WriteRecording(dropped, Rooms.WithMains("bay-7", onSeconds: 0, offSeconds: null), seconds: 90);
+        var dropped = Drop(rig, "bay-7", seconds: 90);
         var sha256 = Convert.ToHexStringLower(SHA256.HashData(File.ReadAllBytes(dropped)));
         var size = new FileInfo(dropped).Length;
 
@@ -76,9 +74,7 @@ public sealed class InboxFaultTests
         await rig.StartAsync();
         var logger = new RecordingLogger<InboxService>();
         var inbox = NewInbox(rig, logger);
-        var dropped = Path.Combine(rig.Temp.File("inbox"), "bay-8.edf");
-        Directory.CreateDirectory(Path.GetDirectoryName(dropped)!);
-        ServiceEndToEndTests.WriteRecording(dropped, Rooms.WithMains("bay-8", onSeconds: 0, offSeconds: null), seconds: 30);
+        var dropped = Drop(rig, "bay-8", seconds: 30);
         rig.OnStoreConnection("PRAGMA query_only = 1");
 
         Assert.Equal(0, inbox.ScanOnce());
@@ -146,6 +142,15 @@ public sealed class InboxFaultTests
         Assert.Equal("ok", rig.Resources.InboxFolder.Snapshot().State);
         ServiceEndToEndTests.WriteRecording(Path.Combine(folder, "bay-10.edf"), Rooms.Quiet("bay-10"), seconds: 20);
         Assert.Equal(1, inbox.ScanOnce());
+    }
+
+    /// <summary>A recording of a room with a mains line from the start, dropped into the rig's inbox as "&lt;name&gt;.edf".</summary>
+    private static string Drop(StoreFaultRig rig, string name, int seconds)
+    {
+        var path = Path.Combine(rig.Temp.File("inbox"), name + ".edf");
+        Directory.CreateDirectory(Path.GetDirectoryName(path)!);
+        ServiceEndToEndTests.WriteRecording(path, Rooms.WithMains(name, onSeconds: 0, offSeconds: null), seconds);
+        return path;
     }
 
     private static InboxService NewInbox(StoreFaultRig rig, RecordingLogger<InboxService> logger, string? folder = null) => new(
