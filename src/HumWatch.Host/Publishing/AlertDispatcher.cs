@@ -7,43 +7,40 @@ namespace HumWatch.Host.Publishing;
 /// <summary>
 /// Sends each alert event to the store, then the log, then subscribers, in that order and each step isolated:
 /// a failing publish never loses the stored row, and a failing store still lets people hear about it.
-/// Events the store refused are kept (bounded) and written before the next event. Last, each extra
-/// <see cref="IDispatchSink"/> (notifications) is told of the published body. Thread-safe.
+/// Events the store refused wait (bounded, in order) and the store's <see cref="StoreHealth"/> writes them again. Last,
+/// each extra <see cref="IDispatchSink"/> (notifications) is told of the published body. Thread-safe.
 /// </summary>
 internal sealed class AlertDispatcher : IAlertEventSink
 {
-    /// <summary>Events kept for a later store attempt before the oldest are dropped (and logged).</summary>
+    /// <summary>Events kept for a later store attempt before the oldest are given up (counted and logged).</summary>
     public const int MaxPendingStore = 1000;
 
-    private readonly IAlertEventStore _store;
     private readonly IMessagePublisher _publisher;
     private readonly ILogger _logger;
-    private readonly Lock _gate = new();
-    private readonly Queue<AlertEvent> _unstored = new();
+    private readonly DeferredWrites<AlertEvent> _unstored;
     private readonly IDispatchSink[] _sinks;
 
-    public AlertDispatcher(IAlertEventStore store, IMessagePublisher publisher, ILogger<AlertDispatcher> logger, IEnumerable<IDispatchSink>? sinks = null)
+    /// <param name="health">The store's fault state, which retries refused events; null makes one of this dispatcher's own.</param>
+    /// <param name="sinks">Told of each published event after the socket (notifications); none by default.</param>
+    public AlertDispatcher(
+        IAlertEventStore store,
+        IMessagePublisher publisher,
+        ILogger<AlertDispatcher> logger,
+        StoreHealth? health = null,
+        IEnumerable<IDispatchSink>? sinks = null)
     {
         ArgumentNullException.ThrowIfNull(store);
         ArgumentNullException.ThrowIfNull(publisher);
         ArgumentNullException.ThrowIfNull(logger);
-        _store = store;
         _publisher = publisher;
         _logger = logger;
         _sinks = sinks?.ToArray() ?? [];
+        _unstored = new DeferredWrites<AlertEvent>(
+            "alert events", retryOrder: 1, MaxPendingStore, e => store.AppendAlert(e), Describe, health ?? new StoreHealth("the alert store", TimeProvider.System, logger));
     }
 
     /// <summary>Events waiting for a store retry.</summary>
-    public int PendingStoreCount
-    {
-        get
-        {
-            lock (_gate)
-            {
-                return _unstored.Count;
-            }
-        }
-    }
+    public int PendingStoreCount => _unstored.Waiting;
 
     public void OnAlertEvent(AlertEvent alertEvent) => Dispatch(alertEvent);
 
@@ -51,7 +48,7 @@ internal sealed class AlertDispatcher : IAlertEventSink
     public (bool Stored, bool Published) Dispatch(AlertEvent alertEvent)
     {
         ArgumentNullException.ThrowIfNull(alertEvent);
-        var stored = Store(alertEvent);
+        var stored = _unstored.Write(alertEvent);
         Log(alertEvent);
         var (published, kind, body) = Publish(alertEvent);
         if (body is not null)
@@ -62,65 +59,8 @@ internal sealed class AlertDispatcher : IAlertEventSink
         return (stored, published);
     }
 
-    private bool Store(AlertEvent alertEvent)
-    {
-        lock (_gate)
-        {
-            // Earlier failures first, so the store keeps event order.
-            var recovered = 0;
-            Exception? retryFailure = null;
-            while (_unstored.Count > 0)
-            {
-                try
-                {
-                    _store.AppendAlert(_unstored.Peek());
-                }
-                catch (Exception ex)
-                {
-                    retryFailure = ex;
-                    break;
-                }
-
-                _unstored.Dequeue();
-                recovered++;
-            }
-
-            if (recovered > 0)
-            {
-                _logger.StoreRecovered(recovered);
-            }
-
-            if (_unstored.Count == 0)
-            {
-                try
-                {
-                    _store.AppendAlert(alertEvent);
-                    return true;
-                }
-                catch (Exception ex)
-                {
-                    Keep(alertEvent);
-                    _logger.StoreFailed(ex, alertEvent.EventKind.ToText(), alertEvent.Key.ToString(), alertEvent.StreamId, _unstored.Count);
-                    return false;
-                }
-            }
-
-            Keep(alertEvent);
-            _logger.StoreFailed(retryFailure!, alertEvent.EventKind.ToText(), alertEvent.Key.ToString(), alertEvent.StreamId, _unstored.Count);
-            return false;
-        }
-    }
-
-    private void Keep(AlertEvent alertEvent)
-    {
-        if (_unstored.Count >= MaxPendingStore)
-        {
-            var oldest = _unstored.Dequeue();
-            _logger.StoreRetryOverflow(oldest.EventKind.ToText(), oldest.Key.ToString(), oldest.StreamId, _unstored.Count);
-        }
-
-        _unstored.Enqueue(alertEvent);
-    }
+    private static string Describe(AlertEvent alertEvent) =>
+        $"the {alertEvent.EventKind.ToText()} event of {alertEvent.Key} on {alertEvent.StreamId} at {alertEvent.Utc:o}";
 
     private void Log(AlertEvent alertEvent)
     {

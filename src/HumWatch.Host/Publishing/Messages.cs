@@ -87,6 +87,15 @@ internal sealed record StatusMessage(
 
     /// <summary>"configured", "measured" or "unknown".</summary>
     public string? MainsFrom { get; init; }
+
+    /// <summary>Whether the store takes writes, and what waits for it; the same for every stream of the process.</summary>
+    public Store.StoreStatus? Store { get; init; }
+
+    /// <summary>Whether the log folder is there.</summary>
+    public Health.FolderStatus? LogFolder { get; init; }
+
+    /// <summary>Whether the inbox folder is there ("off" when the inbox is off).</summary>
+    public Health.FolderStatus? InboxFolder { get; init; }
 }
 
 [JsonSourceGenerationOptions(PropertyNamingPolicy = JsonKnownNamingPolicy.CamelCase)]

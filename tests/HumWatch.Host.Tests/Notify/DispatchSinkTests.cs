@@ -22,7 +22,7 @@ public sealed class DispatchSinkTests
         var publisher = new RecordingPublisher(steps);
         var recording = new RecordingSink(steps);
         var logger = new RecordingLogger<AlertDispatcher>();
-        var dispatcher = new AlertDispatcher(new StepStore(steps), publisher, logger, [new ThrowingSink(), recording]);
+        var dispatcher = new AlertDispatcher(new StepStore(steps), publisher, logger, sinks: [new ThrowingSink(), recording]);
 
         Assert.Equal((true, true), dispatcher.Dispatch(Some.Raised()));
         Assert.Equal((true, true), dispatcher.Dispatch(Some.Cleared()));

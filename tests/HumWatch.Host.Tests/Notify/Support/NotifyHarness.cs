@@ -30,7 +30,7 @@ internal sealed class NotifyHarness : IAsyncDisposable
         services.AddHumWatchNotify(options, site ?? new SiteOptions { Name = "Test lab", TimeZone = "Europe/Berlin" }, environment ?? new Dictionary<string, string?>());
         _services = services.BuildServiceProvider();
         Notifier = _services.GetRequiredService<NotificationService>();
-        Dispatcher = new AlertDispatcher(new MemoryStore(), Publisher, new RecordingLogger<AlertDispatcher>(), _services.GetServices<IDispatchSink>());
+        Dispatcher = new AlertDispatcher(new MemoryStore(), Publisher, new RecordingLogger<AlertDispatcher>(), sinks: _services.GetServices<IDispatchSink>());
     }
 
     public RecordingLoggerProvider Logs { get; } = new();
