@@ -14,11 +14,15 @@ internal sealed class EdfRecordingReader : IRecordingReader, IRecordRangeReader
 {
     private const int FileBufferBytes = 1 << 20;
 
+    /// <summary>Most annotations kept (100 000): a file of nothing but 2-byte annotations must not fill the heap.</summary>
+    public const int MaxAnnotations = 100_000;
+
     private readonly FileStream _stream;
     private readonly EdfHeader _header;
     private readonly EdfGroupPlan[] _plans;
     private readonly EdfSignalHeader[] _annotationSignals;
     private readonly List<RecordingAnnotation> _annotations = [];
+    private long _annotationsNotKept;
 
     private EdfRecordingReader(FileStream stream, EdfHeader header, RecordingInfo info, EdfGroupPlan[] plans, EdfSignalHeader[] annotationSignals)
     {
@@ -29,6 +33,8 @@ internal sealed class EdfRecordingReader : IRecordingReader, IRecordRangeReader
     public RecordingInfo Info { get; }
 
     public IReadOnlyList<RecordingAnnotation> Annotations => _annotations;
+
+    public long AnnotationsNotKept => _annotationsNotKept;
 
     public static EdfRecordingReader Open(string path, bool isBdf, RecordingReadOptions options)
     {
@@ -196,17 +202,19 @@ internal sealed class EdfRecordingReader : IRecordingReader, IRecordRangeReader
             floatsPerRecord += (long)p.Layout.ChannelCount * p.SamplesPerRecord;
         }
 
-        // Whole records per chunk, at least one, and never more than 64 MiB of floats in flight per batch.
-        var recordsPerChunk = (int)Math.Clamp(Math.Round(chunkSeconds / header.RecordDurationSeconds), 1, int.MaxValue);
-        recordsPerChunk = (int)Math.Max(1, Math.Min(recordsPerChunk, EdfHeader.MaxRecordBytes / 4 / floatsPerRecord));
+        // Whole records per chunk, at least one, never more than the records to read (the batch buffer is sized from
+        // what the file holds, not from the record duration the header declares) and never more than 64 MiB of floats.
+        var recordsPerChunk = (long)Math.Clamp(Math.Round(chunkSeconds / header.RecordDurationSeconds), 1, int.MaxValue);
+        recordsPerChunk = Math.Max(1, Math.Min(Math.Min(recordsPerChunk, recordCount), EdfHeader.MaxRecordBytes / 4 / floatsPerRecord));
 
         // Annotations of a range are parsed (a malformed one is still an error) into a list nobody reads.
         var annotations = collectAnnotations ? _annotations : [];
         annotations.Clear();
+        _annotationsNotKept = 0;
         var batches = new EdfRecordBatch[_plans.Length];
         for (var g = 0; g < _plans.Length; g++)
         {
-            batches[g] = new EdfRecordBatch(_plans[g], recordsPerChunk, reuseBuffers);
+            batches[g] = new EdfRecordBatch(_plans[g], (int)recordsPerChunk, reuseBuffers);
         }
 
         var record = ArrayPool<byte>.Shared.Rent(recordBytes);
@@ -303,7 +311,7 @@ internal sealed class EdfRecordingReader : IRecordingReader, IRecordRangeReader
             var bytes = record.AsSpan((int)s.ByteOffsetInRecord, s.SamplesPerRecord * _header.BytesPerSample);
             try
             {
-                var first = TalParser.Parse(bytes, annotations);
+                var first = TalParser.Parse(bytes, annotations, MaxAnnotations, ref _annotationsNotKept);
                 if (a == 0)
                 {
                     recordOnset = first;
