@@ -80,6 +80,37 @@ public sealed class DeclaredSizeTests : IDisposable
     }
 
     [Fact]
+    public void Edf_record_duration_so_short_that_the_rate_is_infinite_is_refused_naming_the_signal()
+    {
+        // 4.9e-324 is the smallest double above 0; 256 samples in it overflow to an infinite rate.
+        var edf = new RawEdf { RecordDuration = "4.9e-324" };
+        edf.Signals.Add(new RawSignal("Fp1", 256));
+        edf.Records.Add(edf.Record([new short[256]], ""));
+        var path = _folder.Write("instant.edf", edf.ToBytes());
+
+        var ex = Assert.Throws<RecordingFormatException>(() => RecordingReader.Open(path).Dispose());
+
+        Assert.Equal("signal 1 of 1 ('Fp1') has 256 samples per data record of '4.9e-324' s, Infinity Hz; more than 1 MHz is not a plausible recording", ex.Problem);
+    }
+
+    [Fact]
+    public void Edf_plus_d_record_starting_too_late_for_a_64_bit_sample_index_is_refused()
+    {
+        // 10^17 s at 256 Hz is 2.56·10^19 samples, past 2^63 ≈ 9.2·10^18.
+        var edf = new RawEdf { Reserved = "EDF+D" };
+        edf.Signals.Add(new RawSignal("Fp1", 256));
+        edf.Signals.Add(RawSignal.Annotations());
+        edf.Records.Add(edf.Record([new short[256]], "+0\u0014\u0014\0"));
+        edf.Records.Add(edf.Record([new short[256]], "+100000000000000000\u0014\u0014\0"));
+        var path = _folder.Write("far-future.edf", edf.ToBytes());
+
+        using var reader = RecordingReader.Open(path);
+        var ex = Assert.Throws<RecordingFormatException>(() => reader.ReadChunks().ToList());
+
+        Assert.Equal("data record 2 starts at 1E+17 s, too late for a 64-bit sample index at 256 Hz", ex.Problem);
+    }
+
+    [Fact]
     public void Annotations_past_the_limit_are_checked_and_counted_but_not_kept()
     {
         const int Texts = EdfRecordingReader.MaxAnnotations + 500;

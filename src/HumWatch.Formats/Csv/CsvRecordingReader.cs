@@ -182,6 +182,11 @@ internal sealed class CsvRecordingReader : IRecordingReader
                 interval = 1.0 / whole;
             }
 
+            if (!(rateHz <= RecordingReader.MaxSampleRateHz))
+            {
+                throw new RecordingFormatException(path, string.Create(CultureInfo.InvariantCulture, $"sample rate {rateHz:G6} Hz (a step of {interval:G6} s over the first rows of the time column) is more than 1 MHz; not a plausible recording"));
+            }
+
             if (rateHz < options.MinAnalysisRateHz)
             {
                 var from = byContent ? $"taking column 1 '{timeHeader}' as time in seconds" : "from the time column";

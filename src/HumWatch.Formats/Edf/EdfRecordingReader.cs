@@ -14,6 +14,9 @@ internal sealed class EdfRecordingReader : IRecordingReader, IRecordRangeReader
 {
     private const int FileBufferBytes = 1 << 20;
 
+    /// <summary>Largest first-sample index of an EDF+D record (2^62): what follows it still fits in 64 bits.</summary>
+    private const double MaxDiscontinuousIndex = 4.611686018427388E+18;
+
     /// <summary>Most annotations kept (100 000): a file of nothing but 2-byte annotations must not fill the heap.</summary>
     public const int MaxAnnotations = 100_000;
 
@@ -242,7 +245,7 @@ internal sealed class EdfRecordingReader : IRecordingReader, IRecordRangeReader
                 for (var g = 0; g < batches.Length; g++)
                 {
                     var b = batches[g];
-                    var startIndex = header.IsDiscontinuous ? (long)Math.Round(startSeconds * b.Plan.Layout.SampleRateHz) : r * b.Plan.SamplesPerRecord;
+                    var startIndex = header.IsDiscontinuous ? DiscontinuousStartIndex(startSeconds, b.Plan.Layout.SampleRateHz, r, onset!.Value) : r * b.Plan.SamplesPerRecord;
                     b.PendingStart = startIndex;
                     if (b.Filled > 0 && startIndex != b.EndIndex)
                     {
@@ -284,6 +287,19 @@ internal sealed class EdfRecordingReader : IRecordingReader, IRecordRangeReader
                 b.Dispose();
             }
         }
+    }
+
+    /// <summary>An EDF+D record's first sample index from its onset; one too large for a 64-bit index (with room for the records after it) is an error.</summary>
+    private long DiscontinuousStartIndex(double startSeconds, double rateHz, long recordIndex, double onsetSeconds)
+    {
+        var index = Math.Round(startSeconds * rateHz);
+        if (!(index < MaxDiscontinuousIndex))
+        {
+            throw new RecordingFormatException(Info.Path, string.Create(CultureInfo.InvariantCulture,
+                $"data record {recordIndex + 1} starts at {onsetSeconds:G6} s, too late for a 64-bit sample index at {rateHz:G6} Hz"));
+        }
+
+        return (long)index;
     }
 
     private void ReadRecord(byte[] record, int recordBytes, long recordIndex)
