@@ -134,7 +134,7 @@ public sealed class IngestMessageHandlingTests
 
         // A valid start naming a stream, then one label of 16 MiB: parsing it would allocate twice that.
         var header = new byte[16 << 20];
-        var start = Some.Utf8("""{"v":1,"stream":"huge","fs":250,"unit":"uV","index":0,"channels":["""");
+        var start = Some.Utf8("{\"v\":1,\"stream\":\"huge\",\"fs\":250,\"unit\":\"uV\",\"index\":0,\"channels\":[\"");
         start.CopyTo(header, 0);
         header.AsSpan(start.Length, header.Length - start.Length - 3).Fill((byte)'a');
         Some.Utf8("\"]}").CopyTo(header, header.Length - 3);
@@ -144,7 +144,7 @@ public sealed class IngestMessageHandlingTests
         var allocated = GC.GetAllocatedBytesForCurrentThread() - before;
 
         var origin = Assert.Single(harness.Counters.UnattributedRejections());
-        Assert.Equal(1, origin.RejectedByReason[WireRejectReason.TooLarge]);
+        Assert.Equal(1, origin.RejectedFor(WireRejectReason.TooLarge));
         Assert.Null(harness.Counters.Get("huge"));
         var warning = Assert.Single(harness.ServiceLogger.Entries, e => e.EventId == 1102);
         Assert.Contains("over Ingest:MaxHeaderBytes (65536 bytes)", warning.Message, StringComparison.Ordinal);
