@@ -65,7 +65,7 @@ done
 # afl-fuzz as an ordinary user would run it: no core_pattern or CPU governor changes (root-only), no CPU pinning (the
 # machine is shared), the dotnet host is not an instrumented binary (SharpFuzz instruments the managed code).
 export AFL_SKIP_CPUFREQ=1 AFL_I_DONT_CARE_ABOUT_MISSING_CRASHES=1 AFL_NO_AFFINITY=1 AFL_SKIP_BIN_CHECK=1 \
-       AFL_NO_UI=1 AFL_FAST_CAL=1 AFL_IGNORE_SEED_PROBLEMS=1
+       AFL_NO_UI=1 AFL_FAST_CAL=1
 # Memory bounds: afl-fuzz's limit on the address space, and the managed heap's own ceiling (an allocation past it is
 # an OutOfMemoryException, i.e. a crash); the targets also check their allocations per input (AllocationBudget).
 memory_limit_mb=4096
