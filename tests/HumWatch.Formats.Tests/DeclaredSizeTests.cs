@@ -26,7 +26,7 @@ public sealed class DeclaredSizeTests : IDisposable
         // The field has 8 characters; "1e9" is how a whole number that large fits (the reader takes whole numbers written so).
         var path = _folder.Write("billion.edf", edf.ToBytes(recordCount: "1e9"));
 
-        var (ex, allocated) = Allocated(() => Assert.Throws<RecordingFormatException>(() => RecordingReader.Open(path).Dispose()));
+        var (ex, allocated) = Allocation.Measure(() => Assert.Throws<RecordingFormatException>(() => RecordingReader.Open(path).Dispose()));
 
         Assert.Equal(path, ex.Path);
         Assert.Contains("truncated file", ex.Problem, StringComparison.Ordinal);
@@ -67,7 +67,7 @@ public sealed class DeclaredSizeTests : IDisposable
         }
 
         var path = _folder.Write("fast.edf", edf.ToBytes());
-        var ((rateHz, samplesPerChannel), allocated) = Allocated(() =>
+        var ((rateHz, samplesPerChannel), allocated) = Allocation.Measure(() =>
         {
             using var reader = RecordingReader.Open(path);
             var chunks = reader.ReadChunks(2.0).ToList();
@@ -147,7 +147,7 @@ public sealed class DeclaredSizeTests : IDisposable
         }
 
         var path = _folder.WriteText("fast.csv", text.ToString());
-        var ((rateHz, samplesPerChannel), allocated) = Allocated(() =>
+        var ((rateHz, samplesPerChannel), allocated) = Allocation.Measure(() =>
         {
             using var reader = RecordingReader.Open(path);
             var chunks = reader.ReadChunks(2.0).ToList();
@@ -173,7 +173,7 @@ public sealed class DeclaredSizeTests : IDisposable
             }
         }
 
-        var (ex, allocated) = Allocated(() => Assert.Throws<RecordingFormatException>(() => RecordingReader.Open(path).Dispose()));
+        var (ex, allocated) = Allocation.Measure(() => Assert.Throws<RecordingFormatException>(() => RecordingReader.Open(path).Dispose()));
 
         Assert.Equal(path, ex.Path);
         Assert.Equal("line 2 is longer than 1048576 characters; not a row of a text recording", ex.Problem);
@@ -199,12 +199,5 @@ public sealed class DeclaredSizeTests : IDisposable
         var path = _folder.WriteText("too-wide.csv", header + "\n0," + string.Join(',', Enumerable.Repeat("1", 4097)) + "\n");
         var ex = Assert.Throws<RecordingFormatException>(() => RecordingReader.Open(path).Dispose());
         Assert.Equal("line 1: header has 4098 columns; more than 4096 channels is not a plausible recording", ex.Problem);
-    }
-
-    private static (T Result, long AllocatedBytes) Allocated<T>(Func<T> action)
-    {
-        var before = GC.GetAllocatedBytesForCurrentThread();
-        var result = action();
-        return (result, GC.GetAllocatedBytesForCurrentThread() - before);
     }
 }

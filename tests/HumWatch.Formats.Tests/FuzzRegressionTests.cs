@@ -26,17 +26,14 @@ public sealed class FuzzRegressionTests : IDisposable
     public void Input_found_by_fuzzing_is_refused_naming_the_file_within_the_allocation_budget(string target, string name, string problemStart)
     {
         var path = _folder.Write(name, File.ReadAllBytes(Fixtures.Fuzz(target, name)));
-        var before = GC.GetAllocatedBytesForCurrentThread();
-
-        var ex = Assert.Throws<RecordingFormatException>(() =>
+        var (ex, allocated) = Allocation.Measure(() => Assert.Throws<RecordingFormatException>(() =>
         {
             using var reader = RecordingReader.Open(path);
             foreach (var _ in reader.ReadChunks(2.0))
             {
             }
-        });
+        }));
 
-        var allocated = GC.GetAllocatedBytesForCurrentThread() - before;
         Assert.Equal(path, ex.Path);
         Assert.StartsWith(problemStart, ex.Problem, StringComparison.Ordinal);
 
