@@ -15,6 +15,12 @@ public interface IRecordingReader : IDisposable
     /// <exception cref="RecordingFormatException">The file turns out to be malformed part-way through.</exception>
     IEnumerable<GroupChunk> ReadChunks(double chunkSeconds = 2.0);
 
-    /// <summary>Annotations in file order; complete after <see cref="ReadChunks"/> has been enumerated to the end.</summary>
+    /// <summary>
+    /// Annotations in file order; complete after <see cref="ReadChunks"/> has been enumerated to the end. At most the
+    /// first 100 000 are kept; the rest are still checked and counted in <see cref="AnnotationsNotKept"/>.
+    /// </summary>
     IReadOnlyList<RecordingAnnotation> Annotations { get; }
+
+    /// <summary>Annotations read but not kept in <see cref="Annotations"/> because it already held 100 000.</summary>
+    long AnnotationsNotKept { get; }
 }

@@ -6,6 +6,9 @@ namespace HumWatch.Formats;
 /// <summary>Opens a recording file (EDF, EDF+, BDF, BDF+ or CSV) for streaming, chunk-by-chunk reading.</summary>
 public static class RecordingReader
 {
+    /// <summary>Highest sample rate a recording may have (1 MHz, as on the wire); a faster one is a broken header or time column.</summary>
+    internal const double MaxSampleRateHz = 1_000_000;
+
     private static readonly byte[] _edfVersion = "0       "u8.ToArray();
     private static readonly byte[] _bdfVersion = [0xFF, (byte)'B', (byte)'I', (byte)'O', (byte)'S', (byte)'E', (byte)'M', (byte)'I'];
 

@@ -20,6 +20,9 @@ internal sealed class CsvRecordingReader : IRecordingReader
     /// <summary>Rows used to estimate the sample interval at open.</summary>
     private const int RateProbeRows = 1000;
 
+    /// <summary>Most columns accepted: the time and 4096 channels, as many signals as an EDF header may have.</summary>
+    private const int MaxColumns = 4097;
+
     private readonly string _path;
     private readonly char _separator;
     private readonly int _columnCount;
@@ -27,9 +30,10 @@ internal sealed class CsvRecordingReader : IRecordingReader
     private readonly int[] _channelColumns;
     private readonly double[] _channelFactors;
     private readonly double _intervalSeconds;
+    private readonly long _rowCount;
     private readonly StreamLayout _layout;
 
-    private CsvRecordingReader(string path, char separator, int columnCount, double timeFactorSeconds, int[] channelColumns, double[] channelFactors, double intervalSeconds, RecordingInfo info)
+    private CsvRecordingReader(string path, char separator, int columnCount, double timeFactorSeconds, int[] channelColumns, double[] channelFactors, double intervalSeconds, long rowCount, RecordingInfo info)
     {
         _path = path;
         _separator = separator;
@@ -38,6 +42,7 @@ internal sealed class CsvRecordingReader : IRecordingReader
         _channelColumns = channelColumns;
         _channelFactors = channelFactors;
         _intervalSeconds = intervalSeconds;
+        _rowCount = rowCount;
         Info = info;
         _layout = info.Groups[0].Layout;
     }
@@ -46,11 +51,13 @@ internal sealed class CsvRecordingReader : IRecordingReader
 
     public IReadOnlyList<RecordingAnnotation> Annotations { get; } = [];
 
+    public long AnnotationsNotKept => 0;
+
     public static CsvRecordingReader Open(string path, RecordingReadOptions options)
     {
         try
         {
-            using var reader = CsvText.OpenText(path);
+            using var reader = CsvLineReader.Open(path);
             var headerLine = reader.ReadLine();
             var lineNumber = 1;
             while (headerLine is not null && headerLine.Trim().Length == 0)
@@ -70,6 +77,11 @@ internal sealed class CsvRecordingReader : IRecordingReader
             if (names.Length < 2)
             {
                 throw new RecordingFormatException(path, $"line {lineNumber}: header has {names.Length} column; need a time column and at least one channel");
+            }
+
+            if (names.Length > MaxColumns)
+            {
+                throw new RecordingFormatException(path, $"line {lineNumber}: header has {names.Length} columns; more than {MaxColumns - 1} channels is not a plausible recording");
             }
 
             // One pass at open: the first rows give the time column and its sample interval, the row count the duration.
@@ -170,6 +182,11 @@ internal sealed class CsvRecordingReader : IRecordingReader
                 interval = 1.0 / whole;
             }
 
+            if (!(rateHz <= RecordingReader.MaxSampleRateHz))
+            {
+                throw new RecordingFormatException(path, string.Create(CultureInfo.InvariantCulture, $"sample rate {rateHz:G6} Hz (a step of {interval:G6} s over the first rows of the time column) is more than 1 MHz; not a plausible recording"));
+            }
+
             if (rateHz < options.MinAnalysisRateHz)
             {
                 var from = byContent ? $"taking column 1 '{timeHeader}' as time in seconds" : "from the time column";
@@ -178,7 +195,7 @@ internal sealed class CsvRecordingReader : IRecordingReader
 
             var layout = new StreamLayout(rateHz, channels);
             var info = new RecordingInfo(path, "CSV", null, rows / rateHz, [new SignalGroup(0, layout, columns.ToArray())], skipped, null);
-            return new CsvRecordingReader(path, separator, names.Length, timeFactor.Value, [.. columns], [.. factors], interval, info);
+            return new CsvRecordingReader(path, separator, names.Length, timeFactor.Value, [.. columns], [.. factors], interval, rows, info);
         }
         catch (Exception ex) when (ex is IOException or UnauthorizedAccessException)
         {
@@ -204,7 +221,8 @@ internal sealed class CsvRecordingReader : IRecordingReader
     private IEnumerable<GroupChunk> ReadChunksCore(double chunkSeconds)
     {
         var channelCount = _channelColumns.Length;
-        var capacity = (int)Math.Clamp(Math.Round(chunkSeconds * _layout.SampleRateHz), 1, 16 * 1024 * 1024 / channelCount);
+        // Sized from the rows counted at open, never from the rate alone: a short file of a fast rate gets a short buffer.
+        var capacity = (int)Math.Clamp(Math.Min(Math.Round(chunkSeconds * _layout.SampleRateHz), _rowCount), 1, 16 * 1024 * 1024 / channelCount);
         var columnToChannel = new int[_columnCount];
         Array.Fill(columnToChannel, -1);
         for (var c = 0; c < channelCount; c++)
@@ -212,10 +230,10 @@ internal sealed class CsvRecordingReader : IRecordingReader
             columnToChannel[_channelColumns[c]] = c;
         }
 
-        StreamReader reader;
+        CsvLineReader reader;
         try
         {
-            reader = CsvText.OpenText(_path);
+            reader = CsvLineReader.Open(_path);
         }
         catch (Exception ex) when (ex is IOException or UnauthorizedAccessException)
         {
@@ -228,12 +246,17 @@ internal sealed class CsvRecordingReader : IRecordingReader
             string? line;
             do
             {
-                line = reader.ReadLine();
+                line = ReadLineChecked(reader, lineNumber);
                 lineNumber++;
             }
             while (line is not null && line.Trim().Length == 0);
 
-            var names = line!.Split(_separator);
+            if (line is null)
+            {
+                throw new RecordingFormatException(_path, "the file changed after it was opened: its header row is gone");
+            }
+
+            var names = line.Split(_separator);
             float[]? buffer = null;
             var filled = 0;
             long firstIndex = 0;
@@ -310,7 +333,7 @@ internal sealed class CsvRecordingReader : IRecordingReader
         }
     }
 
-    private string? ReadLineChecked(StreamReader reader, int lineNumber)
+    private string? ReadLineChecked(CsvLineReader reader, int lineNumber)
     {
         try
         {

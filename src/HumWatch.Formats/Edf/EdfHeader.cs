@@ -167,6 +167,17 @@ internal sealed class EdfHeader
             throw Fail(path, $"a data record would be {recordBytes} bytes (sum of samples per record × {(isBdf ? 3 : 2)} bytes); more than {MaxRecordBytes} bytes (64 MiB) is not a plausible recording");
         }
 
+        foreach (var s in signals)
+        {
+            // A tiny record duration makes any sample count an absurd (or infinite) rate; annotation "samples" are bytes.
+            var rateHz = s.SamplesPerRecord / duration;
+            if (!s.IsAnnotation && !(rateHz <= RecordingReader.MaxSampleRateHz))
+            {
+                throw Fail(path, string.Create(CultureInfo.InvariantCulture,
+                    $"signal {s.Index + 1} of {ns} ('{s.Label}') has {s.SamplesPerRecord} samples per data record of '{durationText.Trim()}' s, {rateHz:G6} Hz; more than 1 MHz is not a plausible recording"));
+            }
+        }
+
         var dataBytes = fileBytes - expectedHeaderBytes;
         long recordCount;
         if (recordCountField == -1)

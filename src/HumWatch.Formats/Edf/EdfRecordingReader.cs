@@ -14,11 +14,18 @@ internal sealed class EdfRecordingReader : IRecordingReader, IRecordRangeReader
 {
     private const int FileBufferBytes = 1 << 20;
 
+    /// <summary>Largest first-sample index of an EDF+D record (2^62): what follows it still fits in 64 bits.</summary>
+    private const double MaxDiscontinuousIndex = 4.611686018427388E+18;
+
+    /// <summary>Most annotations kept (100 000): a file of nothing but 2-byte annotations must not fill the heap.</summary>
+    public const int MaxAnnotations = 100_000;
+
     private readonly FileStream _stream;
     private readonly EdfHeader _header;
     private readonly EdfGroupPlan[] _plans;
     private readonly EdfSignalHeader[] _annotationSignals;
     private readonly List<RecordingAnnotation> _annotations = [];
+    private long _annotationsNotKept;
 
     private EdfRecordingReader(FileStream stream, EdfHeader header, RecordingInfo info, EdfGroupPlan[] plans, EdfSignalHeader[] annotationSignals)
     {
@@ -29,6 +36,8 @@ internal sealed class EdfRecordingReader : IRecordingReader, IRecordRangeReader
     public RecordingInfo Info { get; }
 
     public IReadOnlyList<RecordingAnnotation> Annotations => _annotations;
+
+    public long AnnotationsNotKept => _annotationsNotKept;
 
     public static EdfRecordingReader Open(string path, bool isBdf, RecordingReadOptions options)
     {
@@ -196,17 +205,19 @@ internal sealed class EdfRecordingReader : IRecordingReader, IRecordRangeReader
             floatsPerRecord += (long)p.Layout.ChannelCount * p.SamplesPerRecord;
         }
 
-        // Whole records per chunk, at least one, and never more than 64 MiB of floats in flight per batch.
-        var recordsPerChunk = (int)Math.Clamp(Math.Round(chunkSeconds / header.RecordDurationSeconds), 1, int.MaxValue);
-        recordsPerChunk = (int)Math.Max(1, Math.Min(recordsPerChunk, EdfHeader.MaxRecordBytes / 4 / floatsPerRecord));
+        // Whole records per chunk, at least one, never more than the records to read (the batch buffer is sized from
+        // what the file holds, not from the record duration the header declares) and never more than 64 MiB of floats.
+        var recordsPerChunk = (long)Math.Clamp(Math.Round(chunkSeconds / header.RecordDurationSeconds), 1, int.MaxValue);
+        recordsPerChunk = Math.Max(1, Math.Min(Math.Min(recordsPerChunk, recordCount), EdfHeader.MaxRecordBytes / 4 / floatsPerRecord));
 
         // Annotations of a range are parsed (a malformed one is still an error) into a list nobody reads.
         var annotations = collectAnnotations ? _annotations : [];
         annotations.Clear();
+        _annotationsNotKept = 0;
         var batches = new EdfRecordBatch[_plans.Length];
         for (var g = 0; g < _plans.Length; g++)
         {
-            batches[g] = new EdfRecordBatch(_plans[g], recordsPerChunk, reuseBuffers);
+            batches[g] = new EdfRecordBatch(_plans[g], (int)recordsPerChunk, reuseBuffers);
         }
 
         var record = ArrayPool<byte>.Shared.Rent(recordBytes);
@@ -234,7 +245,7 @@ internal sealed class EdfRecordingReader : IRecordingReader, IRecordRangeReader
                 for (var g = 0; g < batches.Length; g++)
                 {
                     var b = batches[g];
-                    var startIndex = header.IsDiscontinuous ? (long)Math.Round(startSeconds * b.Plan.Layout.SampleRateHz) : r * b.Plan.SamplesPerRecord;
+                    var startIndex = header.IsDiscontinuous ? DiscontinuousStartIndex(startSeconds, b.Plan.Layout.SampleRateHz, r, onset!.Value) : r * b.Plan.SamplesPerRecord;
                     b.PendingStart = startIndex;
                     if (b.Filled > 0 && startIndex != b.EndIndex)
                     {
@@ -278,6 +289,19 @@ internal sealed class EdfRecordingReader : IRecordingReader, IRecordRangeReader
         }
     }
 
+    /// <summary>An EDF+D record's first sample index from its onset; one too large for a 64-bit index (with room for the records after it) is an error.</summary>
+    private long DiscontinuousStartIndex(double startSeconds, double rateHz, long recordIndex, double onsetSeconds)
+    {
+        var index = Math.Round(startSeconds * rateHz);
+        if (!(index < MaxDiscontinuousIndex))
+        {
+            throw new RecordingFormatException(Info.Path, string.Create(CultureInfo.InvariantCulture,
+                $"data record {recordIndex + 1} starts at {onsetSeconds:G6} s, too late for a 64-bit sample index at {rateHz:G6} Hz"));
+        }
+
+        return (long)index;
+    }
+
     private void ReadRecord(byte[] record, int recordBytes, long recordIndex)
     {
         try
@@ -303,7 +327,7 @@ internal sealed class EdfRecordingReader : IRecordingReader, IRecordRangeReader
             var bytes = record.AsSpan((int)s.ByteOffsetInRecord, s.SamplesPerRecord * _header.BytesPerSample);
             try
             {
-                var first = TalParser.Parse(bytes, annotations);
+                var first = TalParser.Parse(bytes, annotations, MaxAnnotations, ref _annotationsNotKept);
                 if (a == 0)
                 {
                     recordOnset = first;

@@ -13,11 +13,12 @@ internal static class TalParser
     private const byte TextEnd = 0x14;
 
     /// <summary>
-    /// Adds the record's annotations to <paramref name="into"/> and returns the onset of the first TAL (the record's
-    /// start time when this is the first annotation signal), or null when the signal holds no TAL.
+    /// Adds the record's annotations to <paramref name="into"/> while it holds fewer than <paramref name="keepAtMost"/>
+    /// (the rest are checked and counted in <paramref name="notKept"/>) and returns the onset of the first TAL (the
+    /// record's start time when this is the first annotation signal), or null when the signal holds no TAL.
     /// </summary>
     /// <exception cref="FormatException">A TAL is malformed; the message says how.</exception>
-    public static double? Parse(ReadOnlySpan<byte> bytes, List<RecordingAnnotation> into)
+    public static double? Parse(ReadOnlySpan<byte> bytes, List<RecordingAnnotation> into, int keepAtMost, ref long notKept)
     {
         double? firstOnset = null;
         var pos = 0;
@@ -71,7 +72,11 @@ internal static class TalParser
                 }
 
                 // Empty texts are the record time-keeping annotation (or padding), not user annotations.
-                if (textEnd > pos)
+                if (textEnd > pos && into.Count >= keepAtMost)
+                {
+                    notKept++;
+                }
+                else if (textEnd > pos)
                 {
                     into.Add(new RecordingAnnotation(onset, duration, Encoding.UTF8.GetString(bytes[pos..textEnd])));
                 }

@@ -87,6 +87,13 @@ public static class ChunkWireCodec
         }
 
         var samplesPerChannel = samples.Length / bytesPerSampleRow;
+        if (fields.Index > long.MaxValue - samplesPerChannel)
+        {
+            // The index one past the chunk's end must exist too: it is where the stream's next chunk starts.
+            return Reject(WireRejectReason.BadIndex, streamId,
+                string.Create(CultureInfo.InvariantCulture, $"'index' {fields.Index} + {samplesPerChannel} samples per channel does not fit in 64 bits"));
+        }
+
         var count = samples.Length / 4;
         var data = pool is null ? new float[count] : pool.TryRent(count);
         if (data is null)

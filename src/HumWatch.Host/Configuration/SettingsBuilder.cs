@@ -15,6 +15,9 @@ public static class SettingsBuilder
     /// <summary>The settings file read from the working directory when present.</summary>
     public const string WorkingDirectoryFile = "appsettings.json";
 
+    /// <summary>Largest settings file read (1 MiB); the full example with every setting is under 5 KiB.</summary>
+    public const int MaxFileBytes = 1 << 20;
+
     /// <summary>Defaults for a fresh machine: everything under ./humwatch-data (the option classes' own defaults fill the rest).</summary>
     public static IReadOnlyDictionary<string, string?> EmbeddedDefaults { get; } = new Dictionary<string, string?>
     {
@@ -90,6 +93,13 @@ public static class SettingsBuilder
         byte[] bytes;
         try
         {
+            // Checked before reading: a settings file is a few KiB, and a huge one must not be read into memory whole.
+            var length = new FileInfo(fullPath).Length;
+            if (length > MaxFileBytes)
+            {
+                throw new ConfigurationException($"{shownAs}: the configuration file has {length} bytes; more than {MaxFileBytes} (1 MiB) is not a settings file.");
+            }
+
             bytes = File.ReadAllBytes(fullPath);
         }
         catch (Exception ex) when (ex is IOException or UnauthorizedAccessException)

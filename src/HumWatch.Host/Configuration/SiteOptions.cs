@@ -18,7 +18,8 @@ public sealed class SiteOptions
         {
             _ = ResolveTimeZone();
         }
-        catch (Exception ex) when (ex is TimeZoneNotFoundException or InvalidTimeZoneException or ArgumentException)
+        // A name that is a folder of the zone database ("Europe") or an unreadable file comes back as a SecurityException.
+        catch (Exception ex) when (ex is TimeZoneNotFoundException or InvalidTimeZoneException or ArgumentException or System.Security.SecurityException)
         {
             errors.Add($"{prefix}:TimeZone \"{TimeZone}\" is not a known IANA time zone (e.g. Europe/Berlin, America/New_York, UTC).");
         }

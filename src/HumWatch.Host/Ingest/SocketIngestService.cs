@@ -113,17 +113,18 @@ internal sealed class SocketIngestService : BackgroundService
     /// <summary>One message's worth of work: size and frame checks, decode, queue; counts and logs every outcome.</summary>
     internal void HandleMessage(ReadOnlySpan<byte> header, ReadOnlySpan<byte> samples, int frameCount, long messageBytes, string origin)
     {
-        if (messageBytes > _options.MaxMessageBytes)
+        if (header.Length > _options.MaxHeaderBytes)
         {
-            Reject(ChunkWireCodec.RejectTooLarge(messageBytes, _options.MaxMessageBytes, header), origin);
+            // Not parsed at all: the point of the limit is that a huge header costs nothing to refuse. Checked before
+            // the message size, whose refusal reads the stream id out of the header.
+            Reject(new WireRejection(WireRejectReason.TooLarge, null,
+                $"header frame has {header.Length} bytes, over {IngestOptions.SectionName}:MaxHeaderBytes ({_options.MaxHeaderBytes} bytes)"), origin);
             return;
         }
 
-        if (header.Length > _options.MaxHeaderBytes)
+        if (messageBytes > _options.MaxMessageBytes)
         {
-            // Not parsed at all: the point of the limit is that a huge header costs nothing to refuse.
-            Reject(new WireRejection(WireRejectReason.TooLarge, null,
-                $"header frame has {header.Length} bytes, over {IngestOptions.SectionName}:MaxHeaderBytes ({_options.MaxHeaderBytes} bytes)"), origin);
+            Reject(ChunkWireCodec.RejectTooLarge(messageBytes, _options.MaxMessageBytes, header), origin);
             return;
         }
 

@@ -8,6 +8,9 @@ public static class Fixtures
     public static string Edf(string name) => Path.Combine(AppContext.BaseDirectory, "fixtures", "edf", name);
 
     public static string Csv(string name) => Path.Combine(AppContext.BaseDirectory, "fixtures", "csv", name);
+
+    /// <summary>An input the fuzzing harness found (tests/fixtures/fuzz/README.md), by target folder and name.</summary>
+    public static string Fuzz(string target, string name) => Path.Combine(AppContext.BaseDirectory, "fixtures", "fuzz", target, name);
 }
 
 /// <summary>One signal of a libedf readback dump.</summary>

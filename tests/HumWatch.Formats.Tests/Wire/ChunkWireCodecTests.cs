@@ -178,6 +178,7 @@ public sealed class ChunkWireCodecTests
         { "negative index", Good().Replace("\"index\":0", "\"index\":-1", StringComparison.Ordinal), 8, WireRejectReason.BadIndex, true },
         { "fractional index", Good().Replace("\"index\":0", "\"index\":1.5", StringComparison.Ordinal), 8, WireRejectReason.BadIndex, true },
         { "index beyond int64", Good().Replace("\"index\":0", "\"index\":9223372036854775808", StringComparison.Ordinal), 8, WireRejectReason.BadIndex, true },
+        { "chunk end beyond int64", Good().Replace("\"index\":0", "\"index\":9223372036854775807", StringComparison.Ordinal), 16, WireRejectReason.BadIndex, true },
         { "t0 not a time", Good().Replace("}", ",\"t0\":\"yesterday\"}", StringComparison.Ordinal), 8, WireRejectReason.BadStartTime, true },
         { "t0 without zone", Good().Replace("}", ",\"t0\":\"2025-03-01T08:00:00\"}", StringComparison.Ordinal), 8, WireRejectReason.BadStartTime, true },
         { "t0 as number", Good().Replace("}", ",\"t0\":1740816000}", StringComparison.Ordinal), 8, WireRejectReason.BadStartTime, true },
@@ -233,6 +234,19 @@ public sealed class ChunkWireCodecTests
 
         Assert.Equal(WireRejectReason.NonFiniteSample, result.Rejection!.Reason);
         Assert.Contains($"sample {position % 500} of channel '{(position < 500 ? "A" : "B")}'", result.Rejection.Message, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void A_chunk_ending_exactly_at_the_largest_64_bit_index_is_accepted()
+    {
+        // 2 channels × 2 samples from 2^63 − 3: the next chunk would start at 2^63 − 1, the largest index.
+        var header = Good().Replace("\"index\":0", "\"index\":9223372036854775805", StringComparison.Ordinal);
+
+        var result = ChunkWireCodec.Decode(Header(header), Floats(4));
+
+        Assert.True(result.IsSuccess, result.Rejection?.Message);
+        Assert.Equal(long.MaxValue, result.Chunk.EndSampleIndex);
+        result.Samples.Dispose();
     }
 
     [Fact]

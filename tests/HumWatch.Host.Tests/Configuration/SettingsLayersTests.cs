@@ -130,6 +130,24 @@ public sealed class SettingsLayersTests : IDisposable
     }
 
     [Fact]
+    public void A_16_MiB_config_file_is_refused_by_its_size_without_being_read()
+    {
+        var path = Path.Combine(_folder.Path, "huge.json");
+        using (var file = File.Create(path))
+        {
+            file.Write("{\"Site\":{\"Name\":\""u8);
+            file.SetLength(16 << 20);
+        }
+
+        var before = GC.GetAllocatedBytesForCurrentThread();
+        var ex = Assert.Throws<ConfigurationException>(() => SettingsBuilder.Build(SettingsSources.Isolated(configFiles: ["huge.json"]) with { BaseDirectory = _folder.Path }));
+        var allocated = GC.GetAllocatedBytesForCurrentThread() - before;
+
+        Assert.Equal("huge.json: the configuration file has 16777216 bytes; more than 1048576 (1 MiB) is not a settings file.", ex.Message);
+        Assert.True(allocated < 1 << 20, $"{allocated} bytes allocated to refuse a 16 MiB file");
+    }
+
+    [Fact]
     public void Every_bad_setting_in_every_section_is_reported_at_once_each_naming_its_key()
     {
         var sources = SettingsSources.Isolated(new Dictionary<string, string?>

@@ -127,6 +127,30 @@ public sealed class IngestMessageHandlingTests
         next.Dispose();
     }
 
+    [Fact]
+    public async Task A_16_MiB_header_frame_is_refused_unparsed_even_when_the_message_is_over_its_limit_too()
+    {
+        await using var harness = new IngestHarness(IngestHarness.LoopbackOptions());
+
+        // A valid start naming a stream, then one label of 16 MiB: parsing it would allocate twice that.
+        var header = new byte[16 << 20];
+        var start = Some.Utf8("{\"v\":1,\"stream\":\"huge\",\"fs\":250,\"unit\":\"uV\",\"index\":0,\"channels\":[\"");
+        start.CopyTo(header, 0);
+        header.AsSpan(start.Length, header.Length - start.Length - 3).Fill((byte)'a');
+        Some.Utf8("\"]}").CopyTo(header, header.Length - 3);
+
+        var before = GC.GetAllocatedBytesForCurrentThread();
+        harness.Service.HandleMessage(header, new byte[4], 2, header.Length + 4L, Origin);
+        var allocated = GC.GetAllocatedBytesForCurrentThread() - before;
+
+        var origin = Assert.Single(harness.Counters.UnattributedRejections());
+        Assert.Equal(1, origin.RejectedFor(WireRejectReason.TooLarge));
+        Assert.Null(harness.Counters.Get("huge"));
+        var warning = Assert.Single(harness.ServiceLogger.Entries, e => e.EventId == 1102);
+        Assert.Contains("over Ingest:MaxHeaderBytes (65536 bytes)", warning.Message, StringComparison.Ordinal);
+        Assert.True(allocated < 64 * 1024, $"{allocated} bytes allocated to refuse a 16 MiB header");
+    }
+
     private static void Handle(IngestHarness harness, WireMessage message) =>
         harness.Service.HandleMessage(message.Header, message.Samples, 2, message.Header.Length + message.Samples.Length, Origin);
 }
