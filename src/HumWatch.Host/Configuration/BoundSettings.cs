@@ -8,6 +8,7 @@ using HumWatch.Host.Monitoring;
 using HumWatch.Host.Publishing;
 using HumWatch.Host.Store;
 using HumWatch.Host.Summaries;
+using HumWatch.Host.Web;
 using Microsoft.Extensions.Configuration;
 
 namespace HumWatch.Host.Configuration;
@@ -29,7 +30,8 @@ public sealed class BoundSettings
         SiteOptions site,
         LogOptions logs,
         IngestOptions ingest,
-        SummaryOutputOptions summaries)
+        SummaryOutputOptions summaries,
+        WebOptions web)
     {
         Analysis = analysis;
         Check = check;
@@ -42,6 +44,7 @@ public sealed class BoundSettings
         Logs = logs;
         Ingest = ingest;
         Summaries = summaries;
+        Web = web;
     }
 
     /// <summary>Section "Analysis".</summary>
@@ -77,6 +80,9 @@ public sealed class BoundSettings
     /// <summary>Section "Summaries".</summary>
     public SummaryOutputOptions Summaries { get; }
 
+    /// <summary>Section "Web".</summary>
+    public WebOptions Web { get; }
+
     /// <summary>Binds every section strictly (unknown keys are errors) and validates all of them.</summary>
     /// <exception cref="ConfigurationException">Every problem at once, one line each, each naming its key.</exception>
     public static BoundSettings Bind(IConfiguration configuration) => Bind(configuration, sourceOf: null, []);
@@ -107,12 +113,13 @@ public sealed class BoundSettings
         var logs = Section<LogOptions>(configuration, nameof(Logs), schema, errors, o => o.Validate());
         var ingest = Section<IngestOptions>(configuration, nameof(Ingest), schema, errors, o => new IngestOptionsValidator().Validate(null, o).Failures?.ToList() ?? []);
         var summaries = Section<SummaryOutputOptions>(configuration, nameof(Summaries), schema, errors, o => o.Validate());
+        var web = Section<WebOptions>(configuration, nameof(Web), schema, errors, o => o.Validate(publish.StatusIntervalSeconds));
         if (errors.Count > 0)
         {
             throw new ConfigurationException(string.Join(Environment.NewLine, errors));
         }
 
-        return new BoundSettings(analysis, check, alerts, monitor, publish, store, inbox, site, logs, ingest, summaries);
+        return new BoundSettings(analysis, check, alerts, monitor, publish, store, inbox, site, logs, ingest, summaries, web);
     }
 
     private static T Section<T>(IConfiguration configuration, string name, SettingsSchema.SchemaCheck schema, List<string> errors, Func<T, IReadOnlyList<string>> validate, Action<IConfigurationSection, T>? prepare = null)

@@ -24,6 +24,7 @@ internal sealed class StreamMonitorService : BackgroundService
     private readonly ILogger _logger;
     private readonly ConcurrentDictionary<string, StreamMonitor> _monitors = new(StringComparer.Ordinal);
     private readonly WarningThrottle _tooManyThrottle;
+    private long _retiredFrames;
 
     public StreamMonitorService(
         IngestQueue queue,
@@ -47,6 +48,21 @@ internal sealed class StreamMonitorService : BackgroundService
 
     /// <summary>Streams currently held.</summary>
     public IReadOnlyCollection<StreamMonitor> Monitors => (IReadOnlyCollection<StreamMonitor>)_monitors.Values;
+
+    /// <summary>Frames analysed since start over every stream, retired ones included (a monotonic count for metrics).</summary>
+    public long FramesAnalysedTotal
+    {
+        get
+        {
+            var total = Interlocked.Read(ref _retiredFrames);
+            foreach (var monitor in _monitors.Values)
+            {
+                total += monitor.FramesAnalysed;
+            }
+
+            return total;
+        }
+    }
 
     protected override Task ExecuteAsync(CancellationToken stoppingToken) =>
         Task.WhenAll(RouteAsync(stoppingToken), HousekeepAsync(stoppingToken));
@@ -137,6 +153,7 @@ internal sealed class StreamMonitorService : BackgroundService
             {
                 MainsHz = double.IsFinite(monitor.GridNominalHz) ? monitor.GridNominalHz : null,
                 MainsFrom = Checking.RecordingChecker.GridOriginName(monitor.GridFrom),
+                MainsEstimateHz = double.IsFinite(monitor.MainsEstimateHz) ? monitor.MainsEstimateHz : null,
             };
             _publisher.TryPublish(Messages.StatusKind, monitor.StreamId, Messages.For(status));
         }
@@ -162,6 +179,7 @@ internal sealed class StreamMonitorService : BackgroundService
             }
             else if (_monitors.TryRemove(pair))
             {
+                Interlocked.Add(ref _retiredFrames, monitor.FramesAnalysed);
                 _ = RetireAsync(monitor);
             }
         }

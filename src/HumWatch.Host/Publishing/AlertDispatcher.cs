@@ -19,6 +19,7 @@ internal sealed class AlertDispatcher : IAlertEventSink
     private readonly ILogger _logger;
     private readonly Lock _gate = new();
     private readonly Queue<AlertEvent> _unstored = new();
+    private long _storeFailures;
 
     public AlertDispatcher(IAlertEventStore store, IMessagePublisher publisher, ILogger<AlertDispatcher> logger)
     {
@@ -41,6 +42,9 @@ internal sealed class AlertDispatcher : IAlertEventSink
             }
         }
     }
+
+    /// <summary>Store writes of alert events that failed since start (retries included).</summary>
+    public long StoreFailureCount => Interlocked.Read(ref _storeFailures);
 
     public void OnAlertEvent(AlertEvent alertEvent) => Dispatch(alertEvent);
 
@@ -69,6 +73,7 @@ internal sealed class AlertDispatcher : IAlertEventSink
                 }
                 catch (Exception ex)
                 {
+                    Interlocked.Increment(ref _storeFailures);
                     retryFailure = ex;
                     break;
                 }
@@ -91,6 +96,7 @@ internal sealed class AlertDispatcher : IAlertEventSink
                 }
                 catch (Exception ex)
                 {
+                    Interlocked.Increment(ref _storeFailures);
                     Keep(alertEvent);
                     _logger.StoreFailed(ex, alertEvent.EventKind.ToText(), alertEvent.Key.ToString(), alertEvent.StreamId, _unstored.Count);
                     return false;

@@ -87,6 +87,9 @@ internal sealed record StatusMessage(
 
     /// <summary>"configured", "measured" or "unknown".</summary>
     public string? MainsFrom { get; init; }
+
+    /// <summary>The grid fundamental measured in the latest frame that showed it, Hz; null before one did.</summary>
+    public double? MainsEstimateHz { get; init; }
 }
 
 [JsonSourceGenerationOptions(PropertyNamingPolicy = JsonKnownNamingPolicy.CamelCase)]
@@ -167,6 +170,7 @@ internal static class Messages
         {
             LagSeconds = status.LagSeconds is { } lag ? Finite(Reported.Seconds(lag)) : null,
             MainsHz = status.MainsHz is { } mains ? Finite(Reported.Hz(mains)) : null,
+            MainsEstimateHz = status.MainsEstimateHz is { } estimate ? Finite(Reported.Hz(estimate)) : null,
         };
         return JsonSerializer.SerializeToUtf8Bytes(safe, MessageJsonContext.Output.StatusMessage);
     }

@@ -26,6 +26,7 @@ internal sealed class LedgerWriter : IMinuteRowSink, IHostedService, IDisposable
     private List<MinuteRow> _writing = [];
     private ITimer? _timer;
     private bool _failing;
+    private long _writeFailures;
 
     /// <param name="store">Where rows go.</param>
     /// <param name="logger">Where failures go.</param>
@@ -56,6 +57,9 @@ internal sealed class LedgerWriter : IMinuteRowSink, IHostedService, IDisposable
             }
         }
     }
+
+    /// <summary>Writes the store refused since start.</summary>
+    public long WriteFailureCount => Interlocked.Read(ref _writeFailures);
 
     public void OnMinuteRow(MinuteRow row)
     {
@@ -148,6 +152,7 @@ internal sealed class LedgerWriter : IMinuteRowSink, IHostedService, IDisposable
             }
 
             _failing = true;
+            Interlocked.Increment(ref _writeFailures);
             _logger.LedgerWriteFailed(ex, waiting);
             return false;
         }
