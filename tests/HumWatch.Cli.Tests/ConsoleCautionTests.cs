@@ -71,7 +71,7 @@ public sealed class ConsoleCautionTests
         using var demo = new RunningCli(
             "demo", "--scenarios", scenarios, "--data", Path.Combine(work.Path, "data"), "--speed", "20", "--seconds", "60",
             // Ephemeral ports: the demo connects its rooms and its printer to the ports the system gave.
-            "--set", "Publish:Endpoint=tcp://127.0.0.1:*", "--set", "Ingest:Endpoints:0:Address=tcp://127.0.0.1:*");
+            "--set", "Publish:Endpoint=tcp://127.0.0.1:*", "--set", "Web:Endpoint=http://127.0.0.1:0", "--set", "Ingest:Endpoints:0:Address=tcp://127.0.0.1:*");
 
         // The demo rooms carry several sources each, so a few alerts come within the first simulated minutes.
         await demo.Until(lines => lines.Count(l => l.Contains("hint:", StringComparison.Ordinal)) >= 3, () => { });

@@ -16,7 +16,7 @@ public sealed class ServiceStartTests
         using var work = new TempFolder();
         using var squatter = TakePort(out var port);
 
-        var (code, output, error) = await CliRunner.RunInAsync(work.Path, NoEnvironment, "run", "--data", "data", "--set", $"Publish:Endpoint=tcp://127.0.0.1:{port}", "--set", "Ingest:Endpoints:0:Address=tcp://127.0.0.1:*");
+        var (code, output, error) = await CliRunner.RunInAsync(work.Path, NoEnvironment, "run", "--data", "data", "--set", $"Publish:Endpoint=tcp://127.0.0.1:{port}", "--set", "Web:Endpoint=http://127.0.0.1:0", "--set", "Ingest:Endpoints:0:Address=tcp://127.0.0.1:*");
 
         Assert.Equal(2, code);
         Assert.Contains($"humwatch run: cannot start: tcp://127.0.0.1:{port} is already in use (Publish:Endpoint). Another HumWatch", error, StringComparison.Ordinal);
@@ -30,7 +30,7 @@ public sealed class ServiceStartTests
         using var work = new TempFolder();
         using var squatter = TakePort(out var port);
 
-        var (code, output, error) = await CliRunner.RunInAsync(work.Path, NoEnvironment, "run", "--data", "data", "--set", "Publish:Endpoint=tcp://127.0.0.1:*", "--set", $"Ingest:Endpoints:0:Address=tcp://127.0.0.1:{port}");
+        var (code, output, error) = await CliRunner.RunInAsync(work.Path, NoEnvironment, "run", "--data", "data", "--set", "Publish:Endpoint=tcp://127.0.0.1:*", "--set", "Web:Endpoint=http://127.0.0.1:0", "--set", $"Ingest:Endpoints:0:Address=tcp://127.0.0.1:{port}");
 
         Assert.Equal(2, code);
         Assert.Contains($"tcp://127.0.0.1:{port} is already in use (Ingest:Endpoints:0:Address)", error, StringComparison.Ordinal);
@@ -44,7 +44,7 @@ public sealed class ServiceStartTests
         using var squatter = TakePort(out var port);
         var scenarios = Path.Combine(AppContext.BaseDirectory, "demo-streams");
 
-        var (code, output, error) = await CliRunner.RunInAsync(work.Path, NoEnvironment, "demo", "--scenarios", scenarios, "--data", "data", "--seconds", "5", "--set", $"Publish:Endpoint=tcp://127.0.0.1:{port}");
+        var (code, output, error) = await CliRunner.RunInAsync(work.Path, NoEnvironment, "demo", "--scenarios", scenarios, "--data", "data", "--seconds", "5", "--set", $"Publish:Endpoint=tcp://127.0.0.1:{port}", "--set", "Web:Endpoint=http://127.0.0.1:0");
 
         Assert.Equal(2, code);
         Assert.Contains($"humwatch demo: cannot start: tcp://127.0.0.1:{port} is already in use (Publish:Endpoint)", error, StringComparison.Ordinal);
@@ -74,7 +74,7 @@ public sealed class ServiceStartTests
         var store = Path.Combine(work.Path, "data", "humwatch.db");
         await File.WriteAllBytesAsync(store, [.. Enumerable.Range(0, 4096).Select(i => (byte)(i * 37))]);
 
-        var (code, output, error) = await CliRunner.RunInAsync(work.Path, NoEnvironment, "run", "--data", "data", "--set", "Publish:Endpoint=tcp://127.0.0.1:*", "--set", "Ingest:Endpoints:0:Address=tcp://127.0.0.1:*");
+        var (code, output, error) = await CliRunner.RunInAsync(work.Path, NoEnvironment, "run", "--data", "data", "--set", "Publish:Endpoint=tcp://127.0.0.1:*", "--set", "Web:Endpoint=http://127.0.0.1:0", "--set", "Ingest:Endpoints:0:Address=tcp://127.0.0.1:*");
 
         Assert.Equal(2, code);
         Assert.Contains($"humwatch run: cannot start: Store {store}: cannot open the database", error, StringComparison.Ordinal);
@@ -89,7 +89,7 @@ public sealed class ServiceStartTests
         using var squatter = TakePort(out var port);
 
         // The start stops at the ingest socket, after every folder is made and the store is opened: what --data moved is on disk.
-        var (code, _, error) = await CliRunner.RunInAsync(work.Path, NoEnvironment, "run", "--data", "lab", "--set", "Inbox:RejectedFolder=elsewhere/refused", "--set", "Publish:Endpoint=tcp://127.0.0.1:*", "--set", $"Ingest:Endpoints:0:Address=tcp://127.0.0.1:{port}");
+        var (code, _, error) = await CliRunner.RunInAsync(work.Path, NoEnvironment, "run", "--data", "lab", "--set", "Inbox:RejectedFolder=elsewhere/refused", "--set", "Publish:Endpoint=tcp://127.0.0.1:*", "--set", "Web:Endpoint=http://127.0.0.1:0", "--set", $"Ingest:Endpoints:0:Address=tcp://127.0.0.1:{port}");
 
         Assert.True(code == 2, error);
         var lab = Path.Combine(work.Path, "lab");

@@ -84,7 +84,7 @@ public sealed class WebOptions
         {
             errors.Add(string.Create(CultureInfo.InvariantCulture, $"{prefix}:SilentAfterSeconds must be between 1 and 86400 s (got {SilentAfterSeconds})."));
         }
-        else if (!(SilentAfterSeconds > statusIntervalSeconds))
+        else if (Enabled && !(SilentAfterSeconds > statusIntervalSeconds))
         {
             // Data is seen to move on with each status message; a shorter wait would call a live room silent between two.
             errors.Add(string.Create(CultureInfo.InvariantCulture, $"{prefix}:SilentAfterSeconds ({SilentAfterSeconds} s) must be longer than Publish:StatusIntervalSeconds ({statusIntervalSeconds} s): rooms are seen to receive data with each status message."));

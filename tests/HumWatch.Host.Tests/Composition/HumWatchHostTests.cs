@@ -21,6 +21,7 @@ public sealed class HumWatchHostTests
     {
         ["Ingest:Endpoints:0:Address"] = "tcp://127.0.0.1:*",
         ["Publish:Endpoint"] = "tcp://127.0.0.1:*",
+        ["Web:Endpoint"] = "http://127.0.0.1:0",
         ["Store:Path"] = Path.Combine(folder, "humwatch.db"),
         ["Logs:Folder"] = Path.Combine(folder, "logs"),
         ["Inbox:Folder"] = Path.Combine(folder, "inbox"),

@@ -125,7 +125,7 @@ function renderTally() {
   if (counts.waiting) parts.push(`${counts.waiting} waiting`);
   parts.push(`${counts.clean} clean`);
   document.getElementById("tally").textContent = parts.join(" · ");
-  document.getElementById("empty").hidden = rooms.size > 0;
+  document.getElementById("empty").hidden = rooms.size > 0 || roomPath !== null;
 }
 
 // ---- one room ----
@@ -275,9 +275,12 @@ function apply(batch) {
       for (const stream of batch.removed) { tiles.get(stream)?.remove(); tiles.delete(stream); }
     }
     renderTally();
-  } else if (batch.full || batch.rooms.some(r => r.stream === roomPath)) {
-    renderRoomHeader(rooms.get(roomPath));
-    loadSpectrum();
+  } else {
+    renderTally();
+    if (batch.full || batch.rooms.some(r => r.stream === roomPath)) {
+      renderRoomHeader(rooms.get(roomPath));
+      loadSpectrum();
+    }
   }
 }
 
