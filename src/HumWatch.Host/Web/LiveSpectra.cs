@@ -9,8 +9,8 @@ namespace HumWatch.Host.Web;
 
 /// <summary>
 /// Each stream's latest spectrum (the frame's mean PSD over the analysed channels) and its persistent lines, copied
-/// from the frames as they are analysed, for the room view. A stream's buffers are reused from frame to frame, and a
-/// stream is copied at most once per <see cref="MinCopyInterval"/> (a file is analysed far faster than real time).
+/// from the frames as they are analysed, for the room view. A stream's buffers are reused from frame to frame, so
+/// the copy allocates nothing once a stream's first frame is in (a mean PSD is a few thousand bins at most).
 /// </summary>
 internal sealed class LiveSpectra(TimeProvider time) : ILiveFrameSink
 {
@@ -19,9 +19,6 @@ internal sealed class LiveSpectra(TimeProvider time) : ILiveFrameSink
 
     /// <summary>Most lines kept per spectrum, strongest first (the frame's order).</summary>
     public const int MaxLines = 32;
-
-    /// <summary>Shortest wall-clock time between two copies of one stream.</summary>
-    public static readonly TimeSpan MinCopyInterval = TimeSpan.FromSeconds(1);
 
     private readonly ConcurrentDictionary<string, Slot> _slots = new(StringComparer.Ordinal);
 
@@ -36,11 +33,6 @@ internal sealed class LiveSpectra(TimeProvider time) : ILiveFrameSink
         var now = time.GetTimestamp();
         lock (slot)
         {
-            if (slot.CopiedAt is { } last && time.GetElapsedTime(last, now) < MinCopyInterval)
-            {
-                return;
-            }
-
             slot.CopiedAt = now;
             slot.EndUtc = endUtc;
             var psd = frame.MeanPsdUv2PerHz;

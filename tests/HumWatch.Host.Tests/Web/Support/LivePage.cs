@@ -65,10 +65,14 @@ internal sealed class LivePage : IAsyncDisposable
         JsonElement last = default;
         while (DateTime.UtcNow < deadline)
         {
-            last = await GetJsonAsync(path);
-            if (match(last))
+            using var response = await Http.GetAsync(path);
+            if (response.IsSuccessStatusCode)
             {
-                return last;
+                last = JsonDocument.Parse(await response.Content.ReadAsStringAsync()).RootElement.Clone();
+                if (match(last))
+                {
+                    return last;
+                }
             }
 
             await Task.Delay(100);

@@ -68,3 +68,17 @@ public sealed class PrometheusParserFactAttribute : Xunit.FactAttribute
         }
     }
 }
+
+/// <summary>A test that runs Debian's /usr/bin/python3 with its standard library only, skipped with the reason in its name when that is missing.</summary>
+[AttributeUsage(AttributeTargets.Method)]
+public sealed class StandardPythonFactAttribute : Xunit.FactAttribute
+{
+    public StandardPythonFactAttribute([System.Runtime.CompilerServices.CallerMemberName] string method = "", [System.Runtime.CompilerServices.CallerFilePath] string file = "")
+    {
+        if (!File.Exists(PrometheusParser.Python))
+        {
+            Skip = $"needs Debian's python3: {PrometheusParser.Python} is not installed (.ci/run installs python3 packages with apt)";
+            DisplayName = $"{Path.GetFileNameWithoutExtension(file)}.{method} (skipped: {Skip})";
+        }
+    }
+}
