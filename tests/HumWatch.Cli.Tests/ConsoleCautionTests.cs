@@ -80,6 +80,9 @@ public sealed class ConsoleCautionTests
         Assert.Single(output, l => l.Contains(CautionLead, StringComparison.Ordinal));
         Assert.Contains(output, l => l.EndsWith(CautionLead + SafetyNotice.Text, StringComparison.Ordinal));
         Assert.Matches(@"^Alerts are published on tcp://127\.0\.0\.1:\d+ ", Assert.Single(output, l => l.StartsWith("Alerts are published on", StringComparison.Ordinal)));
+
+        // The page's address as bound (port 0 in the settings: the one the system gave).
+        Assert.Matches(@"^Live page: http://127\.0\.0\.1:[1-9]\d*/ ", Assert.Single(output, l => l.StartsWith("Live page:", StringComparison.Ordinal)));
     }
 
     /// <summary>The real humwatch executable, running until disposed; its stdout collected line by line.</summary>

@@ -25,6 +25,32 @@ public sealed class ServiceStartTests
     }
 
     [Fact]
+    public async Task Serving_the_page_beyond_this_machine_without_a_token_is_refused_at_start_naming_the_setting()
+    {
+        using var work = new TempFolder();
+
+        var (code, output, error) = await CliRunner.RunInAsync(work.Path, NoEnvironment, "run", "--data", "data", "--set", "Web:Endpoint=http://0.0.0.0:0", "--set", "Web:AllowNonLoopback=true", "--set", "Publish:Endpoint=tcp://127.0.0.1:*", "--set", "Ingest:Endpoints:0:Address=tcp://127.0.0.1:*");
+
+        Assert.Equal(2, code);
+        Assert.Contains("Web:Endpoint http://0.0.0.0:0 is reachable from other hosts but no credential is set", error, StringComparison.Ordinal);
+        Assert.Contains("Set Web:AccessToken (at least 16 characters)", error, StringComparison.Ordinal);
+        AssertNoStackTrace(output, error);
+    }
+
+    [Fact]
+    public async Task A_taken_web_port_names_the_web_endpoint_setting()
+    {
+        using var work = new TempFolder();
+        using var squatter = TakePort(out var port);
+
+        var (code, output, error) = await CliRunner.RunInAsync(work.Path, NoEnvironment, "run", "--data", "data", "--set", $"Web:Endpoint=http://127.0.0.1:{port}", "--set", "Publish:Endpoint=tcp://127.0.0.1:*", "--set", "Ingest:Endpoints:0:Address=tcp://127.0.0.1:*");
+
+        Assert.Equal(2, code);
+        Assert.Contains($"humwatch run: cannot start: http://127.0.0.1:{port} is already in use (Web:Endpoint). Another HumWatch", error, StringComparison.Ordinal);
+        AssertNoStackTrace(output, error);
+    }
+
+    [Fact]
     public async Task A_taken_ingest_port_names_the_ingest_endpoint_setting()
     {
         using var work = new TempFolder();

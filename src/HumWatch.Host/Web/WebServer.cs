@@ -92,7 +92,10 @@ internal sealed class WebServer : IHostedService, IAsyncDisposable
             }
         });
         builder.Services.AddRouting();
-        builder.Services.AddSingleton(_loggerFactory);
+        // The service's loggers, less the inner host's own report of a failed start: the caller reports that in one line.
+        builder.Services.AddSingleton<ILoggerFactory>(new LoggerFactory(
+            [new ForwardingLoggerProvider(_loggerFactory)],
+            new LoggerFilterOptions { Rules = { new LoggerFilterRule(null, "Microsoft.Extensions.Hosting", LogLevel.None, null) } }));
         builder.Services.AddSingleton(typeof(ILogger<>), typeof(Logger<>));
         _meter = _metrics();
         builder.Services.AddOpenTelemetry().WithMetrics(metrics => metrics
@@ -298,5 +301,16 @@ internal sealed class WebServer : IHostedService, IAsyncDisposable
         {
             _logger.SeedFailed(ex);
         }
+    }
+}
+
+/// <summary>Hands the inner application's loggers to the service's own logger factory.</summary>
+internal sealed class ForwardingLoggerProvider(ILoggerFactory target) : ILoggerProvider
+{
+    public ILogger CreateLogger(string categoryName) => target.CreateLogger(categoryName);
+
+    public void Dispose()
+    {
+        // The service owns the target factory.
     }
 }
