@@ -87,7 +87,7 @@ internal sealed class WebSection : IBenchmarkSection
         {
             Thread.Sleep(TimeSpan.FromSeconds(25));
             var roomsNow = http.GetStringAsync("/api/v1/rooms").GetAwaiter().GetResult();
-            Console.WriteLine(F($"rooms on the board after warm-up: {CountOf(roomsNow, "\"stream\":")} (affected: {CountOf(roomsNow, "\"state\":\"affected\"")})"));
+            Console.WriteLine(F($"rooms on the board after warm-up: {CountOf(roomsNow, "{\"stream\":")} (affected: {CountOf(roomsNow, "\"state\":\"affected\"")})"));
 
             // The event stream as a page gets it, counted over the window, while the API is timed.
             var sse = Task.Run(() => CountEvents(http, TimeSpan.FromSeconds(seconds)));
