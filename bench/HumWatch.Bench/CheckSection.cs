@@ -153,18 +153,20 @@ internal sealed class CheckSection : IBenchmarkSection
     }
 
     /// <summary>Writes records until the file reaches about <paramref name="targetBytes"/>; returns records and file size.</summary>
-    private static (long Records, long Bytes) WriteEdf(string path, long targetBytes)
+    private static (long Records, long Bytes) WriteEdf(string path, long targetBytes) =>
+        WriteEdf(path, Math.Max(UniqueRecords, targetBytes / ((long)Channels * SampleRateHz * 2)), seed: 23);
+
+    /// <summary>Writes <paramref name="records"/> records of 1 s (64 ch × 1000 Hz, 16-bit); returns records and file size.</summary>
+    internal static (long Records, long Bytes) WriteEdf(string path, long records, int seed)
     {
         var room = SimulatedStreams.ContaminatedRoom("bench-check", Channels, SampleRateHz);
-        var chunks = SimulatedStreams.Pregenerate(room, 23, SampleRateHz, UniqueRecords, UniqueRecords);
+        var chunks = SimulatedStreams.Pregenerate(room, seed, SampleRateHz, UniqueRecords, UniqueRecords);
         var signals = new EdfWriterSignal[Channels];
         for (var c = 0; c < Channels; c++)
         {
             signals[c] = EdfWriterSignal.Edf16(room.Channels[c].Label, SampleRateHz);
         }
 
-        var recordBytes = (long)Channels * SampleRateHz * 2;
-        var records = Math.Max(UniqueRecords, targetBytes / recordBytes);
         using (var writer = new EdfWriter(path, new EdfWriterOptions { Signals = signals }))
         {
             for (long r = 0; r < records; r++)

@@ -68,6 +68,10 @@ public static class RecordingReader
         throw new RecordingFormatException(path, $"not a recognised recording: starts with {Printable(magic[..read])}; expected an EDF/EDF+ (\"0       \") or BDF (0xFF \"BIOSEMI\") header, or a .csv/.tsv/.txt file");
     }
 
+    /// <summary>True when the first 8 bytes are EDF's version field ("0" + 7 spaces) or BDF's (0xFF "BIOSEMI").</summary>
+    internal static bool IsEdfOrBdfVersion(ReadOnlySpan<byte> first8) =>
+        first8.SequenceEqual(_edfVersion) || first8.SequenceEqual(_bdfVersion);
+
     internal static string DescribeOpenFailure(Exception ex) => ex switch
     {
         FileNotFoundException => "file not found",

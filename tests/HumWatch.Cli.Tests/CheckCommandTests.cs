@@ -54,14 +54,15 @@ public sealed class CheckCommandTests : IClassFixture<CheckCommandTests.Recordin
     }
 
     [Fact]
-    public async Task Several_files_give_a_JSON_array_every_file_is_checked_and_the_worst_exit_code_wins()
+    public async Task Several_files_give_one_JSON_line_each_in_argument_order_and_the_worst_exit_code_wins()
     {
         var missing = Path.Combine(_files.Folder, "missing.edf");
         var (code, output, error) = await CliRunner.RunAsync("check", _files.Quiet, _files.Garbage, missing, _files.Mains, "--json");
 
         Assert.Equal(2, code);
-        using var json = JsonDocument.Parse(output);
-        var verdicts = json.RootElement.EnumerateArray().Select(r => r.GetProperty("verdict").GetString()).ToList();
+
+        // JSON Lines (jsonlines.org): one complete JSON text per line, so a pipeline can read reports as they come.
+        var verdicts = output.Split('\n', StringSplitOptions.RemoveEmptyEntries).Select(Verdict).ToList();
         Assert.Equal(["pass", "error", "error", "fail"], verdicts);
 
         // One clear line on stderr per unreadable file, naming it.
@@ -106,7 +107,8 @@ public sealed class CheckCommandTests : IClassFixture<CheckCommandTests.Recordin
 
         Assert.Equal(1, code);
         Assert.Equal('{', output[0]);
-        Assert.Contains("\"format\": \"EDF+C\"", output, StringComparison.Ordinal);
+        Assert.Equal(output.Length - 1, output.TrimEnd().Length); // one line: JSON Lines
+        Assert.Contains("\"format\":\"EDF+C\"", output, StringComparison.Ordinal);
         Assert.Contains("µV RMS ≥ fail limit", output, StringComparison.Ordinal);
         Assert.DoesNotContain("\\u", output, StringComparison.Ordinal);
         using var json = JsonDocument.Parse(output);

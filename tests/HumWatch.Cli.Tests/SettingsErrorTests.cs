@@ -68,12 +68,18 @@ public sealed class SettingsErrorTests : IDisposable
         Assert.Contains("unknown setting 'Alerts:RaiseAftreFrames'", one.Error, StringComparison.Ordinal);
 
         Assert.Equal(2, two.ExitCode);
-        using (var json = JsonDocument.Parse(two.Output))
+        // One report per line (JSON Lines), as for readable files.
+        var documents = two.Output.Split('\n', StringSplitOptions.RemoveEmptyEntries).Select(l => JsonDocument.Parse(l)).ToList();
+        try
         {
-            var reports = json.RootElement.EnumerateArray().ToList();
+            var reports = documents.Select(d => d.RootElement).ToList();
             Assert.Equal(["a.edf", "b.edf"], reports.Select(r => r.GetProperty("file").GetString()));
             Assert.All(reports, r => Assert.Equal("error", r.GetProperty("verdict").GetString()));
             Assert.All(reports, r => Assert.Contains($"{site}: not valid JSON at line 1", r.GetProperty("error").GetString(), StringComparison.Ordinal));
+        }
+        finally
+        {
+            documents.ForEach(d => d.Dispose());
         }
     }
 

@@ -235,4 +235,7 @@ public sealed partial class CheckReportJsonContext : JsonSerializerContext
 {
     /// <summary>The context every output uses (stdout, archived reports, the store): characters written as themselves.</summary>
     public static CheckReportJsonContext Output => field ??= new(OutputText.JsonOptions(Default.Options));
+
+    /// <summary>The same on one line per report, for JSON Lines output (`check --json`).</summary>
+    public static CheckReportJsonContext Lines => field ??= new(new System.Text.Json.JsonSerializerOptions(OutputText.JsonOptions(Default.Options)) { WriteIndented = false });
 }

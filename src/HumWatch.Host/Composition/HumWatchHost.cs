@@ -3,9 +3,11 @@ using HumWatch.Core.Analysis;
 using HumWatch.Core.Ledger;
 using HumWatch.Core.Reporting;
 using HumWatch.Host.Configuration;
+using HumWatch.Host.Health;
 using HumWatch.Host.Inbox;
 using HumWatch.Host.Ingest;
 using HumWatch.Host.Monitoring;
+using HumWatch.Host.Notify;
 using HumWatch.Host.Publishing;
 using HumWatch.Host.Store;
 using HumWatch.Host.Summaries;
@@ -17,7 +19,6 @@ using Microsoft.Extensions.Hosting;
 using Microsoft.Extensions.Logging;
 using Microsoft.Extensions.Options;
 using Serilog;
-using Serilog.Formatting.Compact;
 
 namespace HumWatch.Host.Composition;
 
@@ -73,6 +74,7 @@ public static class HumWatchHost
         builder.Services.Configure<HostOptions>(o => o.ShutdownTimeout = TimeSpan.FromSeconds(20));
 
         DataFolders.Prepare(bound);
+        var logFiles = new LogFiles(bound.Logs);
         var serilog = new LoggerConfiguration()
             .MinimumLevel.Verbose()
             .MinimumLevel.Override("Microsoft", Serilog.Events.LogEventLevel.Warning)
@@ -80,8 +82,7 @@ public static class HumWatchHost
             .WriteTo.Logger(console => console
                 .Filter.ByExcluding(IsStartFailureReport)
                 .WriteTo.Console(restrictedToMinimumLevel: bound.Logs.ConsoleLevel, outputTemplate: "{Timestamp:HH:mm:ss} {Level:u3} {Message:lj}{NewLine}{Exception}", formatProvider: System.Globalization.CultureInfo.InvariantCulture))
-            .WriteTo.File(Path.Combine(bound.Logs.Folder, "humwatch-.log"), restrictedToMinimumLevel: bound.Logs.FileLevel, rollingInterval: RollingInterval.Day, retainedFileCountLimit: bound.Logs.RetainedDays, formatProvider: System.Globalization.CultureInfo.InvariantCulture)
-            .WriteTo.File(new CompactJsonFormatter(), Path.Combine(bound.Logs.Folder, "humwatch-.clef"), restrictedToMinimumLevel: bound.Logs.FileLevel, rollingInterval: RollingInterval.Day, retainedFileCountLimit: bound.Logs.RetainedDays)
+            .WriteTo.Sink(logFiles)
             .CreateLogger();
         builder.Services.AddSerilog(serilog, dispose: true);
 
@@ -98,7 +99,10 @@ public static class HumWatchHost
         services.AddSingleton(Options.Create(bound.Site));
         services.AddSingleton(sp => OpenStore(bound.Store, sp.GetRequiredService<TimeProvider>()));
         services.AddSingleton<IAlertEventStore>(sp => sp.GetRequiredService<HumWatchStore>().Alerts);
-        services.AddSingleton(sp => new LedgerWriter(sp.GetRequiredService<HumWatchStore>().Ledger, sp.GetRequiredService<ILogger<LedgerWriter>>(), sp.GetRequiredService<TimeProvider>()));
+        services.AddSingleton(sp => new StoreHealth(sp.GetRequiredService<HumWatchStore>().FullPath, sp.GetRequiredService<TimeProvider>(), sp.GetRequiredService<ILogger<StoreHealth>>()));
+        services.AddSingleton<ResourceStatus>();
+        services.AddSingleton(logFiles);
+        services.AddSingleton(sp => new LedgerWriter(sp.GetRequiredService<HumWatchStore>().Ledger, sp.GetRequiredService<ILogger<LedgerWriter>>(), sp.GetRequiredService<TimeProvider>(), health: sp.GetRequiredService<StoreHealth>()));
         services.AddSingleton<IMinuteRowSink>(sp => sp.GetRequiredService<LedgerWriter>());
         services.AddSingleton(sp => new ZmqPublisher(bound.Publish, sp.GetRequiredService<ILogger<ZmqPublisher>>()));
         services.AddSingleton<IMessagePublisher>(sp => sp.GetRequiredService<ZmqPublisher>());
@@ -108,8 +112,14 @@ public static class HumWatchHost
         services.AddSingleton<StreamSessionFactory>();
 
         // Hosted services stop in reverse order: ingest (added last) stops taking input first, then the inbox, then
-        // the stream monitors drain what they hold and close their alerts, then the ledger writer writes the last rows.
+        // the stream monitors drain what they hold and close their alerts, then the ledger writer writes the last rows, then
+        // the store health retries what still waits and names what it could not store.
+        services.AddHostedService(sp => sp.GetRequiredService<StoreHealth>());
+        services.AddHostedService<LogFolderGuard>();
         services.AddHostedService(sp => sp.GetRequiredService<LedgerWriter>());
+
+        // Started before and stopped after everything that raises or clears alerts, so no notification is missed.
+        services.AddHumWatchNotify(bound.Notify, bound.Site, settings.Sources.Environment);
 
         // Before anything is analysed: the alerts an unclean stop left open are closed first.
         services.AddHostedService<UnclosedAlertCloser>();
@@ -118,7 +128,7 @@ public static class HumWatchHost
         services.AddSingleton<InboxService>();
         services.AddHostedService(sp => sp.GetRequiredService<InboxService>());
         services.AddHumWatchSummaries(bound.Summaries);
-        services.AddSingleton<ISpectrumPartSink>(sp => sp.GetRequiredService<HumWatchStore>().Spectra);
+        services.AddSingleton<ISpectrumPartSink>(sp => new DeferringSpectrumSink(sp.GetRequiredService<HumWatchStore>().Spectra, sp.GetRequiredService<StoreHealth>()));
         settings.ConfigureServices?.Invoke(services, bound);
         services.AddHumWatchIngest(bound.Ingest);
         services.AddHumWatchWeb(bound);

@@ -5,6 +5,7 @@ using HumWatch.Host.Composition;
 using HumWatch.Host.Inbox;
 using HumWatch.Host.Ingest;
 using HumWatch.Host.Monitoring;
+using HumWatch.Host.Notify;
 using HumWatch.Host.Publishing;
 using HumWatch.Host.Store;
 using HumWatch.Host.Summaries;
@@ -31,6 +32,7 @@ public sealed class BoundSettings
         LogOptions logs,
         IngestOptions ingest,
         SummaryOutputOptions summaries,
+        NotifyOptions notify,
         WebOptions web)
     {
         Analysis = analysis;
@@ -44,6 +46,7 @@ public sealed class BoundSettings
         Logs = logs;
         Ingest = ingest;
         Summaries = summaries;
+        Notify = notify;
         Web = web;
     }
 
@@ -80,6 +83,9 @@ public sealed class BoundSettings
     /// <summary>Section "Summaries".</summary>
     public SummaryOutputOptions Summaries { get; }
 
+    /// <summary>Section "Notify".</summary>
+    public NotifyOptions Notify { get; }
+
     /// <summary>Section "Web".</summary>
     public WebOptions Web { get; }
 
@@ -113,13 +119,14 @@ public sealed class BoundSettings
         var logs = Section<LogOptions>(configuration, nameof(Logs), schema, errors, o => o.Validate());
         var ingest = Section<IngestOptions>(configuration, nameof(Ingest), schema, errors, o => new IngestOptionsValidator().Validate(null, o).Failures?.ToList() ?? []);
         var summaries = Section<SummaryOutputOptions>(configuration, nameof(Summaries), schema, errors, o => o.Validate());
+        var notify = Section<NotifyOptions>(configuration, nameof(Notify), schema, errors, o => o.Validate());
         var web = Section<WebOptions>(configuration, nameof(Web), schema, errors, o => o.Validate(publish.StatusIntervalSeconds));
         if (errors.Count > 0)
         {
             throw new ConfigurationException(string.Join(Environment.NewLine, errors));
         }
 
-        return new BoundSettings(analysis, check, alerts, monitor, publish, store, inbox, site, logs, ingest, summaries, web);
+        return new BoundSettings(analysis, check, alerts, monitor, publish, store, inbox, site, logs, ingest, summaries, notify, web);
     }
 
     private static T Section<T>(IConfiguration configuration, string name, SettingsSchema.SchemaCheck schema, List<string> errors, Func<T, IReadOnlyList<string>> validate, Action<IConfigurationSection, T>? prepare = null)

@@ -4,6 +4,7 @@ using System.Text.Json;
 using HumWatch.Core.Reporting;
 using HumWatch.Host.Checking;
 using HumWatch.Host.Configuration;
+using HumWatch.Host.Health;
 using HumWatch.Host.Monitoring;
 using HumWatch.Host.Serialization;
 using HumWatch.Host.Store;
@@ -17,7 +18,8 @@ namespace HumWatch.Host.Inbox;
 /// Watches the inbox folder. A file whose size and time stamp stay unchanged for a while is checked as a session of
 /// its stream (alerts and ledger included); its report goes beside it in the archive, where the file is moved —
 /// never deleted. Unreadable files go to the rejected folder with the reason. The store's journal makes a restart
-/// neither lose nor repeat a file.
+/// neither lose nor repeat a file. A file leaves the inbox only once the store has its alerts, rows and journal entry;
+/// while the store refuses writes no new file is taken. A removed inbox folder is created again.
 /// </summary>
 internal sealed class InboxService : BackgroundService
 {
@@ -31,10 +33,16 @@ internal sealed class InboxService : BackgroundService
     private readonly ILogger _logger;
     private readonly Dictionary<string, (long Size, DateTime WriteUtc, long SeenTicks)> _candidates = new(StringComparer.Ordinal);
     private readonly SemaphoreSlim _wake = new(0, 1);
+    private readonly StoreHealth _health;
+    private readonly FolderState _folder;
+    private readonly JournalCompletions _completions;
     private FileSystemWatcher? _watcher;
+    private volatile bool _watcherBroken;
+    private bool _paused;
 
     /// <param name="sessions">Makes each file's stream sessions (alerts, ledger, spectra), as for live streams.</param>
     /// <param name="ledger">The ledger writer the sessions' rows go to; a file's rows are written before its journal entry is completed.</param>
+    /// <param name="resources">The store's fault state and the inbox folder's state for the status; null makes its own.</param>
     public InboxService(
         IOptions<InboxOptions> options,
         IOptions<CheckLimits> limits,
@@ -42,7 +50,8 @@ internal sealed class InboxService : BackgroundService
         HumWatchStore store,
         StreamSessionFactory sessions,
         LedgerWriter ledger,
-        ILogger<InboxService> logger)
+        ILogger<InboxService> logger,
+        ResourceStatus? resources = null)
     {
         _options = options.Value;
         _limits = limits.Value;
@@ -52,7 +61,16 @@ internal sealed class InboxService : BackgroundService
         _ledger = ledger;
         _time = sessions.Time;
         _logger = logger;
+        _health = resources?.Store ?? new StoreHealth(store.FullPath, _time, logger);
+        _folder = resources?.InboxFolder ?? new FolderState();
+        _completions = new JournalCompletions(store.Files, _health);
     }
+
+    /// <summary>Checked files held in the inbox until the store has their journal entry.</summary>
+    internal int HeldCount => _completions.Count;
+
+    /// <summary>Poll at least as often as files need to settle; a watcher event wakes the loop sooner.</summary>
+    private TimeSpan ScanInterval => TimeSpan.FromSeconds(Math.Max(0.1, Math.Min(_options.RescanSeconds, Math.Max(0.5, _options.StableSeconds / 2))));
 
     public override Task StartAsync(CancellationToken cancellationToken)
     {
@@ -62,11 +80,12 @@ internal sealed class InboxService : BackgroundService
             Directory.CreateDirectory(_options.Folder);
             Directory.CreateDirectory(_options.ArchiveFolder);
             Directory.CreateDirectory(_options.RejectedFolder);
-            _watcher = new FileSystemWatcher(_options.Folder) { IncludeSubdirectories = true, EnableRaisingEvents = true };
-            _watcher.Created += (_, _) => Wake();
-            _watcher.Changed += (_, _) => Wake();
-            _watcher.Renamed += (_, _) => Wake();
+            Watch();
             _logger.Watching(Path.GetFullPath(_options.Folder));
+        }
+        else
+        {
+            _folder.Off();
         }
 
         return base.StartAsync(cancellationToken);
@@ -86,8 +105,7 @@ internal sealed class InboxService : BackgroundService
             return;
         }
 
-        // Poll at least as often as files need to settle; a watcher event wakes us sooner.
-        var interval = TimeSpan.FromSeconds(Math.Max(0.1, Math.Min(_options.RescanSeconds, Math.Max(0.5, _options.StableSeconds / 2))));
+        var interval = ScanInterval;
         while (!stoppingToken.IsCancellationRequested)
         {
             try
@@ -116,7 +134,25 @@ internal sealed class InboxService : BackgroundService
     /// <summary>Looks at the inbox once and processes every file that has settled. Tests call it directly.</summary>
     internal int ScanOnce(CancellationToken cancellationToken = default)
     {
-        var processed = 0;
+        if (!FolderIsThere())
+        {
+            return 0;
+        }
+
+        var processed = MoveCompleted();
+        if (_completions.Count > 0 || !_health.AllStored)
+        {
+            // Nothing new is claimed while the store refuses writes: a file stays here until the store can record it.
+            if (!_paused)
+            {
+                _paused = true;
+                _logger.PausedForStore(_health.StorePath, _health.Fault.ToText());
+            }
+
+            return processed;
+        }
+
+        _paused = false;
         var now = _time.GetTimestamp();
         var seen = new HashSet<string>(StringComparer.Ordinal);
         foreach (var path in Directory.EnumerateFiles(_options.Folder, "*", SearchOption.AllDirectories))
@@ -151,13 +187,22 @@ internal sealed class InboxService : BackgroundService
             _candidates.Remove(path);
             try
             {
-                ProcessFile(info, cancellationToken);
-                processed++;
+                if (ProcessFile(info, cancellationToken))
+                {
+                    processed++;
+                }
             }
             catch (Exception ex) when (ex is IOException or UnauthorizedAccessException)
             {
                 // Left in place: the next scan tries again once the file settles.
                 _logger.ProcessFailed(ex, path);
+            }
+            catch (Exception ex) when (StoreFaults.IsStoreFailure(ex))
+            {
+                // Left in place, unclaimed: taken again once the store has everything that waits.
+                _health.ReportFailure(ex, $"the journal entry of {path}");
+                _logger.HeldForStore(path, _health.StorePath);
+                return processed;
             }
         }
 
@@ -169,7 +214,8 @@ internal sealed class InboxService : BackgroundService
         return processed;
     }
 
-    private void ProcessFile(FileInfo file, CancellationToken cancellationToken)
+    /// <summary>Checks a settled file; true when it left the inbox (false while it waits for the store or another worker).</summary>
+    private bool ProcessFile(FileInfo file, CancellationToken cancellationToken)
     {
         var streamId = StreamIdFor(file.FullName);
         var sha256 = HashOf(file.FullName);
@@ -178,7 +224,7 @@ internal sealed class InboxService : BackgroundService
         {
             if (entry.State == FileJournalState.Received)
             {
-                return; // another worker holds it
+                return false; // another worker holds it
             }
 
             var target = entry.State == FileJournalState.Archived
@@ -186,9 +232,26 @@ internal sealed class InboxService : BackgroundService
                 : UniqueTarget(_options.RejectedFolder, file.Name, sha256);
             MoveFile(file.FullName, target);
             _logger.AlreadyProcessed(file.FullName, entry.State == FileJournalState.Archived ? "archived" : "rejected");
-            return;
+            return true;
         }
 
+        JournalCompletion completion;
+        try
+        {
+            completion = Check(file, streamId, sha256, entry, cancellationToken);
+        }
+        catch (Exception ex) when (StoreFaults.IsStoreFailure(ex))
+        {
+            _store.Files.Release(sha256, file.Length);
+            throw;
+        }
+
+        return Finish(completion);
+    }
+
+    /// <summary>Checks a claimed file: its alerts and rows go out, its report or reason is written; returns its outcome.</summary>
+    private JournalCompletion Check(FileInfo file, string streamId, string sha256, FileJournalEntry entry, CancellationToken cancellationToken)
+    {
         var checker = new RecordingChecker(_sessions.Analysis, _limits);
 
         // A second attempt replays what the interrupted one already stored; the filter keeps it from doing so twice.
@@ -213,8 +276,6 @@ internal sealed class InboxService : BackgroundService
             session.End();
         }
 
-        // The file's minute rows reach the store (or the writer's retry backlog) before its journal entry is completed.
-        _ledger.Flush();
         if (recheck is not null)
         {
             _logger.RecheckSkipped(file.FullName, recheck.Skipped);
@@ -224,10 +285,8 @@ internal sealed class InboxService : BackgroundService
         {
             var target = UniqueTarget(_options.RejectedFolder, file.Name, sha256);
             OutputText.WriteFile(target + ".reason.txt", report.Error + Environment.NewLine);
-            _store.Files.Complete(sha256, file.Length, FileJournalState.Rejected, reason: report.Error);
-            MoveFile(file.FullName, target);
-            _logger.Rejected(file.FullName, report.Error);
-            return;
+            var error = report.Error;
+            return new JournalCompletion(file.FullName, target, sha256, file.Length, FileJournalState.Rejected, null, error, () => _logger.Rejected(file.FullName, error));
         }
 
         var archiveFolder = Path.Combine(_options.ArchiveFolder, streamId);
@@ -255,10 +314,135 @@ internal sealed class InboxService : BackgroundService
         };
         OutputText.WriteFile(reportPath, JsonSerializer.Serialize(archivedReport, CheckReportJsonContext.Output.CheckReport));
 
-        // Journal first, then move: a stop in between leaves an archived entry whose file is simply moved next time.
-        _store.Files.Complete(sha256, file.Length, FileJournalState.Archived, reportPath: reportPath);
-        MoveFile(file.FullName, archived);
-        _logger.Archived(file.FullName, streamId, report.Verdict.ToText(), report.Lines.Count, report.ChannelFaults.Count, archived);
+        return new JournalCompletion(
+            file.FullName, archived, sha256, file.Length, FileJournalState.Archived, reportPath, null,
+            () => _logger.Archived(file.FullName, streamId, report.Verdict.ToText(), report.Lines.Count, report.ChannelFaults.Count, archived));
+    }
+
+    /// <summary>
+    /// Journal first, then move: a stop in between leaves an archived entry whose file is simply moved next time. The
+    /// entry is written only once the file's minute rows and alert events are in the store; until then, and when the store
+    /// refuses the entry, the file stays in the inbox and the store's retry writes the entry.
+    /// </summary>
+    private bool Finish(JournalCompletion completion)
+    {
+        if (!_health.IsFaulted && _ledger.Flush() && _health.Deferred == 0)
+        {
+            try
+            {
+                _completions.Complete(completion);
+                Move(completion);
+                return true;
+            }
+            catch (Exception ex) when (StoreFaults.IsStoreFailure(ex))
+            {
+                _health.ReportFailure(ex, $"the journal entry of {completion.Source}");
+            }
+        }
+        else
+        {
+            _completions.Keep(completion);
+        }
+
+        _logger.CompletionDeferred(completion.Source, _health.StorePath);
+        return false;
+    }
+
+    /// <summary>Moves the held files whose journal entry the store's retry has written; returns how many.</summary>
+    private int MoveCompleted()
+    {
+        var moved = 0;
+        foreach (var completion in _completions.TakeStored())
+        {
+            try
+            {
+                Move(completion);
+                moved++;
+            }
+            catch (Exception ex) when (ex is IOException or UnauthorizedAccessException)
+            {
+                // The journal says done; the file is moved like any already processed copy when it is seen again.
+                _logger.ProcessFailed(ex, completion.Source);
+            }
+        }
+
+        return moved;
+    }
+
+    private static void Move(JournalCompletion completion)
+    {
+        MoveFile(completion.Source, completion.Target);
+        completion.Describe();
+    }
+
+    /// <summary>True when the inbox folder is there, created again if it was removed; false while it cannot be.</summary>
+    private bool FolderIsThere()
+    {
+        var folder = Path.GetFullPath(_options.Folder);
+        if (Directory.Exists(folder))
+        {
+            if (_folder.Back())
+            {
+                _logger.FolderBack(folder);
+            }
+
+            if (_watcherBroken)
+            {
+                Watch();
+            }
+
+            return true;
+        }
+
+        try
+        {
+            Directory.CreateDirectory(folder);
+        }
+        catch (Exception ex) when (ex is IOException or UnauthorizedAccessException)
+        {
+            if (_folder.Missing(_time.GetUtcNow()))
+            {
+                _logger.FolderMissing(folder, ex.Message, ScanInterval.TotalSeconds);
+            }
+
+            return false;
+        }
+
+        if (_folder.Recreated())
+        {
+            _logger.FolderBack(folder);
+        }
+        else
+        {
+            _logger.FolderRecreated(folder);
+        }
+
+        _candidates.Clear();
+        Watch();
+        return true;
+    }
+
+    /// <summary>A new watcher on the folder; the old one (of a folder since removed) is let go.</summary>
+    private void Watch()
+    {
+        _watcher?.Dispose();
+        _watcher = null;
+        try
+        {
+            var watcher = new FileSystemWatcher(_options.Folder) { IncludeSubdirectories = true };
+            watcher.Created += (_, _) => Wake();
+            watcher.Changed += (_, _) => Wake();
+            watcher.Renamed += (_, _) => Wake();
+            watcher.Error += (_, _) => _watcherBroken = true;
+            watcher.EnableRaisingEvents = true;
+            _watcher = watcher;
+            _watcherBroken = false;
+        }
+        catch (Exception ex) when (ex is IOException or ArgumentException or UnauthorizedAccessException)
+        {
+            // The folder went again: the rescan still finds files, and the next scan tries a watcher again.
+            _watcherBroken = true;
+        }
     }
 
     private DateTimeOffset RecordingStartUtc(FileInfo file)

@@ -2,7 +2,7 @@ using Microsoft.Extensions.Logging;
 
 namespace HumWatch.Host.Inbox;
 
-/// <summary>Source-generated log messages of the folder inbox. Event ids 4000–4099.</summary>
+/// <summary>Source-generated log messages of the folder inbox. Event ids 4000–4099 and 1345–1350.</summary>
 internal static partial class InboxLog
 {
     [LoggerMessage(EventId = 4001, Level = LogLevel.Information, Message = "Inbox: watching {Folder}")]
@@ -25,4 +25,24 @@ internal static partial class InboxLog
 
     [LoggerMessage(EventId = 4007, Level = LogLevel.Information, Message = "Inbox: {File} is checked again after an interrupted attempt; {Skipped} alert event(s) already stored were not stored or published again")]
     public static partial void RecheckSkipped(this ILogger logger, string file, int skipped);
+
+    [LoggerMessage(EventId = 1345, Level = LogLevel.Information, Message = "Inbox: {File} stays in the inbox until the store {Store} takes writes again, and is taken again then")]
+    public static partial void HeldForStore(this ILogger logger, string file, string store);
+
+    [LoggerMessage(EventId = 1346, Level = LogLevel.Information,
+        Message = "Inbox: {File} is checked; it stays in the inbox until the store {Store} has taken its alert events, minute rows and journal entry, and is moved then")]
+    public static partial void CompletionDeferred(this ILogger logger, string file, string store);
+
+    [LoggerMessage(EventId = 1347, Level = LogLevel.Information, Message = "Inbox: no new file is taken while the store {Store} is {Fault} or writes wait for it; files stay in the inbox")]
+    public static partial void PausedForStore(this ILogger logger, string store, string fault);
+
+    [LoggerMessage(EventId = 1348, Level = LogLevel.Warning, Message = "Inbox: the folder {Folder} was removed while running; it was created again and is watched as before")]
+    public static partial void FolderRecreated(this ILogger logger, string folder);
+
+    [LoggerMessage(EventId = 1349, Level = LogLevel.Warning,
+        Message = "Inbox: the folder {Folder} is gone and cannot be created ({Error}); tried again every {Seconds:0.#} s, files are taken once it is back")]
+    public static partial void FolderMissing(this ILogger logger, string folder, string error, double seconds);
+
+    [LoggerMessage(EventId = 1350, Level = LogLevel.Information, Message = "Inbox: the folder {Folder} is there again; files are taken again")]
+    public static partial void FolderBack(this ILogger logger, string folder);
 }

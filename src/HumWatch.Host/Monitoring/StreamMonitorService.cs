@@ -1,4 +1,5 @@
 using System.Collections.Concurrent;
+using HumWatch.Host.Health;
 using HumWatch.Host.Ingest;
 using HumWatch.Host.Publishing;
 using Microsoft.Extensions.Hosting;
@@ -24,16 +25,20 @@ internal sealed class StreamMonitorService : BackgroundService
     private readonly ILogger _logger;
     private readonly ConcurrentDictionary<string, StreamMonitor> _monitors = new(StringComparer.Ordinal);
     private readonly WarningThrottle _tooManyThrottle;
+    private readonly ResourceStatus? _resources;
     private long _retiredFrames;
 
+    /// <param name="resources">The store and folder states each status message carries; null leaves them out.</param>
     public StreamMonitorService(
         IngestQueue queue,
         IngestCounters counters,
         StreamSessionFactory sessions,
         IOptions<PublishOptions> publish,
         IMessagePublisher publisher,
-        ILoggerFactory loggerFactory)
+        ILoggerFactory loggerFactory,
+        ResourceStatus? resources = null)
     {
+        _resources = resources;
         _queue = queue;
         _counters = counters;
         _sessions = sessions;
@@ -135,28 +140,37 @@ internal sealed class StreamMonitorService : BackgroundService
     internal void PublishStatus()
     {
         var now = _time.GetUtcNow();
+        var resources = _resources is null ? null : new ResourceSnapshot(_resources);
         foreach (var monitor in _monitors.Values)
         {
-            var counts = _counters.Get(monitor.StreamId);
-            double? lag = monitor.LastFrameEndUtcFromStream is { } end ? Math.Max(0, (now - end).TotalSeconds) : null;
-            var status = new StatusMessage(
-                Messages.Version,
-                monitor.StreamId,
-                now,
-                monitor.FramesAnalysed,
-                monitor.LinesInLastFrame,
-                monitor.ActiveAlertCount,
-                counts?.Accepted ?? 0,
-                counts?.Dropped ?? monitor.DroppedChunks,
-                counts?.RejectedTotal ?? 0,
-                lag)
-            {
-                MainsHz = double.IsFinite(monitor.GridNominalHz) ? monitor.GridNominalHz : null,
-                MainsFrom = Checking.RecordingChecker.GridOriginName(monitor.GridFrom),
-                MainsEstimateHz = double.IsFinite(monitor.MainsEstimateHz) ? monitor.MainsEstimateHz : null,
-            };
+            var status = StatusOf(monitor, _counters.Get(monitor.StreamId), now, resources);
             _publisher.TryPublish(Messages.StatusKind, monitor.StreamId, Messages.For(status));
         }
+    }
+
+    /// <summary>One stream's status as taken at <paramref name="now"/>, with the store and folder states when given.</summary>
+    internal static StatusMessage StatusOf(StreamMonitor monitor, IngestStreamCounts? counts, DateTimeOffset now, ResourceSnapshot? resources)
+    {
+        double? lag = monitor.LastFrameEndUtcFromStream is { } end ? Math.Max(0, (now - end).TotalSeconds) : null;
+        return new StatusMessage(
+            Messages.Version,
+            monitor.StreamId,
+            now,
+            monitor.FramesAnalysed,
+            monitor.LinesInLastFrame,
+            monitor.ActiveAlertCount,
+            counts?.Accepted ?? 0,
+            counts?.Dropped ?? monitor.DroppedChunks,
+            counts?.RejectedTotal ?? 0,
+            lag)
+        {
+            MainsHz = double.IsFinite(monitor.GridNominalHz) ? monitor.GridNominalHz : null,
+            MainsFrom = Checking.RecordingChecker.GridOriginName(monitor.GridFrom),
+            MainsEstimateHz = double.IsFinite(monitor.MainsEstimateHz) ? monitor.MainsEstimateHz : null,
+            Store = resources?.Store,
+            LogFolder = resources?.LogFolder,
+            InboxFolder = resources?.InboxFolder,
+        };
     }
 
     /// <summary>

@@ -7,44 +7,40 @@ namespace HumWatch.Host.Publishing;
 /// <summary>
 /// Sends each alert event to the store, then the log, then subscribers, in that order and each step isolated:
 /// a failing publish never loses the stored row, and a failing store still lets people hear about it.
-/// Events the store refused are kept (bounded) and written before the next event. Thread-safe.
+/// Events the store refused wait (bounded, in order) and the store's <see cref="StoreHealth"/> writes them again. Last,
+/// each extra <see cref="IDispatchSink"/> (notifications) is told of the published body. Thread-safe.
 /// </summary>
 internal sealed class AlertDispatcher : IAlertEventSink
 {
-    /// <summary>Events kept for a later store attempt before the oldest are dropped (and logged).</summary>
+    /// <summary>Events kept for a later store attempt before the oldest are given up (counted and logged).</summary>
     public const int MaxPendingStore = 1000;
 
-    private readonly IAlertEventStore _store;
     private readonly IMessagePublisher _publisher;
     private readonly ILogger _logger;
-    private readonly Lock _gate = new();
-    private readonly Queue<AlertEvent> _unstored = new();
-    private long _storeFailures;
+    private readonly DeferredWrites<AlertEvent> _unstored;
+    private readonly IDispatchSink[] _sinks;
 
-    public AlertDispatcher(IAlertEventStore store, IMessagePublisher publisher, ILogger<AlertDispatcher> logger)
+    /// <param name="health">The store's fault state, which retries refused events; null makes one of this dispatcher's own.</param>
+    /// <param name="sinks">Told of each published event after the socket (notifications); none by default.</param>
+    public AlertDispatcher(
+        IAlertEventStore store,
+        IMessagePublisher publisher,
+        ILogger<AlertDispatcher> logger,
+        StoreHealth? health = null,
+        IEnumerable<IDispatchSink>? sinks = null)
     {
         ArgumentNullException.ThrowIfNull(store);
         ArgumentNullException.ThrowIfNull(publisher);
         ArgumentNullException.ThrowIfNull(logger);
-        _store = store;
         _publisher = publisher;
         _logger = logger;
+        _sinks = sinks?.ToArray() ?? [];
+        _unstored = new DeferredWrites<AlertEvent>(
+            "alert events", retryOrder: 1, MaxPendingStore, e => store.AppendAlert(e), Describe, health ?? new StoreHealth("the alert store", TimeProvider.System, logger));
     }
 
     /// <summary>Events waiting for a store retry.</summary>
-    public int PendingStoreCount
-    {
-        get
-        {
-            lock (_gate)
-            {
-                return _unstored.Count;
-            }
-        }
-    }
-
-    /// <summary>Store writes of alert events that failed since start (retries included).</summary>
-    public long StoreFailureCount => Interlocked.Read(ref _storeFailures);
+    public int PendingStoreCount => _unstored.Waiting;
 
     public void OnAlertEvent(AlertEvent alertEvent) => Dispatch(alertEvent);
 
@@ -52,73 +48,19 @@ internal sealed class AlertDispatcher : IAlertEventSink
     public (bool Stored, bool Published) Dispatch(AlertEvent alertEvent)
     {
         ArgumentNullException.ThrowIfNull(alertEvent);
-        var stored = Store(alertEvent);
+        var stored = _unstored.Write(alertEvent);
         Log(alertEvent);
-        var published = Publish(alertEvent);
+        var (published, kind, body) = Publish(alertEvent);
+        if (body is not null)
+        {
+            Tell(alertEvent, kind!, body);
+        }
+
         return (stored, published);
     }
 
-    private bool Store(AlertEvent alertEvent)
-    {
-        lock (_gate)
-        {
-            // Earlier failures first, so the store keeps event order.
-            var recovered = 0;
-            Exception? retryFailure = null;
-            while (_unstored.Count > 0)
-            {
-                try
-                {
-                    _store.AppendAlert(_unstored.Peek());
-                }
-                catch (Exception ex)
-                {
-                    Interlocked.Increment(ref _storeFailures);
-                    retryFailure = ex;
-                    break;
-                }
-
-                _unstored.Dequeue();
-                recovered++;
-            }
-
-            if (recovered > 0)
-            {
-                _logger.StoreRecovered(recovered);
-            }
-
-            if (_unstored.Count == 0)
-            {
-                try
-                {
-                    _store.AppendAlert(alertEvent);
-                    return true;
-                }
-                catch (Exception ex)
-                {
-                    Interlocked.Increment(ref _storeFailures);
-                    Keep(alertEvent);
-                    _logger.StoreFailed(ex, alertEvent.EventKind.ToText(), alertEvent.Key.ToString(), alertEvent.StreamId, _unstored.Count);
-                    return false;
-                }
-            }
-
-            Keep(alertEvent);
-            _logger.StoreFailed(retryFailure!, alertEvent.EventKind.ToText(), alertEvent.Key.ToString(), alertEvent.StreamId, _unstored.Count);
-            return false;
-        }
-    }
-
-    private void Keep(AlertEvent alertEvent)
-    {
-        if (_unstored.Count >= MaxPendingStore)
-        {
-            var oldest = _unstored.Dequeue();
-            _logger.StoreRetryOverflow(oldest.EventKind.ToText(), oldest.Key.ToString(), oldest.StreamId, _unstored.Count);
-        }
-
-        _unstored.Enqueue(alertEvent);
-    }
+    private static string Describe(AlertEvent alertEvent) =>
+        $"the {alertEvent.EventKind.ToText()} event of {alertEvent.Key} on {alertEvent.StreamId} at {alertEvent.Utc:o}";
 
     private void Log(AlertEvent alertEvent)
     {
@@ -164,25 +106,63 @@ internal sealed class AlertDispatcher : IAlertEventSink
         }
     }
 
-    private bool Publish(AlertEvent alertEvent)
+    private (bool Published, string? Kind, byte[]? Body) Publish(AlertEvent alertEvent)
     {
+        string kind;
+        byte[] body;
         try
         {
-            var (kind, body) = Messages.For(alertEvent);
-            return _publisher.TryPublish(kind, alertEvent.StreamId, body);
+            (kind, body) = Messages.For(alertEvent);
         }
         catch (Exception ex)
         {
+            ReportPublishFailure(ex, alertEvent);
+            return (false, null, null);
+        }
+
+        try
+        {
+            return (_publisher.TryPublish(kind, alertEvent.StreamId, body), kind, body);
+        }
+        catch (Exception ex)
+        {
+            ReportPublishFailure(ex, alertEvent);
+            return (false, kind, body);
+        }
+    }
+
+    private void ReportPublishFailure(Exception ex, AlertEvent alertEvent)
+    {
+        try
+        {
+            _logger.PublishFailed(ex, alertEvent.EventKind.ToText(), alertEvent.Key.ToString(), alertEvent.StreamId);
+        }
+        catch (Exception)
+        {
+            // Nothing left to report to.
+        }
+    }
+
+    private void Tell(AlertEvent alertEvent, string kind, byte[] body)
+    {
+        foreach (var sink in _sinks)
+        {
             try
             {
-                _logger.PublishFailed(ex, alertEvent.EventKind.ToText(), alertEvent.Key.ToString(), alertEvent.StreamId);
+                sink.OnAlertDispatched(alertEvent, kind, body);
             }
-            catch (Exception)
+            catch (Exception ex)
             {
-                // Nothing left to report to.
+                // By design: a sink must not throw, and one that does must not stop the others.
+                try
+                {
+                    _logger.DispatchSinkFailed(ex, sink.GetType().Name, alertEvent.EventKind.ToText(), alertEvent.Key.ToString(), alertEvent.StreamId);
+                }
+                catch (Exception)
+                {
+                    // Nothing left to report to.
+                }
             }
-
-            return false;
         }
     }
 }

@@ -2,7 +2,7 @@ using Microsoft.Extensions.Logging;
 
 namespace HumWatch.Host.Publishing;
 
-/// <summary>Source-generated log messages of alert dispatch and publishing. Event ids 3000–3099.</summary>
+/// <summary>Source-generated log messages of alert dispatch and publishing. Event ids 3000–3099, and 1470 (dispatch sinks).</summary>
 internal static partial class PublishingLog
 {
     [LoggerMessage(EventId = 3000, Level = LogLevel.Warning,
@@ -23,22 +23,14 @@ internal static partial class PublishingLog
     [LoggerMessage(EventId = 3004, Level = LogLevel.Information, Message = "Channel fault cleared on {Stream}: {Key} ({Reason}) after {DurationSeconds:0} s")]
     public static partial void FaultCleared(this ILogger logger, string stream, string key, string reason, double durationSeconds);
 
-    [LoggerMessage(EventId = 3010, Level = LogLevel.Error,
-        Message = "Could not store the {Event} event of {Key} on {Stream}; it is kept in memory ({Pending} waiting) and retried with the next event")]
-    public static partial void StoreFailed(this ILogger logger, Exception exception, string @event, string key, string stream, int pending);
-
-    [LoggerMessage(EventId = 3011, Level = LogLevel.Error,
-        Message = "Dropped the {Event} event of {Key} on {Stream} from the store retry list: {Pending} events already waiting")]
-    public static partial void StoreRetryOverflow(this ILogger logger, string @event, string key, string stream, int pending);
-
-    [LoggerMessage(EventId = 3012, Level = LogLevel.Information, Message = "Stored {Count} alert events that had failed before")]
-    public static partial void StoreRecovered(this ILogger logger, int count);
-
     [LoggerMessage(EventId = 3013, Level = LogLevel.Error, Message = "Could not publish the {Event} event of {Key} on {Stream}")]
     public static partial void PublishFailed(this ILogger logger, Exception exception, string @event, string key, string stream);
 
     [LoggerMessage(EventId = 3014, Level = LogLevel.Error, Message = "Could not log the {Event} event of {Key} on {Stream}")]
     public static partial void LogFailed(this ILogger logger, Exception exception, string @event, string key, string stream);
+
+    [LoggerMessage(EventId = 1470, Level = LogLevel.Error, Message = "The {Sink} sink failed on the {Event} event of {Key} on {Stream}; the event is stored and published")]
+    public static partial void DispatchSinkFailed(this ILogger logger, Exception exception, string sink, string @event, string key, string stream);
 
     [LoggerMessage(EventId = 3020, Level = LogLevel.Information, Message = "Publishing on {Endpoint}")]
     public static partial void PublisherBound(this ILogger logger, string endpoint);

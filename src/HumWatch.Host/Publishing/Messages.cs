@@ -90,6 +90,15 @@ internal sealed record StatusMessage(
 
     /// <summary>The grid fundamental measured in the latest frame that showed it, Hz; null before one did.</summary>
     public double? MainsEstimateHz { get; init; }
+
+    /// <summary>Whether the store takes writes, and what waits for it; the same for every stream of the process.</summary>
+    public Store.StoreStatus? Store { get; init; }
+
+    /// <summary>Whether the log folder is there.</summary>
+    public Health.FolderStatus? LogFolder { get; init; }
+
+    /// <summary>Whether the inbox folder is there ("off" when the inbox is off).</summary>
+    public Health.FolderStatus? InboxFolder { get; init; }
 }
 
 [JsonSourceGenerationOptions(PropertyNamingPolicy = JsonKnownNamingPolicy.CamelCase)]

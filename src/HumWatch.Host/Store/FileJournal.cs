@@ -86,6 +86,14 @@ internal sealed class FileJournal(StoreConnection connection)
         });
     }
 
+    /// <summary>Gives up this process's claim of a file without an outcome (its check was cut short): it can be claimed again.</summary>
+    public void Release(string sha256, long sizeBytes)
+    {
+        ArgumentException.ThrowIfNullOrWhiteSpace(sha256);
+        var hash = sha256.ToLowerInvariant();
+        connection.Run(_ => _inProgress.Remove((hash, sizeBytes)));
+    }
+
     /// <summary>The journal entry of a file's content, or null.</summary>
     public FileJournalEntry? Find(string sha256, long sizeBytes)
     {

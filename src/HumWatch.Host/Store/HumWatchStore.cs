@@ -28,6 +28,9 @@ internal sealed class HumWatchStore : IDisposable
     /// <summary>Schema version after migration.</summary>
     public int SchemaVersion => _connection.SchemaVersion;
 
+    /// <summary>The connection itself, for connection-level settings; tests use it to make the store full or read-only.</summary>
+    internal StoreConnection Connection => _connection;
+
     /// <summary>Alert events.</summary>
     public AlertTable Alerts { get; }
 

@@ -47,6 +47,13 @@ internal sealed class StoreConnection : IDisposable
             }
 
             _connection.Open();
+
+            // SQLite opens a write-protected file read-only without a word; every write would then fail for good.
+            if (SQLitePCL.raw.sqlite3_db_readonly(_connection.Handle, "main") == 1)
+            {
+                throw new InvalidOperationException($"Store {FullPath}: the file can only be opened read-only (the file, its folder or the file system is write-protected)");
+            }
+
             Sql.Execute(_connection, $"PRAGMA busy_timeout = {options.BusyTimeoutMs.ToString(CultureInfo.InvariantCulture)}");
             var mode = Sql.Scalar(_connection, "PRAGMA journal_mode = WAL") as string;
             if (!string.Equals(mode, "wal", StringComparison.OrdinalIgnoreCase))

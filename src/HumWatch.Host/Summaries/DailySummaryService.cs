@@ -22,6 +22,7 @@ internal sealed class DailySummaryService : BackgroundService
     private readonly ILogger<DailySummaryService> _logger;
     private readonly TimeProvider _timeProvider;
     private readonly TimeSpan _settle;
+    private readonly IDispatchSink[] _sinks;
 
     public DailySummaryService(
         SummaryStore store,
@@ -30,7 +31,8 @@ internal sealed class DailySummaryService : BackgroundService
         IOptions<SiteOptions> site,
         ILogger<DailySummaryService> logger,
         TimeProvider timeProvider,
-        Core.Analysis.AnalysisOptions? analysis = null)
+        Core.Analysis.AnalysisOptions? analysis = null,
+        IEnumerable<IDispatchSink>? sinks = null)
     {
         ArgumentNullException.ThrowIfNull(store);
         ArgumentNullException.ThrowIfNull(publisher);
@@ -45,6 +47,7 @@ internal sealed class DailySummaryService : BackgroundService
         _logger = logger;
         _timeProvider = timeProvider;
         _settle = TimeSpan.FromSeconds(_options.SettleSeconds);
+        _sinks = sinks?.ToArray() ?? [];
         _renderer = new DailySummaryRenderer(store, _options, site.Value.Name, _zone, analysis?.Sources.MainsHz);
     }
 
@@ -86,6 +89,12 @@ internal sealed class DailySummaryService : BackgroundService
                     if (!_publisher.TryPublish(Messages.SummaryKind, s.Stream, rendered.Json))
                     {
                         _logger.SummaryNotPublished(dayText, s.Stream);
+                    }
+
+                    foreach (var sink in _sinks)
+                    {
+                        // Sinks never throw (IDispatchSink); they only queue the summary for their own task.
+                        sink.OnSummaryPublished(s, rendered.Json);
                     }
                 }
             }

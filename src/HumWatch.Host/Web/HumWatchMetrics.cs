@@ -3,7 +3,6 @@ using HumWatch.Core.Findings;
 using HumWatch.Formats.Wire;
 using HumWatch.Host.Ingest;
 using HumWatch.Host.Monitoring;
-using HumWatch.Host.Publishing;
 using HumWatch.Host.Store;
 
 namespace HumWatch.Host.Web;
@@ -24,8 +23,7 @@ internal sealed class HumWatchMetrics : IDisposable
         IngestCounters counters,
         IngestQueue queue,
         RoomBoard board,
-        AlertDispatcher dispatcher,
-        LedgerWriter ledger,
+        StoreHealth storeHealth,
         EventClients clients)
     {
         _meter = new Meter(MeterName);
@@ -38,7 +36,9 @@ internal sealed class HumWatchMetrics : IDisposable
         _meter.CreateObservableGauge("humwatch.analysis.lag", Lags, "s", "Real time minus the time of the latest analysed sample, per stream whose chunks carry times (latest status).");
         _meter.CreateObservableCounter("humwatch.alerts.raised", () => Kinds(board.RaisedByKind()), "{alert}", "Alerts raised since start, by kind.");
         _meter.CreateObservableGauge("humwatch.alerts.active", () => Active(board), "{alert}", "Alerts active now, by kind.");
-        _meter.CreateObservableCounter("humwatch.store.write_failures", () => dispatcher.StoreFailureCount + ledger.WriteFailureCount, "{write}", "Store writes (alert events, ledger batches) that failed since start.");
+        _meter.CreateObservableCounter("humwatch.store.write_failures", () => storeHealth.Failures, "{write}", "Store writes refused since start (first attempts and retries).");
+        _meter.CreateObservableGauge("humwatch.store.deferred_writes", () => storeHealth.Deferred, "{write}", "Writes waiting in memory for the store now.");
+        _meter.CreateObservableCounter("humwatch.store.dropped_writes", () => storeHealth.Dropped, "{write}", "Writes given up since start because their backlog was full.");
         _meter.CreateObservableGauge("humwatch.web.event_clients", () => clients.Count, "{page}", "Pages connected to the event stream now.");
         IEnumerable<Measurement<double>> Lags()
         {

@@ -11,7 +11,7 @@ namespace HumWatch.Host.Web;
 /// </summary>
 internal sealed class Readiness(
     HumWatchStore store,
-    AlertDispatcher dispatcher,
+    StoreHealth storeHealth,
     ZmqPublisher publisher,
     Func<IReadOnlyList<string>> ingestEndpoints,
     int ingestEndpointCount,
@@ -48,9 +48,14 @@ internal sealed class Readiness(
             return new CheckView("store", false, $"the store cannot be written (Store:Path): {ex.Message}");
         }
 
-        var pending = dispatcher.PendingStoreCount;
-        return pending > 0
-            ? new CheckView("store", false, string.Create(CultureInfo.InvariantCulture, $"{pending} alert events wait for a store write that failed"))
+        var health = storeHealth.Snapshot();
+        if (storeHealth.IsFaulted)
+        {
+            return new CheckView("store", false, string.Create(CultureInfo.InvariantCulture, $"the store is {health.State} since {health.Since:O} ({health.Deferred} writes wait): {health.Error}"));
+        }
+
+        return health.Deferred > 0
+            ? new CheckView("store", false, string.Create(CultureInfo.InvariantCulture, $"{health.Deferred} writes wait for the store to take them again"))
             : new CheckView("store", true, null);
     }
 

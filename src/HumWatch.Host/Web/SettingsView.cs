@@ -10,8 +10,9 @@ namespace HumWatch.Host.Web;
 
 /// <summary>
 /// The settings in force, section by section under their configuration names, with secrets removed: a value whose key
-/// names a password, secret, token, credential, API key or hash is replaced by "(hidden)" when set, and a URL loses
-/// its user information and query string. The rule goes by names so that settings added later are covered too.
+/// names a password, secret, token, credential, API key or hash is replaced by "(hidden)" when set, and an http(s) URL
+/// shows only its scheme, host and port (webhook addresses often carry a secret in their path or query). The rule goes
+/// by names and shapes so that settings added later are covered too.
 /// </summary>
 internal static class SettingsView
 {
@@ -101,15 +102,15 @@ internal static class SettingsView
         }
     }
 
-    /// <summary>An absolute URL without user information and query; null when <paramref name="text"/> is no such URL or has neither.</summary>
-    private static string? WithoutUrlSecrets(string text)
+    /// <summary>An http(s) URL cut to "scheme://host:port/…"; null when <paramref name="text"/> is no such URL or has nothing after the host.</summary>
+    internal static string? WithoutUrlSecrets(string text)
     {
-        if (!Uri.TryCreate(text, UriKind.Absolute, out var uri) || uri.IsFile || (uri.UserInfo.Length == 0 && uri.Query.Length == 0))
+        if (!Uri.TryCreate(text, UriKind.Absolute, out var uri) || (uri.Scheme != Uri.UriSchemeHttp && uri.Scheme != Uri.UriSchemeHttps)
+            || (uri.UserInfo.Length == 0 && uri.Query.Length == 0 && uri.AbsolutePath is "/" or ""))
         {
             return null;
         }
 
-        var builder = new UriBuilder(uri) { UserName = "", Password = "", Query = "" };
-        return builder.Uri.GetComponents(UriComponents.SchemeAndServer | UriComponents.Path, UriFormat.UriEscaped);
+        return uri.GetComponents(UriComponents.SchemeAndServer, UriFormat.UriEscaped) + "/…";
     }
 }

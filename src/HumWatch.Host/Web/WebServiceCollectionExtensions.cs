@@ -33,7 +33,7 @@ internal static class WebServiceCollectionExtensions
             new PublisherTap(sp.GetRequiredService<ZmqPublisher>(), sp.GetRequiredService<RoomBoard>(), sp.GetRequiredService<EventClients>())));
         services.AddSingleton(sp => new Readiness(
             sp.GetRequiredService<HumWatchStore>(),
-            sp.GetRequiredService<AlertDispatcher>(),
+            sp.GetRequiredService<StoreHealth>(),
             sp.GetRequiredService<ZmqPublisher>(),
             () => sp.GetServices<IHostedService>().OfType<SocketIngestService>().FirstOrDefault()?.Endpoints ?? [],
             bound.Ingest.EffectiveEndpoints().Count,
@@ -58,8 +58,7 @@ internal static class WebServiceCollectionExtensions
                 sp.GetRequiredService<IngestCounters>(),
                 sp.GetRequiredService<IngestQueue>(),
                 sp.GetRequiredService<RoomBoard>(),
-                sp.GetRequiredService<AlertDispatcher>(),
-                sp.GetRequiredService<LedgerWriter>(),
+                sp.GetRequiredService<StoreHealth>(),
                 sp.GetRequiredService<EventClients>()),
             sp.GetRequiredService<HumWatchStore>(),
             sp.GetRequiredService<ILoggerFactory>(),

@@ -1,18 +1,22 @@
 using System.CommandLine;
 using System.Text.Json;
+using HumWatch.Cli.Dataset;
 using HumWatch.Host.Checking;
 using HumWatch.Host.Configuration;
 
 namespace HumWatch.Cli.Commands;
 
-/// <summary>`humwatch check FILE... [--mains 50|60] [--json] [--config PATH]... [--set KEY=VALUE]...`.</summary>
+/// <summary>
+/// `humwatch check FILE|DIR... [--mains 50|60] [--json] [--table FILE|-] [--skip-checked FILE] [--config PATH]...
+/// [--set KEY=VALUE]...`.
+/// </summary>
 internal static class CheckCommand
 {
     public static Command Create()
     {
         var files = new Argument<string[]>("files")
         {
-            Description = "Recordings to check (EDF, EDF+, BDF, BDF+ or CSV).",
+            Description = "Recordings to check (EDF, EDF+, BDF, BDF+ or CSV), or folders to walk for them (e.g. a BIDS dataset).",
             Arity = ArgumentArity.OneOrMore,
         };
         var mains = new Option<string?>("--mains")
@@ -28,20 +32,32 @@ internal static class CheckCommand
                 result.AddError($"--mains takes 50 or 60, the mains frequency of the site in Hz (got '{text}').");
             }
         });
-        var json = new Option<bool>("--json") { Description = "Print the report as JSON (an array when several files are given)." };
+        var json = new Option<bool>("--json") { Description = "Print the reports as JSON Lines: one report per line, written as each file is done." };
+        var table = new Option<string?>("--table")
+        {
+            Description = "Write one tab-separated row per file to FILE ('-' for stdout): verdict, exit code, strongest line per source, faults, BIDS entities, size, time and content hash.",
+            HelpName = "FILE|-",
+        };
+        var skipChecked = new Option<string?>("--skip-checked")
+        {
+            Description = "Skip files whose size, time and content hash already have a row in FILE (a table of an earlier run); with --table FILE the same file, new rows are appended to it.",
+            HelpName = "FILE",
+        };
         var settings = new SettingsArguments("Configuration file(s) layered over the defaults and ./appsettings.json, later files winning, e.g. config/site-60hz.json (repeatable).");
         var command = settings.AddTo(new Command("check", "Checks recordings once and reports every narrowband line and channel fault; exit code 0 pass, 1 contaminated past the limits, 2 unreadable input or bad arguments.")
         {
             files,
             mains,
             json,
+            table,
+            skipChecked,
         });
-        command.SetAction(parse => Run(
-            parse.GetValue(files) ?? [],
+        command.SetAction((parse, cancellationToken) => RunAsync(
+            new CheckRequest(parse.GetValue(files) ?? [], parse.GetValue(json), parse.GetValue(table), parse.GetValue(skipChecked)),
             ParseMains(parse.GetValue(mains)),
-            parse.GetValue(json),
             settings.ConfigFiles(parse),
-            settings.Settings(parse)));
+            settings.Settings(parse),
+            cancellationToken));
         return command;
     }
 
@@ -74,7 +90,7 @@ internal static class CheckCommand
         if (asJson && files.Length > 0)
         {
             var why = "bad arguments: " + string.Join("; ", messages.Select(m => m.TrimEnd('.')));
-            WriteJson([.. files.Select(f => new CheckReport { File = f, Verdict = HumWatch.Core.Reporting.Verdict.Error, Error = why })]);
+            WriteJsonLines(files, why);
         }
     }
 
@@ -84,17 +100,18 @@ internal static class CheckCommand
             ? new Dictionary<string, string?> { ["Analysis:Sources:MainsHz"] = hz.ToString(System.Globalization.CultureInfo.InvariantCulture) }
             : null);
 
-    private static int Run(string[] files, int? mains, bool asJson, string[] configFiles, string[] settings)
+    private static async Task<int> RunAsync(CheckRequest request, int? mains, string[] configFiles, string[] settings, CancellationToken cancellationToken)
     {
         using var settingsErrors = new StringWriter();
         var sources = Sources(configFiles, settings, mains, settingsErrors);
         var bound = sources is null ? null : CommandSettings.TryBuild("check", sources, settingsErrors);
-        RecordingChecker? checker = null;
+        Func<int, RecordingChecker>? checkerFor = null;
         if (bound is not null)
         {
             try
             {
-                checker = new RecordingChecker(bound.Analysis, bound.Check, Environment.ProcessorCount);
+                _ = new RecordingChecker(bound.Analysis, bound.Check); // validates the settings before any file is read
+                checkerFor = threads => new RecordingChecker(bound.Analysis, bound.Check, threads);
             }
             catch (ArgumentException ex)
             {
@@ -102,54 +119,33 @@ internal static class CheckCommand
             }
         }
 
-        if (checker is null)
+        if (checkerFor is null)
         {
             // Bad settings: no file is checked. A pipeline reading --json still gets the report shape it parses, one
             // "error" report per file, exit code 2; the readable lines go to stderr either way.
             Console.Error.Write(settingsErrors.ToString());
-            if (asJson)
+            if (request.Json)
             {
-                var why = SettingsError(settingsErrors.ToString());
-                WriteJson([.. files.Select(f => new CheckReport { File = f, Verdict = HumWatch.Core.Reporting.Verdict.Error, Error = why })]);
+                WriteJsonLines(request.Inputs, SettingsError(settingsErrors.ToString()));
             }
 
             return ExitCodes.BadInput;
         }
 
-        var reports = new List<CheckReport>(files.Length);
-        foreach (var file in files)
-        {
-            var progress = new StderrProgress(file);
-            var report = checker.Check(file, progress);
-            progress.Finish();
-            if (report.Error is not null)
-            {
-                Console.Error.WriteLine($"humwatch check: {report.Error}");
-            }
-
-            reports.Add(report);
-        }
-
-        if (asJson)
-        {
-            WriteJson(reports);
-        }
-        else
-        {
-            CheckReportText.Write(Console.Out, reports);
-        }
-
-        return reports.Max(r => r.ExitCode);
+        return await DatasetCommand.RunAsync(request, checkerFor, cancellationToken).ConfigureAwait(false);
     }
 
-    /// <summary>One report as an object, several as an array.</summary>
-    private static void WriteJson(List<CheckReport> reports)
+    /// <summary>One "error" report per input, one per line.</summary>
+    private static void WriteJsonLines(IEnumerable<string> inputs, string why)
     {
-        var text = reports.Count == 1
-            ? JsonSerializer.Serialize(reports[0], CheckReportJsonContext.Output.CheckReport)
-            : JsonSerializer.Serialize(reports, CheckReportJsonContext.Output.ListCheckReport);
-        Console.Out.WriteLine(text);
+        foreach (var input in inputs)
+        {
+            Console.Out.WriteLine(JsonLine(new CheckReport { File = input, Verdict = HumWatch.Core.Reporting.Verdict.Error, Error = why }));
+        }
     }
+
+    /// <summary>A report as one JSON Lines line (no line end).</summary>
+    internal static string JsonLine(CheckReport report) => JsonSerializer.Serialize(report, CheckReportJsonContext.Lines.CheckReport);
 
     /// <summary>The stderr lines about bad settings as one "error" text: "configuration is not valid: a; b".</summary>
     private static string SettingsError(string stderrText)
@@ -162,7 +158,7 @@ internal static class CheckCommand
     }
 
     /// <summary>One progress line on stderr for long files, rewritten in place on a terminal, throttled otherwise.</summary>
-    private sealed class StderrProgress(string file) : IProgress<double>
+    internal sealed class StderrProgress(string file) : IProgress<double>
     {
         private const double ReportStep = 0.1;
         private readonly bool _interactive = !Console.IsErrorRedirected;

@@ -12,10 +12,23 @@ internal static class CheckReportText
         var anyHint = false;
         foreach (var report in reports)
         {
-            anyHint |= WriteOne(output, report);
-            output.WriteLine();
+            anyHint |= WriteBlock(output, report);
         }
 
+        WriteCaution(output, anyHint);
+    }
+
+    /// <summary>One file's block and the blank line after it; true when it gave a hint (the caution is then due).</summary>
+    public static bool WriteBlock(TextWriter output, CheckReport report)
+    {
+        var hint = WriteOne(output, report);
+        output.WriteLine();
+        return hint;
+    }
+
+    /// <summary>The safety caution, once after the blocks, when any of them gave a hint.</summary>
+    public static void WriteCaution(TextWriter output, bool anyHint)
+    {
         if (anyHint)
         {
             output.WriteLine($"Caution: {SafetyNotice.Text}");

@@ -230,6 +230,6 @@ public sealed class ServiceEndToEndTests
     private static long Rejected(IngestCounters counters) =>
         counters.Snapshot().Sum(s => s.RejectedTotal) + counters.UnattributedRejections().Sum(o => o.Rejected.Values.Sum());
 
-    private static string? Text(JsonElement json, string name) =>
+    internal static string? Text(JsonElement json, string name) =>
         json.TryGetProperty(name, out var value) && value.ValueKind == JsonValueKind.String ? value.GetString() : null;
 }

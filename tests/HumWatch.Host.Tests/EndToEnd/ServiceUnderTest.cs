@@ -42,6 +42,23 @@ internal sealed class ServiceUnderTest : IAsyncDisposable
 
     public string Rejected => Path.Combine(Folder, "rejected");
 
+    /// <summary>The lines of the text log files in <paramref name="folder"/>, read while the service may still write them.</summary>
+    public static List<string> LogLines(string folder)
+    {
+        var lines = new List<string>();
+        foreach (var path in Directory.GetFiles(folder, "humwatch-*.log"))
+        {
+            using var stream = new FileStream(path, FileMode.Open, FileAccess.Read, FileShare.ReadWrite | FileShare.Delete);
+            using var reader = new StreamReader(stream);
+            while (reader.ReadLine() is { } line)
+            {
+                lines.Add(line);
+            }
+        }
+
+        return lines;
+    }
+
     public static Dictionary<string, string?> Settings(string folder) => new()
     {
         ["Ingest:Endpoints:0:Address"] = "tcp://127.0.0.1:*",

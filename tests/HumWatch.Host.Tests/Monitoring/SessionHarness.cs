@@ -57,7 +57,8 @@ internal sealed class SessionHarness : IDisposable
     {
         Time = new FakeTimeProvider(nowUtc ?? Rooms.Start);
         WriterLogger = new RecordingLogger<LedgerWriter>();
-        Writer = new LedgerWriter(Outputs, WriterLogger, Time);
+        Health = new StoreHealth("harness.db", Time, WriterLogger);
+        Writer = new LedgerWriter(Outputs, WriterLogger, Time, health: Health);
         Factory = new StreamSessionFactory(
             new AnalysisOptions(),
             Options.Create(new AlertOptions()),
@@ -72,7 +73,11 @@ internal sealed class SessionHarness : IDisposable
 
     public FakeTimeProvider Time { get; }
 
+    /// <summary>Logs of the writer and of <see cref="Health"/>.</summary>
     public RecordingLogger<LedgerWriter> WriterLogger { get; }
+
+    /// <summary>The store's fault state the writer reports to; started, it retries refused rows.</summary>
+    public StoreHealth Health { get; }
 
     public LedgerWriter Writer { get; }
 
@@ -119,5 +124,9 @@ internal sealed class SessionHarness : IDisposable
         },
         Json);
 
-    public void Dispose() => Writer.Dispose();
+    public void Dispose()
+    {
+        Writer.Dispose();
+        Health.Dispose();
+    }
 }

@@ -40,10 +40,11 @@ public sealed class StreamSessionTests
     }
 
     [Fact]
-    public async Task Rows_the_store_refused_are_written_by_a_later_periodic_write_even_when_no_new_row_comes()
+    public async Task Rows_the_store_refused_are_written_by_a_later_retry_even_when_no_new_row_comes()
     {
         using var harness = new SessionHarness();
         await harness.Writer.StartAsync(CancellationToken.None);
+        await harness.Health.StartAsync(CancellationToken.None);
         await using var monitor = harness.Monitor("room-r");
         SessionHarness.Feed(monitor, SessionHarness.Chunks(Rooms.WithMains("room-r", onSeconds: 0, offSeconds: null), seconds: 70));
         var waiting = harness.Writer.PendingCount;
@@ -54,15 +55,17 @@ public sealed class StreamSessionTests
         Assert.Equal(1, harness.Outputs.WriteCalls);
         Assert.Empty(harness.Outputs.StoredRows);
         Assert.Equal(waiting, harness.Writer.PendingCount);
-        Assert.Contains(harness.WriterLogger.Entries, e => e.EventId.Id == 3100);
+        Assert.Contains(harness.WriterLogger.Entries, e => e.EventId.Id == 1340);
+        Assert.True(harness.Health.IsFaulted);
 
-        // No chunk and no row in between: the retry comes from the writer alone.
+        // No chunk and no row in between: the store health retries after its first wait (1 s); the periodic write pauses.
         harness.Time.Advance(LedgerWriter.DefaultWriteInterval);
 
         Assert.Equal(2, harness.Outputs.WriteCalls);
         Assert.Equal(waiting, harness.Outputs.StoredRows.Count);
         Assert.Equal(0, harness.Writer.PendingCount);
-        Assert.Contains(harness.WriterLogger.Entries, e => e.EventId.Id == 3102);
+        Assert.Contains(harness.WriterLogger.Entries, e => e.EventId.Id == 1342);
+        Assert.False(harness.Health.IsFaulted);
 
         harness.Time.Advance(LedgerWriter.DefaultWriteInterval * 5);
         Assert.Equal(2, harness.Outputs.WriteCalls); // nothing waits, so nothing is written twice

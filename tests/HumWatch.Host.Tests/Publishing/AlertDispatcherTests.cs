@@ -75,17 +75,24 @@ public sealed class AlertDispatcherTests : IDisposable
         var store = new RecordingStore(_steps) { Fail = true };
         var publisher = new RecordingPublisher(_steps);
         var logger = new RecordingLogger<AlertDispatcher>();
-        var dispatcher = new AlertDispatcher(store, publisher, logger);
+        var time = new FakeTimeProvider(Some.Utc);
+        using var health = new StoreHealth("alerts.db", time, logger);
+        var dispatcher = new AlertDispatcher(store, publisher, logger, health);
 
         Assert.Equal((false, true), dispatcher.Dispatch(Some.Raised()));
         Assert.Equal((false, true), dispatcher.Dispatch(Some.SeverityChanged()));
         Assert.Equal(2, dispatcher.PendingStoreCount);
-        Assert.Contains(logger.Entries, e => e.EventId.Id == 3010 && e.Level == LogLevel.Error);
+        Assert.Single(logger.Entries, e => e.EventId.Id == 1340 && e.Level == LogLevel.Warning);
 
+        // The store works again, but a new event queues behind the waiting ones until the retry (after 1 s) has run.
         store.Fail = false;
-        Assert.Equal((true, true), dispatcher.Dispatch(Some.Cleared()));
+        Assert.Equal((false, true), dispatcher.Dispatch(Some.Cleared()));
+        Assert.False(health.RetryIfDue());
+        time.Advance(StoreHealth.FirstRetryDelay);
+        Assert.True(health.RetryIfDue());
 
         Assert.Equal(0, dispatcher.PendingStoreCount);
+        Assert.Single(logger.Entries, e => e.EventId.Id == 1342);
         Assert.Equal(["raised", "severity", "cleared"], store.Stored.Select(e => e.EventKind.ToText()));
         Assert.Equal(3, publisher.Topics.Count);
     }

@@ -31,9 +31,11 @@ public sealed class LedgerWriterTests : IDisposable
     [Fact]
     public void Rows_refused_by_the_store_are_written_later_exactly_once()
     {
-        using var store = new HumWatchStore(new StoreOptions { Path = _temp.File("l.db") }, new FakeTimeProvider(Some.Utc));
+        var time = new FakeTimeProvider(Some.Utc);
+        using var store = new HumWatchStore(new StoreOptions { Path = _temp.File("l.db") }, time);
         var logger = new RecordingLogger<LedgerWriter>();
-        var writer = new LedgerWriter(new FlakyLedgerStore(store.Ledger, failures: 2), logger);
+        using var health = new StoreHealth(store.FullPath, time, logger);
+        var writer = new LedgerWriter(new FlakyLedgerStore(store.Ledger, failures: 2), logger, time, health: health);
 
         writer.OnMinuteRow(Some.Row("s1", 1, 20, 10, 3, 2));
         Assert.False(writer.Flush());
@@ -41,29 +43,43 @@ public sealed class LedgerWriterTests : IDisposable
         Assert.False(writer.Flush());
         Assert.Equal(2, writer.PendingCount);
 
-        Assert.True(writer.Flush());
+        Assert.Equal(2, health.Deferred);
+        Assert.True(health.RetryNow());
         Assert.Equal(0, writer.PendingCount);
+        Assert.Equal(0, health.Deferred);
         Assert.True(writer.Flush());
 
         var rows = store.Ledger.Rows("room-a", Some.Utc.AddMinutes(-1), Some.Utc.AddMinutes(1));
         Assert.Equal(2, rows.Count);
         Assert.All(rows, r => Assert.Equal(20, r.MonitoredSeconds, 9));
-        Assert.Equal(2, logger.Entries.Count(e => e.EventId.Id == 3100));
-        Assert.Contains(logger.Entries, e => e.EventId.Id == 3102);
+        // One warning when the fault began (the second refusal is part of it), one line when it ended.
+        Assert.Single(logger.Entries, e => e.EventId.Id == 1340);
+        var cleared = Assert.Single(logger.Entries, e => e.EventId.Id == 1342);
+        Assert.Contains("2 waiting write(s) stored (2 minute ledger rows)", cleared.Message, StringComparison.Ordinal);
     }
 
     [Fact]
     public void The_backlog_is_bounded_and_drops_are_logged()
     {
+        var time = new FakeTimeProvider(Some.Utc);
         var logger = new RecordingLogger<LedgerWriter>();
-        var writer = new LedgerWriter(new FlakyLedgerStore(null!, failures: int.MaxValue), logger, maxPendingRows: 3);
+        using var health = new StoreHealth("bounded.db", time, logger);
+        var writer = new LedgerWriter(new FlakyLedgerStore(null!, failures: int.MaxValue), logger, time, maxPendingRows: 3, health: health);
         for (var i = 1; i <= 5; i++)
         {
             writer.OnMinuteRow(Some.Row("s", i, 1, 0, 1, 1));
         }
 
+        // Two given up, counted; the first reported at once, the second held for the next report (at most one a minute).
         Assert.Equal(3, writer.PendingCount);
-        Assert.Equal(2, logger.Entries.Count(e => e.EventId.Id == 3101));
+        Assert.Equal(2, health.Dropped);
+        var first = Assert.Single(logger.Entries, e => e.EventId.Id == 1343);
+        Assert.Contains("gave up 1 oldest write(s) (1 in all), the latest row 1 of session s", first.Message, StringComparison.Ordinal);
+
+        time.Advance(StoreHealth.ReminderInterval);
+        writer.OnMinuteRow(Some.Row("s", 6, 1, 0, 1, 1));
+        Assert.Equal(3, health.Dropped);
+        Assert.Contains(logger.Entries, e => e.EventId.Id == 1343 && e.Message.Contains("gave up 2 oldest write(s) (3 in all)", StringComparison.Ordinal));
         Assert.False(writer.Flush());
     }
 

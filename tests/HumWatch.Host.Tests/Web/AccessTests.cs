@@ -118,6 +118,11 @@ public sealed class AccessTests
         Assert.True(SettingsView.IsSecretName("PasswordHash"));
         Assert.False(SettingsView.IsSecretName("ServerKeyFile"));
         Assert.False(SettingsView.IsSecretName("Endpoint"));
+
+        Assert.Equal("https://hooks.example.org/…", SettingsView.WithoutUrlSecrets("https://hooks.example.org/services/T00/B00/XXXXsecret?key=1"));
+        Assert.Equal("http://alerts.lab.example:8080/…", SettingsView.WithoutUrlSecrets("http://user:pw@alerts.lab.example:8080/"));
+        Assert.Null(SettingsView.WithoutUrlSecrets("http://127.0.0.1:5712"));
+        Assert.Null(SettingsView.WithoutUrlSecrets("tcp://127.0.0.1:5711"));
     }
 
     /// <summary>Python's hashlib.pbkdf2_hmac (RFC 8018 PBKDF2) makes and checks the same hashes: an outside reference for PasswordCheck.</summary>

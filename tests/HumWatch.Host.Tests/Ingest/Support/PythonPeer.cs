@@ -51,16 +51,19 @@ internal static class PythonPeer
         return (process.ExitCode, await output, await error);
     }
 
-    private static string? FindMissing()
+    private static string? FindMissing() => WhyCannotImport("zmq", "python3-zmq");
+
+    /// <summary>Why Debian's /usr/bin/python3 cannot import <paramref name="module"/> (of Debian's <paramref name="package"/>), or null when it can.</summary>
+    public static string? WhyCannotImport(string module, string package)
     {
         if (!File.Exists(Python))
         {
-            return $"needs Debian's python3-zmq: {Python} is not installed (.ci/run installs it with apt)";
+            return $"needs Debian's {package}: {Python} is not installed (.ci/run installs it with apt)";
         }
 
         try
         {
-            using var process = Process.Start(new ProcessStartInfo(Python, ["-c", "import zmq"])
+            using var process = Process.Start(new ProcessStartInfo(Python, ["-c", $"import {module}"])
             {
                 RedirectStandardError = true,
                 UseShellExecute = false,
@@ -69,7 +72,7 @@ internal static class PythonPeer
             process.WaitForExit();
             // The traceback's last line says why ("No module named 'zmq'"); the reason becomes part of a test's name.
             var why = error.Split('\n', StringSplitOptions.RemoveEmptyEntries | StringSplitOptions.TrimEntries).LastOrDefault() ?? $"exit code {process.ExitCode}";
-            return process.ExitCode == 0 ? null : $"needs Debian's python3-zmq: {Python} cannot import zmq ({why})";
+            return process.ExitCode == 0 ? null : $"needs Debian's {package}: {Python} cannot import {module} ({why})";
         }
         catch (System.ComponentModel.Win32Exception ex)
         {
