@@ -143,7 +143,8 @@ public sealed class NotifySettingsTests
 
         var hosted = host.Services.GetServices<IHostedService>().Select(s => s.GetType()).ToList();
 
-        Assert.Equal([typeof(LedgerWriter), typeof(NotificationService), typeof(UnclosedAlertCloser), typeof(StreamMonitorService)], hosted.Take(4));
+        // The store's health and the log folder's guard start before everything else (HumWatchHostTests has the whole order).
+        Assert.Equal([typeof(StoreHealth), typeof(LogFolderGuard), typeof(LedgerWriter), typeof(NotificationService), typeof(UnclosedAlertCloser), typeof(StreamMonitorService)], hosted.Take(6));
         Assert.Same(host.Services.GetRequiredService<NotificationService>(), Assert.Single(host.Services.GetServices<IDispatchSink>()));
         Assert.NotNull(host.Services.GetRequiredService<AlertDispatcher>());
     }

@@ -56,17 +56,3 @@ internal sealed class Browser : IDisposable
         _profile.Dispose();
     }
 }
-
-/// <summary>A test in a real browser, skipped with the reason in its name when chromium or its driver is missing.</summary>
-[AttributeUsage(AttributeTargets.Method)]
-public sealed class BrowserFactAttribute : Xunit.FactAttribute
-{
-    public BrowserFactAttribute([System.Runtime.CompilerServices.CallerMemberName] string method = "", [System.Runtime.CompilerServices.CallerFilePath] string file = "")
-    {
-        if (Browser.WhyUnavailable is { } reason)
-        {
-            Skip = reason;
-            DisplayName = $"{Path.GetFileNameWithoutExtension(file)}.{method} (skipped: {reason})";
-        }
-    }
-}

@@ -54,31 +54,3 @@ internal static class PrometheusParser
         return process.ExitCode == 0 ? null : "needs Debian's python3-prometheus-client (apt-get install python3-prometheus-client; .ci/run does)";
     }
 }
-
-/// <summary>A test that reads /metrics with Debian's prometheus_client, skipped with the reason in its name when that is missing.</summary>
-[AttributeUsage(AttributeTargets.Method)]
-public sealed class PrometheusParserFactAttribute : Xunit.FactAttribute
-{
-    public PrometheusParserFactAttribute([System.Runtime.CompilerServices.CallerMemberName] string method = "", [System.Runtime.CompilerServices.CallerFilePath] string file = "")
-    {
-        if (PrometheusParser.WhyUnavailable is { } reason)
-        {
-            Skip = reason;
-            DisplayName = $"{Path.GetFileNameWithoutExtension(file)}.{method} (skipped: {reason})";
-        }
-    }
-}
-
-/// <summary>A test that runs Debian's /usr/bin/python3 with its standard library only, skipped with the reason in its name when that is missing.</summary>
-[AttributeUsage(AttributeTargets.Method)]
-public sealed class StandardPythonFactAttribute : Xunit.FactAttribute
-{
-    public StandardPythonFactAttribute([System.Runtime.CompilerServices.CallerMemberName] string method = "", [System.Runtime.CompilerServices.CallerFilePath] string file = "")
-    {
-        if (!File.Exists(PrometheusParser.Python))
-        {
-            Skip = $"needs Debian's python3: {PrometheusParser.Python} is not installed (.ci/run installs python3 packages with apt)";
-            DisplayName = $"{Path.GetFileNameWithoutExtension(file)}.{method} (skipped: {Skip})";
-        }
-    }
-}
