@@ -78,6 +78,7 @@ internal sealed class IngestLoad(int channels, int sampleRateHz, double chunkSec
                 {
                     ["Ingest:Endpoints:0:Address"] = "tcp://127.0.0.1:*",
                     ["Publish:Endpoint"] = "tcp://127.0.0.1:*",
+                    ["Web:Endpoint"] = "http://127.0.0.1:0",
                     ["Store:Path"] = Path.Combine(folder.FullName, "humwatch.db"),
                     ["Logs:Folder"] = Path.Combine(folder.FullName, "logs"),
                     ["Logs:ConsoleLevel"] = "Fatal",

@@ -62,6 +62,7 @@ internal sealed class PeersSection : IBenchmarkSection
             {
                 ["Ingest:Endpoints:0:Address"] = "tcp://127.0.0.1:*",
                 ["Publish:Endpoint"] = "tcp://127.0.0.1:*",
+                    ["Web:Endpoint"] = "http://127.0.0.1:0",
                 ["Store:Path"] = Path.Combine(folder, "humwatch.db"),
                 ["Logs:Folder"] = logs,
                 ["Logs:ConsoleLevel"] = "Fatal",

@@ -1,7 +1,7 @@
 using HumWatch.Bench;
 
 // Tiny dispatcher: one class per benchmark section, chosen by the first argument.
-IBenchmarkSection[] sections = [new WelchSection(), new KernelSection(), new FrameSection(), new CheckSection(), new StreamsSection(), new FrameAllocSection(), new PeersSection(), new DatasetSection()];
+IBenchmarkSection[] sections = [new WelchSection(), new KernelSection(), new FrameSection(), new CheckSection(), new StreamsSection(), new FrameAllocSection(), new PeersSection(), new DatasetSection(), new WebSection()];
 
 // Hidden: one check run in a fresh process, started by the check section so its peak working set is the check's own.
 if (args.Length > 0 && args[0] == CheckSection.ChildName)

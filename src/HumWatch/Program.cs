@@ -17,6 +17,7 @@ internal static class Program
             ListenCommand.Create(),
             SummaryCommand.Create(),
             KeysCommand.Create(),
+            WebPasswordCommand.Create(),
         };
 
         var parse = root.Parse(args);

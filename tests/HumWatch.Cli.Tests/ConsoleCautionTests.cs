@@ -71,7 +71,7 @@ public sealed class ConsoleCautionTests
         using var demo = new RunningCli(
             "demo", "--scenarios", scenarios, "--data", Path.Combine(work.Path, "data"), "--speed", "20", "--seconds", "60",
             // Ephemeral ports: the demo connects its rooms and its printer to the ports the system gave.
-            "--set", "Publish:Endpoint=tcp://127.0.0.1:*", "--set", "Ingest:Endpoints:0:Address=tcp://127.0.0.1:*");
+            "--set", "Publish:Endpoint=tcp://127.0.0.1:*", "--set", "Web:Endpoint=http://127.0.0.1:0", "--set", "Ingest:Endpoints:0:Address=tcp://127.0.0.1:*");
 
         // The demo rooms carry several sources each, so a few alerts come within the first simulated minutes.
         await demo.Until(lines => lines.Count(l => l.Contains("hint:", StringComparison.Ordinal)) >= 3, () => { });
@@ -80,6 +80,9 @@ public sealed class ConsoleCautionTests
         Assert.Single(output, l => l.Contains(CautionLead, StringComparison.Ordinal));
         Assert.Contains(output, l => l.EndsWith(CautionLead + SafetyNotice.Text, StringComparison.Ordinal));
         Assert.Matches(@"^Alerts are published on tcp://127\.0\.0\.1:\d+ ", Assert.Single(output, l => l.StartsWith("Alerts are published on", StringComparison.Ordinal)));
+
+        // The page's address as bound (port 0 in the settings: the one the system gave).
+        Assert.Matches(@"^Live page: http://127\.0\.0\.1:[1-9]\d*/ ", Assert.Single(output, l => l.StartsWith("Live page:", StringComparison.Ordinal)));
     }
 
     /// <summary>The real humwatch executable, running until disposed; its stdout collected line by line.</summary>

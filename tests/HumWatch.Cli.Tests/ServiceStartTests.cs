@@ -16,11 +16,37 @@ public sealed class ServiceStartTests
         using var work = new TempFolder();
         using var squatter = TakePort(out var port);
 
-        var (code, output, error) = await CliRunner.RunInAsync(work.Path, NoEnvironment, "run", "--data", "data", "--set", $"Publish:Endpoint=tcp://127.0.0.1:{port}", "--set", "Ingest:Endpoints:0:Address=tcp://127.0.0.1:*");
+        var (code, output, error) = await CliRunner.RunInAsync(work.Path, NoEnvironment, "run", "--data", "data", "--set", $"Publish:Endpoint=tcp://127.0.0.1:{port}", "--set", "Web:Endpoint=http://127.0.0.1:0", "--set", "Ingest:Endpoints:0:Address=tcp://127.0.0.1:*");
 
         Assert.Equal(2, code);
         Assert.Contains($"humwatch run: cannot start: tcp://127.0.0.1:{port} is already in use (Publish:Endpoint). Another HumWatch", error, StringComparison.Ordinal);
         Assert.Contains("--set Publish:Endpoint=", error, StringComparison.Ordinal);
+        AssertNoStackTrace(output, error);
+    }
+
+    [Fact]
+    public async Task Serving_the_page_beyond_this_machine_without_a_token_is_refused_at_start_naming_the_setting()
+    {
+        using var work = new TempFolder();
+
+        var (code, output, error) = await CliRunner.RunInAsync(work.Path, NoEnvironment, "run", "--data", "data", "--set", "Web:Endpoint=http://0.0.0.0:0", "--set", "Web:AllowNonLoopback=true", "--set", "Publish:Endpoint=tcp://127.0.0.1:*", "--set", "Ingest:Endpoints:0:Address=tcp://127.0.0.1:*");
+
+        Assert.Equal(2, code);
+        Assert.Contains("Web:Endpoint http://0.0.0.0:0 is reachable from other hosts but no credential is set", error, StringComparison.Ordinal);
+        Assert.Contains("Set Web:AccessToken (at least 16 characters)", error, StringComparison.Ordinal);
+        AssertNoStackTrace(output, error);
+    }
+
+    [Fact]
+    public async Task A_taken_web_port_names_the_web_endpoint_setting()
+    {
+        using var work = new TempFolder();
+        using var squatter = TakePort(out var port);
+
+        var (code, output, error) = await CliRunner.RunInAsync(work.Path, NoEnvironment, "run", "--data", "data", "--set", $"Web:Endpoint=http://127.0.0.1:{port}", "--set", "Publish:Endpoint=tcp://127.0.0.1:*", "--set", "Ingest:Endpoints:0:Address=tcp://127.0.0.1:*");
+
+        Assert.Equal(2, code);
+        Assert.Contains($"humwatch run: cannot start: http://127.0.0.1:{port} is already in use (Web:Endpoint). Another HumWatch", error, StringComparison.Ordinal);
         AssertNoStackTrace(output, error);
     }
 
@@ -30,7 +56,7 @@ public sealed class ServiceStartTests
         using var work = new TempFolder();
         using var squatter = TakePort(out var port);
 
-        var (code, output, error) = await CliRunner.RunInAsync(work.Path, NoEnvironment, "run", "--data", "data", "--set", "Publish:Endpoint=tcp://127.0.0.1:*", "--set", $"Ingest:Endpoints:0:Address=tcp://127.0.0.1:{port}");
+        var (code, output, error) = await CliRunner.RunInAsync(work.Path, NoEnvironment, "run", "--data", "data", "--set", "Publish:Endpoint=tcp://127.0.0.1:*", "--set", "Web:Endpoint=http://127.0.0.1:0", "--set", $"Ingest:Endpoints:0:Address=tcp://127.0.0.1:{port}");
 
         Assert.Equal(2, code);
         Assert.Contains($"tcp://127.0.0.1:{port} is already in use (Ingest:Endpoints:0:Address)", error, StringComparison.Ordinal);
@@ -44,7 +70,7 @@ public sealed class ServiceStartTests
         using var squatter = TakePort(out var port);
         var scenarios = Path.Combine(AppContext.BaseDirectory, "demo-streams");
 
-        var (code, output, error) = await CliRunner.RunInAsync(work.Path, NoEnvironment, "demo", "--scenarios", scenarios, "--data", "data", "--seconds", "5", "--set", $"Publish:Endpoint=tcp://127.0.0.1:{port}");
+        var (code, output, error) = await CliRunner.RunInAsync(work.Path, NoEnvironment, "demo", "--scenarios", scenarios, "--data", "data", "--seconds", "5", "--set", $"Publish:Endpoint=tcp://127.0.0.1:{port}", "--set", "Web:Endpoint=http://127.0.0.1:0");
 
         Assert.Equal(2, code);
         Assert.Contains($"humwatch demo: cannot start: tcp://127.0.0.1:{port} is already in use (Publish:Endpoint)", error, StringComparison.Ordinal);
@@ -74,7 +100,7 @@ public sealed class ServiceStartTests
         var store = Path.Combine(work.Path, "data", "humwatch.db");
         await File.WriteAllBytesAsync(store, [.. Enumerable.Range(0, 4096).Select(i => (byte)(i * 37))]);
 
-        var (code, output, error) = await CliRunner.RunInAsync(work.Path, NoEnvironment, "run", "--data", "data", "--set", "Publish:Endpoint=tcp://127.0.0.1:*", "--set", "Ingest:Endpoints:0:Address=tcp://127.0.0.1:*");
+        var (code, output, error) = await CliRunner.RunInAsync(work.Path, NoEnvironment, "run", "--data", "data", "--set", "Publish:Endpoint=tcp://127.0.0.1:*", "--set", "Web:Endpoint=http://127.0.0.1:0", "--set", "Ingest:Endpoints:0:Address=tcp://127.0.0.1:*");
 
         Assert.Equal(2, code);
         Assert.Contains($"humwatch run: cannot start: Store {store}: cannot open the database", error, StringComparison.Ordinal);
@@ -89,7 +115,7 @@ public sealed class ServiceStartTests
         using var squatter = TakePort(out var port);
 
         // The start stops at the ingest socket, after every folder is made and the store is opened: what --data moved is on disk.
-        var (code, _, error) = await CliRunner.RunInAsync(work.Path, NoEnvironment, "run", "--data", "lab", "--set", "Inbox:RejectedFolder=elsewhere/refused", "--set", "Publish:Endpoint=tcp://127.0.0.1:*", "--set", $"Ingest:Endpoints:0:Address=tcp://127.0.0.1:{port}");
+        var (code, _, error) = await CliRunner.RunInAsync(work.Path, NoEnvironment, "run", "--data", "lab", "--set", "Inbox:RejectedFolder=elsewhere/refused", "--set", "Publish:Endpoint=tcp://127.0.0.1:*", "--set", "Web:Endpoint=http://127.0.0.1:0", "--set", $"Ingest:Endpoints:0:Address=tcp://127.0.0.1:{port}");
 
         Assert.True(code == 2, error);
         var lab = Path.Combine(work.Path, "lab");

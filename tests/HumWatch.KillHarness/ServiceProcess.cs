@@ -39,6 +39,7 @@ internal sealed partial class ServiceProcess : IDisposable
             "run", "--data", dataFolder,
             "--set", $"Ingest:Endpoints:0:Address=tcp://127.0.0.1:{ingestPort}",
             "--set", $"Publish:Endpoint=tcp://127.0.0.1:{publishPort}",
+            "--set", "Web:Endpoint=http://127.0.0.1:0",
             "--set", "Publish:StatusIntervalSeconds=1",
             "--set", "Inbox:StableSeconds=0.5",
             "--set", "Inbox:RescanSeconds=0.5",

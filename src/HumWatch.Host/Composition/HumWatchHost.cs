@@ -11,6 +11,7 @@ using HumWatch.Host.Notify;
 using HumWatch.Host.Publishing;
 using HumWatch.Host.Store;
 using HumWatch.Host.Summaries;
+using HumWatch.Host.Web;
 using HumWatch.Core.Summaries;
 using Microsoft.Extensions.DependencyInjection;
 using Microsoft.Extensions.DependencyInjection.Extensions;
@@ -47,6 +48,13 @@ public static class HumWatchHost
         var publish = host.Services.GetRequiredService<ZmqPublisher>().Endpoint;
         var ingest = host.Services.GetServices<IHostedService>().OfType<SocketIngestService>().FirstOrDefault()?.Endpoints ?? [];
         return (publish, ingest);
+    }
+
+    /// <summary>The live page's address as served (the port Kestrel picked for port 0); null when Web:Enabled is false. Valid once the host has started.</summary>
+    public static string? WebAddress(IHost host)
+    {
+        ArgumentNullException.ThrowIfNull(host);
+        return host.Services.GetService<WebServer>()?.Address;
     }
 
     /// <summary>Builds the host. Every invalid setting is reported at once.</summary>
@@ -123,6 +131,7 @@ public static class HumWatchHost
         services.AddSingleton<ISpectrumPartSink>(sp => new DeferringSpectrumSink(sp.GetRequiredService<HumWatchStore>().Spectra, sp.GetRequiredService<StoreHealth>()));
         settings.ConfigureServices?.Invoke(services, bound);
         services.AddHumWatchIngest(bound.Ingest);
+        services.AddHumWatchWeb(bound);
         return builder.Build();
     }
 

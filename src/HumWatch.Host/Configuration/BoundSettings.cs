@@ -9,6 +9,7 @@ using HumWatch.Host.Notify;
 using HumWatch.Host.Publishing;
 using HumWatch.Host.Store;
 using HumWatch.Host.Summaries;
+using HumWatch.Host.Web;
 using Microsoft.Extensions.Configuration;
 
 namespace HumWatch.Host.Configuration;
@@ -31,7 +32,8 @@ public sealed class BoundSettings
         LogOptions logs,
         IngestOptions ingest,
         SummaryOutputOptions summaries,
-        NotifyOptions notify)
+        NotifyOptions notify,
+        WebOptions web)
     {
         Analysis = analysis;
         Check = check;
@@ -45,6 +47,7 @@ public sealed class BoundSettings
         Ingest = ingest;
         Summaries = summaries;
         Notify = notify;
+        Web = web;
     }
 
     /// <summary>Section "Analysis".</summary>
@@ -83,6 +86,9 @@ public sealed class BoundSettings
     /// <summary>Section "Notify".</summary>
     public NotifyOptions Notify { get; }
 
+    /// <summary>Section "Web".</summary>
+    public WebOptions Web { get; }
+
     /// <summary>Binds every section strictly (unknown keys are errors) and validates all of them.</summary>
     /// <exception cref="ConfigurationException">Every problem at once, one line each, each naming its key.</exception>
     public static BoundSettings Bind(IConfiguration configuration) => Bind(configuration, sourceOf: null, []);
@@ -114,12 +120,13 @@ public sealed class BoundSettings
         var ingest = Section<IngestOptions>(configuration, nameof(Ingest), schema, errors, o => new IngestOptionsValidator().Validate(null, o).Failures?.ToList() ?? []);
         var summaries = Section<SummaryOutputOptions>(configuration, nameof(Summaries), schema, errors, o => o.Validate());
         var notify = Section<NotifyOptions>(configuration, nameof(Notify), schema, errors, o => o.Validate());
+        var web = Section<WebOptions>(configuration, nameof(Web), schema, errors, o => o.Validate(publish.StatusIntervalSeconds));
         if (errors.Count > 0)
         {
             throw new ConfigurationException(string.Join(Environment.NewLine, errors));
         }
 
-        return new BoundSettings(analysis, check, alerts, monitor, publish, store, inbox, site, logs, ingest, summaries, notify);
+        return new BoundSettings(analysis, check, alerts, monitor, publish, store, inbox, site, logs, ingest, summaries, notify, web);
     }
 
     private static T Section<T>(IConfiguration configuration, string name, SettingsSchema.SchemaCheck schema, List<string> errors, Func<T, IReadOnlyList<string>> validate, Action<IConfigurationSection, T>? prepare = null)

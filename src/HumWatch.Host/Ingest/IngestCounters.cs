@@ -23,9 +23,15 @@ public sealed class IngestCounters
     private readonly Lock _rejectedOnlyLock = new();
     private readonly Dictionary<string, Cell> _rejectedOnly = new(StringComparer.Ordinal);
 
+    // Process-wide totals: per-stream cells are forgotten when a stream goes idle, these never go down (metrics).
+    private readonly long[] _rejectedTotals = new long[ReasonCount];
+    private readonly long[] _droppedTotals = new long[DropReasonCount];
+    private long _acceptedTotal;
+
     /// <summary>Counts an accepted chunk and remembers its end index (one past its last sample).</summary>
     public void RecordAccepted(string streamId, long endSampleIndex)
     {
+        Interlocked.Increment(ref _acceptedTotal);
         var cell = StreamCell(streamId);
         if (cell is null)
         {
@@ -40,6 +46,7 @@ public sealed class IngestCounters
     public void RecordRejected(WireRejectReason reason, string? streamId, string origin)
     {
         ArgumentNullException.ThrowIfNull(origin);
+        Interlocked.Increment(ref _rejectedTotals[(int)reason]);
         if (streamId is null)
         {
             Interlocked.Increment(ref _origins.GetOrAdd(origin, static _ => new Cell()).Rejected[(int)reason]);
@@ -100,6 +107,7 @@ public sealed class IngestCounters
     {
         ArgumentNullException.ThrowIfNull(origin);
         CheckReason(reason);
+        Interlocked.Increment(ref _droppedTotals[(int)reason]);
         Interlocked.Increment(ref _origins.GetOrAdd(origin, static _ => new Cell()).DroppedFor[(int)reason]);
     }
 
@@ -113,11 +121,25 @@ public sealed class IngestCounters
     public void RecordDropped(string streamId, IngestDropReason reason)
     {
         CheckReason(reason);
+        Interlocked.Increment(ref _droppedTotals[(int)reason]);
         var cell = StreamCell(streamId);
         if (cell is not null)
         {
             Interlocked.Increment(ref cell.DroppedFor[(int)reason]);
         }
+    }
+
+    /// <summary>Chunks accepted since start, every stream.</summary>
+    public long AcceptedTotal => Interlocked.Read(ref _acceptedTotal);
+
+    /// <summary>Messages refused since start for <paramref name="reason"/>, every stream and endpoint.</summary>
+    public long RejectedTotal(WireRejectReason reason) => Interlocked.Read(ref _rejectedTotals[(int)reason]);
+
+    /// <summary>Good chunks dropped since start for <paramref name="reason"/>, every stream and endpoint.</summary>
+    public long DroppedTotal(IngestDropReason reason)
+    {
+        CheckReason(reason);
+        return Interlocked.Read(ref _droppedTotals[(int)reason]);
     }
 
     /// <summary>Counts of one stream, or null when it was never seen (or forgotten).</summary>

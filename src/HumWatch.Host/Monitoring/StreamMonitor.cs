@@ -68,6 +68,9 @@ internal sealed class StreamMonitor : IAsyncDisposable
 
     public Core.Tracking.GridOrigin GridFrom => _session?.GridFrom ?? Core.Tracking.GridOrigin.Unknown;
 
+    /// <summary>The grid fundamental the current session measured last, Hz; NaN when none.</summary>
+    public double MainsEstimateHz => _session?.LastMainsEstimateHz ?? double.NaN;
+
     public bool IsOpen => _session is not null;
 
     /// <summary>Seconds since the last chunk was offered.</summary>

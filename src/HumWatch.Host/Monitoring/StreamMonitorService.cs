@@ -26,6 +26,7 @@ internal sealed class StreamMonitorService : BackgroundService
     private readonly ConcurrentDictionary<string, StreamMonitor> _monitors = new(StringComparer.Ordinal);
     private readonly WarningThrottle _tooManyThrottle;
     private readonly ResourceStatus? _resources;
+    private long _retiredFrames;
 
     /// <param name="resources">The store and folder states each status message carries; null leaves them out.</param>
     public StreamMonitorService(
@@ -52,6 +53,21 @@ internal sealed class StreamMonitorService : BackgroundService
 
     /// <summary>Streams currently held.</summary>
     public IReadOnlyCollection<StreamMonitor> Monitors => (IReadOnlyCollection<StreamMonitor>)_monitors.Values;
+
+    /// <summary>Frames analysed since start over every stream, retired ones included (a monotonic count for metrics).</summary>
+    public long FramesAnalysedTotal
+    {
+        get
+        {
+            var total = Interlocked.Read(ref _retiredFrames);
+            foreach (var monitor in _monitors.Values)
+            {
+                total += monitor.FramesAnalysed;
+            }
+
+            return total;
+        }
+    }
 
     protected override Task ExecuteAsync(CancellationToken stoppingToken) =>
         Task.WhenAll(RouteAsync(stoppingToken), HousekeepAsync(stoppingToken));
@@ -150,6 +166,7 @@ internal sealed class StreamMonitorService : BackgroundService
         {
             MainsHz = double.IsFinite(monitor.GridNominalHz) ? monitor.GridNominalHz : null,
             MainsFrom = Checking.RecordingChecker.GridOriginName(monitor.GridFrom),
+            MainsEstimateHz = double.IsFinite(monitor.MainsEstimateHz) ? monitor.MainsEstimateHz : null,
             Store = resources?.Store,
             LogFolder = resources?.LogFolder,
             InboxFolder = resources?.InboxFolder,
@@ -176,6 +193,7 @@ internal sealed class StreamMonitorService : BackgroundService
             }
             else if (_monitors.TryRemove(pair))
             {
+                Interlocked.Add(ref _retiredFrames, monitor.FramesAnalysed);
                 _ = RetireAsync(monitor);
             }
         }

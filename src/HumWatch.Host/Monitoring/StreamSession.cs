@@ -23,6 +23,7 @@ internal sealed class StreamSession : IAnalysisFrameSink
     private readonly IAlertEventSink _alertSink;
     private readonly IMinuteRowSink _rowSink;
     private readonly ISpectrumPartSink? _spectrumSink;
+    private readonly ILiveFrameSink? _liveFrames;
     private readonly Func<DateTimeOffset> _clock;
     private readonly DateTimeOffset? _recordingStartUtc;
     private double _lastEndSeconds;
@@ -52,6 +53,7 @@ internal sealed class StreamSession : IAnalysisFrameSink
 
         _alertSink = alertSink ?? outputs.AlertSink;
         _rowSink = outputs.RowSink;
+        _liveFrames = outputs.LiveFrames;
         _clock = outputs.Time.GetUtcNow;
         _recordingStartUtc = recordingStartUtc;
         _lastEndUtc = recordingStartUtc ?? _clock();
@@ -74,6 +76,9 @@ internal sealed class StreamSession : IAnalysisFrameSink
 
     public GridOrigin GridFrom => _tracker.GridFrom;
 
+    /// <summary>The grid fundamental measured in the latest frame that showed it, Hz; NaN before one did.</summary>
+    public double LastMainsEstimateHz { get; private set; } = double.NaN;
+
     /// <summary>UTC time of the last analysed sample, when the stream supplies times; else null.</summary>
     public DateTimeOffset? LastFrameEndUtcFromStream { get; private set; }
 
@@ -92,6 +97,12 @@ internal sealed class StreamSession : IAnalysisFrameSink
         _alerts.Observe(frame, endUtc, _alertSink);
         _ledger.Observe(frame, endUtc, _rowSink);
         _spectrum?.Observe(frame, endUtc, _spectrumSink!);
+        if (double.IsFinite(frame.EstimatedMainsHz))
+        {
+            LastMainsEstimateHz = frame.EstimatedMainsHz;
+        }
+
+        _liveFrames?.OnFrame(StreamId, frame, endUtc);
     }
 
     /// <summary>Ends the session once: open alerts clear with "stream ended", the open ledger minute and spectrum part are emitted.</summary>

@@ -18,6 +18,7 @@ internal sealed class StreamSessionFactory
 {
     /// <param name="rowSink">Where completed minute rows go; in the service the store's <see cref="Store.LedgerWriter"/>.</param>
     /// <param name="spectrumSink">Where hourly mean spectra go for the daily summary plots; null keeps none.</param>
+    /// <param name="liveFrames">Sees every frame after tracking (the live page's latest spectrum); null for none.</param>
     public StreamSessionFactory(
         AnalysisOptions analysis,
         IOptions<AlertOptions> alerts,
@@ -25,7 +26,8 @@ internal sealed class StreamSessionFactory
         IAlertEventSink alertSink,
         IMinuteRowSink rowSink,
         TimeProvider time,
-        ISpectrumPartSink? spectrumSink = null)
+        ISpectrumPartSink? spectrumSink = null,
+        ILiveFrameSink? liveFrames = null)
     {
         ArgumentNullException.ThrowIfNull(analysis);
         ArgumentNullException.ThrowIfNull(alerts);
@@ -40,6 +42,7 @@ internal sealed class StreamSessionFactory
         RowSink = rowSink;
         Time = time;
         SpectrumSink = spectrumSink;
+        LiveFrames = liveFrames;
     }
 
     /// <summary>How frames are made; whoever reads samples builds its analyser from these.</summary>
@@ -56,6 +59,8 @@ internal sealed class StreamSessionFactory
     internal IMinuteRowSink RowSink { get; }
 
     internal ISpectrumPartSink? SpectrumSink { get; }
+
+    internal ILiveFrameSink? LiveFrames { get; }
 
     /// <summary>
     /// A session of a live stream, id "{stream}@{UTC ticks now}". Frames are placed in time by their chunks' times, or

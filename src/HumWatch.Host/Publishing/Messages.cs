@@ -88,6 +88,9 @@ internal sealed record StatusMessage(
     /// <summary>"configured", "measured" or "unknown".</summary>
     public string? MainsFrom { get; init; }
 
+    /// <summary>The grid fundamental measured in the latest frame that showed it, Hz; null before one did.</summary>
+    public double? MainsEstimateHz { get; init; }
+
     /// <summary>Whether the store takes writes, and what waits for it; the same for every stream of the process.</summary>
     public Store.StoreStatus? Store { get; init; }
 
@@ -176,6 +179,7 @@ internal static class Messages
         {
             LagSeconds = status.LagSeconds is { } lag ? Finite(Reported.Seconds(lag)) : null,
             MainsHz = status.MainsHz is { } mains ? Finite(Reported.Hz(mains)) : null,
+            MainsEstimateHz = status.MainsEstimateHz is { } estimate ? Finite(Reported.Hz(estimate)) : null,
         };
         return JsonSerializer.SerializeToUtf8Bytes(safe, MessageJsonContext.Output.StatusMessage);
     }

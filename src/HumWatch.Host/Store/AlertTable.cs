@@ -70,6 +70,27 @@ internal sealed class AlertTable(StoreConnection connection) : IAlertEventStore
     });
 
     /// <summary>
+    /// The newest alert events with UTC time in [fromUtc, toUtc), newest first, at most <paramref name="limit"/>; null
+    /// filters match everything. <paramref name="kind"/> is the kind column's text (mains, display, site-tone, unidentified, fault).
+    /// </summary>
+    public IReadOnlyList<StoredAlert> Newest(DateTimeOffset fromUtc, DateTimeOffset toUtc, string? stream, string? kind, int limit) => connection.Run(c =>
+    {
+        using var command = Sql.Command(c, $"""
+            SELECT id, {Columns}
+            FROM alerts
+            WHERE utc_ms >= $from AND utc_ms < $to AND ($stream IS NULL OR stream = $stream) AND ($kind IS NULL OR kind = $kind OR ($kind = 'site-tone' AND kind = 'site'))
+            ORDER BY utc_ms DESC, id DESC
+            LIMIT $limit
+            """);
+        Sql.Add(command, "$from", fromUtc.ToUnixTimeMilliseconds());
+        Sql.Add(command, "$to", toUtc.ToUnixTimeMilliseconds());
+        Sql.Add(command, "$stream", stream);
+        Sql.Add(command, "$kind", kind);
+        Sql.Add(command, "$limit", limit);
+        return Sql.ReadAll(command, Read);
+    });
+
+    /// <summary>
     /// Alerts whose last stored event is not a clear: after an unclean stop, the alerts that stop left open. Each comes
     /// with its events from the raise on, oldest first.
     /// </summary>

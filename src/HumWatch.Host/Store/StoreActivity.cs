@@ -5,6 +5,17 @@ namespace HumWatch.Host.Store;
 /// <summary>Which streams and local days have data: queries over the ledger and the alerts together.</summary>
 internal sealed class StoreActivity(StoreConnection connection)
 {
+    /// <summary>
+    /// Takes the database's write lock and lets it go again (BEGIN IMMEDIATE; ROLLBACK): throws when the file cannot be
+    /// written to now (read-only, locked by another process past the busy timeout, gone). Writes nothing.
+    /// </summary>
+    public void CheckWritable() => connection.Run(c =>
+    {
+        Sql.Execute(c, "BEGIN IMMEDIATE");
+        Sql.Execute(c, "ROLLBACK");
+        return true;
+    });
+
     /// <summary>Streams that have ledger rows or alerts, ordinal order.</summary>
     public IReadOnlyList<string> Streams() => connection.Run(c =>
     {

@@ -62,6 +62,7 @@ internal sealed class StoreHealth : IHostedService, IDisposable
     private DateTimeOffset _nextRetry;
     private DateTimeOffset _lastReminder;
     private long _dropped;
+    private long _failures;
     private long _droppedAtFaultStart;
     private long _dropsNotReported;
     private DateTimeOffset? _lastDropReport;
@@ -128,6 +129,9 @@ internal sealed class StoreHealth : IHostedService, IDisposable
             }
         }
     }
+
+    /// <summary>Store writes refused since the start, first attempts and retries alike (the metrics' count).</summary>
+    public long Failures => Interlocked.Read(ref _failures);
 
     /// <summary>Adds a backlog to the retries.</summary>
     public void Register(IStoreBacklog backlog)
@@ -288,6 +292,7 @@ internal sealed class StoreHealth : IHostedService, IDisposable
     {
         ArgumentNullException.ThrowIfNull(failure);
         var kind = StoreFaults.Classify(failure);
+        Interlocked.Increment(ref _failures);
         var now = _time.GetUtcNow();
         var error = $"{StorePath}: {failure.Message}";
         bool started;

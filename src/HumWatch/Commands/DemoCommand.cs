@@ -112,6 +112,11 @@ internal static class DemoCommand
             var names = string.Join(", ", rooms.Select(r => r.StreamId));
             Console.Out.WriteLine($"HumWatch demo: {rooms.Count} simulated rooms ({names}) streaming to {ingestEndpoint} at {speed:0.##}× real time.");
             Console.Out.WriteLine($"Alerts are published on {publishEndpoint} (try 'humwatch listen' in another terminal); store, logs and inbox in {Path.GetFullPath(dataFolder)}.");
+            if (HumWatchHost.WebAddress(host) is { } page)
+            {
+                Console.Out.WriteLine($"Live page: {page} (open it in a browser; every room at a glance, click a room for its spectrum).");
+            }
+
             Console.Out.WriteLine("Each room needs one analysis span (8 s) before its first frame; alerts follow a few frames after a source switches on. Ctrl-C stops.");
             Console.Out.WriteLine();
             printer = new Thread(() => PrintAlerts(ConnectAddress(publishEndpoint), stopPrinting.Token)) { IsBackground = true, Name = "humwatch-demo-printer" };

@@ -21,6 +21,7 @@ public sealed class HumWatchHostTests
     {
         ["Ingest:Endpoints:0:Address"] = "tcp://127.0.0.1:*",
         ["Publish:Endpoint"] = "tcp://127.0.0.1:*",
+        ["Web:Endpoint"] = "http://127.0.0.1:0",
         ["Store:Path"] = Path.Combine(folder, "humwatch.db"),
         ["Logs:Folder"] = Path.Combine(folder, "logs"),
         ["Inbox:Folder"] = Path.Combine(folder, "inbox"),
@@ -37,12 +38,13 @@ public sealed class HumWatchHostTests
 
         var hosted = host.Services.GetServices<IHostedService>().Select(s => s.GetType()).ToList();
 
-        // HumWatchHost's registration order is the reverse of the stop order it documents: ingest stops taking input
-        // first, then the inbox, then the stream monitors drain, then the ledger writer writes the last rows, and last
-        // the store health retries what still waits. At start the closer of alerts an unclean stop left open runs after
+        // HumWatchHost's registration order is the reverse of the stop order it documents: the live page stops first (it
+        // starts last, once the sockets it reports on are bound), then ingest stops taking input, then the inbox, then
+        // the stream monitors drain, then the ledger writer writes the last rows, and last the store health retries
+        // what still waits. At start the closer of alerts an unclean stop left open runs after
         // the ledger writer and before any monitor raises a new one.
         Assert.Equal(
-            [typeof(StoreHealth), typeof(LogFolderGuard), typeof(LedgerWriter), typeof(UnclosedAlertCloser), typeof(StreamMonitorService), typeof(InboxService), typeof(DailySummaryService), typeof(SocketIngestService)],
+            [typeof(StoreHealth), typeof(LogFolderGuard), typeof(LedgerWriter), typeof(UnclosedAlertCloser), typeof(StreamMonitorService), typeof(InboxService), typeof(DailySummaryService), typeof(SocketIngestService), typeof(HumWatch.Host.Web.WebServer)],
             hosted);
 
         // docs/messages.md: status every Publish:StatusIntervalSeconds, default 10 s; severity minor ≥ 1 µV, marked ≥ 5 µV, severe ≥ 20 µV.

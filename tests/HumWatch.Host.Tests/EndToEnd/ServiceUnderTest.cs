@@ -64,6 +64,9 @@ internal sealed class ServiceUnderTest : IAsyncDisposable
         ["Ingest:Endpoints:0:Address"] = "tcp://127.0.0.1:*",
         ["Publish:Endpoint"] = "tcp://127.0.0.1:*",
         ["Publish:StatusIntervalSeconds"] = "1",
+        // The live page's tests turn it on; elsewhere it would only add a server (and a meter) per host.
+        ["Web:Enabled"] = "false",
+        ["Web:Endpoint"] = "http://127.0.0.1:0",
         ["Store:Path"] = Path.Combine(folder, "humwatch.db"),
         ["Logs:Folder"] = Path.Combine(folder, "logs"),
         ["Logs:ConsoleLevel"] = "Fatal",

@@ -143,9 +143,8 @@ public sealed class NotifySettingsTests
 
         var hosted = host.Services.GetServices<IHostedService>().Select(s => s.GetType()).ToList();
 
-        // Right after the ledger writer (itself after the store health and the log folder guard, which stop last).
-        var ledger = hosted.IndexOf(typeof(LedgerWriter));
-        Assert.Equal([typeof(LedgerWriter), typeof(NotificationService), typeof(UnclosedAlertCloser), typeof(StreamMonitorService)], hosted.Skip(ledger).Take(4));
+        // The store's health and the log folder's guard start before everything else (HumWatchHostTests has the whole order).
+        Assert.Equal([typeof(StoreHealth), typeof(LogFolderGuard), typeof(LedgerWriter), typeof(NotificationService), typeof(UnclosedAlertCloser), typeof(StreamMonitorService)], hosted.Take(6));
         Assert.Same(host.Services.GetRequiredService<NotificationService>(), Assert.Single(host.Services.GetServices<IDispatchSink>()));
         Assert.NotNull(host.Services.GetRequiredService<AlertDispatcher>());
     }
