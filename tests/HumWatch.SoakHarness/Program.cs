@@ -19,7 +19,7 @@ internal static class Program
         catch (Exception ex) when (ex is FormatException or ArgumentException or OverflowException)
         {
             await Console.Error.WriteLineAsync($"soak harness: {ex.Message}");
-            await Console.Error.WriteLineAsync("usage: --minutes M (120) --rooms R (50) --channels C (32) --rate HZ (500) --speed X (1) --sample-seconds S (30) --warm-up-minutes W (10) --seed N (17) --work DIR (a new temp folder)");
+            await Console.Error.WriteLineAsync("usage: --minutes M (120) --rooms R (50) --channels C (32) --rate HZ (500) --speed X (1) --sample-seconds S (30) --warm-up-minutes W (20) --seed N (17) --work DIR (a new temp folder)");
             return 2;
         }
 
