@@ -74,18 +74,7 @@ internal sealed class IngestLoad(int channels, int sampleRateHz, double chunkSec
         {
             using var host = HumWatchHost.Build(new HumWatchHostSettings
             {
-                Sources = SettingsSources.Isolated(new Dictionary<string, string?>
-                {
-                    ["Ingest:Endpoints:0:Address"] = "tcp://127.0.0.1:*",
-                    ["Publish:Endpoint"] = "tcp://127.0.0.1:*",
-                    ["Web:Endpoint"] = "http://127.0.0.1:0",
-                    ["Store:Path"] = Path.Combine(folder.FullName, "humwatch.db"),
-                    ["Logs:Folder"] = Path.Combine(folder.FullName, "logs"),
-                    ["Logs:ConsoleLevel"] = "Fatal",
-                    ["Inbox:Folder"] = Path.Combine(folder.FullName, "inbox"),
-                    ["Inbox:ArchiveFolder"] = Path.Combine(folder.FullName, "archive"),
-                    ["Inbox:RejectedFolder"] = Path.Combine(folder.FullName, "rejected"),
-                }),
+                Sources = SettingsSources.Isolated(BenchHost.Settings(folder.FullName)),
             });
             host.StartAsync().GetAwaiter().GetResult();
             try

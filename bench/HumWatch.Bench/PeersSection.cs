@@ -58,18 +58,7 @@ internal sealed class PeersSection : IBenchmarkSection
         var logs = Path.Combine(folder, "logs");
         using var host = HumWatchHost.Build(new HumWatchHostSettings
         {
-            Sources = SettingsSources.Isolated(new Dictionary<string, string?>
-            {
-                ["Ingest:Endpoints:0:Address"] = "tcp://127.0.0.1:*",
-                ["Publish:Endpoint"] = "tcp://127.0.0.1:*",
-                    ["Web:Endpoint"] = "http://127.0.0.1:0",
-                ["Store:Path"] = Path.Combine(folder, "humwatch.db"),
-                ["Logs:Folder"] = logs,
-                ["Logs:ConsoleLevel"] = "Fatal",
-                ["Inbox:Folder"] = Path.Combine(folder, "inbox"),
-                ["Inbox:ArchiveFolder"] = Path.Combine(folder, "archive"),
-                ["Inbox:RejectedFolder"] = Path.Combine(folder, "rejected"),
-            }),
+            Sources = SettingsSources.Isolated(BenchHost.Settings(folder)),
         });
         host.StartAsync().GetAwaiter().GetResult();
         var ingest = host.Services.GetServices<IHostedService>().OfType<SocketIngestService>().Single();

@@ -62,19 +62,7 @@ internal sealed class WebSection : IBenchmarkSection
 
     private static int Measure(string folder, int streams, int seconds)
     {
-        var settings = new Dictionary<string, string?>
-        {
-            ["Ingest:Endpoints:0:Address"] = "tcp://127.0.0.1:*",
-            ["Publish:Endpoint"] = "tcp://127.0.0.1:*",
-            ["Web:Endpoint"] = "http://127.0.0.1:0",
-            ["Store:Path"] = Path.Combine(folder, "humwatch.db"),
-            ["Logs:Folder"] = Path.Combine(folder, "logs"),
-            ["Logs:ConsoleLevel"] = "Fatal",
-            ["Inbox:Folder"] = Path.Combine(folder, "inbox"),
-            ["Inbox:ArchiveFolder"] = Path.Combine(folder, "archive"),
-            ["Inbox:RejectedFolder"] = Path.Combine(folder, "rejected"),
-            ["Summaries:Folder"] = Path.Combine(folder, "summaries"),
-        };
+        var settings = BenchHost.Settings(folder);
         using var host = HumWatchHost.Build(new HumWatchHostSettings { Sources = SettingsSources.Isolated(settings) });
         host.Start();
         var address = HumWatchHost.WebAddress(host)!;
