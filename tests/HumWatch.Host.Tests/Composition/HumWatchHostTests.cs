@@ -44,7 +44,7 @@ public sealed class HumWatchHostTests
         // what still waits. At start the closer of alerts an unclean stop left open runs after
         // the ledger writer and before any monitor raises a new one.
         Assert.Equal(
-            [typeof(StoreHealth), typeof(LogFolderGuard), typeof(LedgerWriter), typeof(UnclosedAlertCloser), typeof(StreamMonitorService), typeof(InboxService), typeof(DailySummaryService), typeof(SocketIngestService), typeof(HumWatch.Host.Web.WebServer)],
+            [typeof(StoreHealth), typeof(LogFolderGuard), typeof(LedgerWriter), typeof(HumWatch.Host.Fleet.InstanceHeartbeat), typeof(StreamMonitorService), typeof(InboxService), typeof(DailySummaryService), typeof(SocketIngestService), typeof(HumWatch.Host.Web.WebServer)],
             hosted);
 
         // docs/messages.md: status every Publish:StatusIntervalSeconds, default 10 s; severity minor ≥ 1 µV, marked ≥ 5 µV, severe ≥ 20 µV.
