@@ -29,19 +29,26 @@ public enum AlertClearReason
     /// last moment the stream is known to have been watched.
     /// </summary>
     ServiceRestarted,
+
+    /// <summary>
+    /// The instance that held the alert stopped without closing it and a peer sharing the store found its heartbeat
+    /// stale and closed it, at the last moment the stream is known to have been watched.
+    /// </summary>
+    InstanceStopped,
 }
 
 /// <summary>Text forms of <see cref="AlertClearReason"/>.</summary>
 public static class AlertClearReasonText
 {
-    /// <summary>The table: "subsided", "stream ended", "service restarted" (an undefined value is written "subsided").</summary>
+    /// <summary>The table: "subsided", "stream ended", "service restarted", "instance stopped" (an undefined value is written "subsided").</summary>
     public static TextForms<AlertClearReason> Forms { get; } = new(
         AlertClearReason.Subsided,
         (AlertClearReason.Subsided, "subsided"),
         (AlertClearReason.StreamEnded, "stream ended"),
-        (AlertClearReason.ServiceRestarted, "service restarted"));
+        (AlertClearReason.ServiceRestarted, "service restarted"),
+        (AlertClearReason.InstanceStopped, "instance stopped"));
 
-    /// <summary>"subsided", "stream ended" or "service restarted".</summary>
+    /// <summary>"subsided", "stream ended", "service restarted" or "instance stopped".</summary>
     public static string ToText(this AlertClearReason reason) => Forms.ToText(reason);
 
     /// <summary>Parses the text form; unknown text gives false.</summary>

@@ -44,7 +44,14 @@ public sealed record DaySummary(
     IReadOnlyList<SourceSummary> Sources,
     AlertTally Alerts,
     MainsTrack Mains,
-    HourTimeline Timeline);
+    HourTimeline Timeline)
+{
+    /// <summary>
+    /// The HumWatch instances that watched the stream's data of this day, in ordinal order, as the store records them;
+    /// empty when none is recorded (data of builds before instance names). Set by the host, which holds that record.
+    /// </summary>
+    public IReadOnlyList<string> Instances { get; init; } = [];
+}
 
 /// <summary>A run of affected minutes.</summary>
 /// <param name="Source">Source key (<see cref="FindingKey.All"/>, text "*", for any line).</param>

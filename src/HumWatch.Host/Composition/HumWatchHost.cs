@@ -3,6 +3,7 @@ using HumWatch.Core.Analysis;
 using HumWatch.Core.Ledger;
 using HumWatch.Core.Reporting;
 using HumWatch.Host.Configuration;
+using HumWatch.Host.Fleet;
 using HumWatch.Host.Health;
 using HumWatch.Host.Inbox;
 using HumWatch.Host.Ingest;
@@ -97,7 +98,9 @@ public static class HumWatchHost
         services.AddSingleton(Options.Create(bound.Store));
         services.AddSingleton(Options.Create(bound.Inbox));
         services.AddSingleton(Options.Create(bound.Site));
-        services.AddSingleton(sp => OpenStore(bound.Store, sp.GetRequiredService<TimeProvider>()));
+        services.AddSingleton(Options.Create(bound.Instance));
+        services.AddSingleton(sp => OpenStore(bound.Store, bound.Instance.Name, sp.GetRequiredService<TimeProvider>()));
+        services.AddSingleton(sp => new StreamSightings(sp.GetRequiredService<TimeProvider>()));
         services.AddSingleton<IAlertEventStore>(sp => sp.GetRequiredService<HumWatchStore>().Alerts);
         services.AddSingleton(sp => new StoreHealth(sp.GetRequiredService<HumWatchStore>().FullPath, sp.GetRequiredService<TimeProvider>(), sp.GetRequiredService<ILogger<StoreHealth>>()));
         services.AddSingleton<ResourceStatus>();
@@ -121,8 +124,10 @@ public static class HumWatchHost
         // Started before and stopped after everything that raises or clears alerts, so no notification is missed.
         services.AddHumWatchNotify(bound.Notify, bound.Site, settings.Sources.Environment);
 
-        // Before anything is analysed: the alerts an unclean stop left open are closed first.
-        services.AddHostedService<UnclosedAlertCloser>();
+        // Before anything is analysed: the instance registers and closes the alerts its unclean stop left open. Stopped
+        // after the stream monitors, so the clean-stop mark follows their last clears.
+        services.AddSingleton<UnclosedAlertCloser>();
+        services.AddHostedService<InstanceHeartbeat>();
         services.AddSingleton<StreamMonitorService>();
         services.AddHostedService(sp => sp.GetRequiredService<StreamMonitorService>());
         services.AddSingleton<InboxService>();
@@ -147,11 +152,11 @@ public static class HumWatchHost
 
     private static Exception Unwrap(Exception ex) => ex is AggregateException { InnerExceptions.Count: 1 } aggregate ? Unwrap(aggregate.InnerExceptions[0]) : ex;
 
-    private static HumWatchStore OpenStore(StoreOptions options, TimeProvider time)
+    private static HumWatchStore OpenStore(StoreOptions options, string instance, TimeProvider time)
     {
         try
         {
-            return new HumWatchStore(options, time);
+            return new HumWatchStore(options, time, instance);
         }
         catch (Exception ex) when (ex is InvalidOperationException or IOException or UnauthorizedAccessException)
         {

@@ -33,7 +33,8 @@ public sealed class BoundSettings
         IngestOptions ingest,
         SummaryOutputOptions summaries,
         NotifyOptions notify,
-        WebOptions web)
+        WebOptions web,
+        InstanceOptions instance)
     {
         Analysis = analysis;
         Check = check;
@@ -48,6 +49,7 @@ public sealed class BoundSettings
         Summaries = summaries;
         Notify = notify;
         Web = web;
+        Instance = instance;
     }
 
     /// <summary>Section "Analysis".</summary>
@@ -89,6 +91,9 @@ public sealed class BoundSettings
     /// <summary>Section "Web".</summary>
     public WebOptions Web { get; }
 
+    /// <summary>Section "Instance".</summary>
+    public InstanceOptions Instance { get; }
+
     /// <summary>Binds every section strictly (unknown keys are errors) and validates all of them.</summary>
     /// <exception cref="ConfigurationException">Every problem at once, one line each, each naming its key.</exception>
     public static BoundSettings Bind(IConfiguration configuration) => Bind(configuration, sourceOf: null, []);
@@ -121,12 +126,13 @@ public sealed class BoundSettings
         var summaries = Section<SummaryOutputOptions>(configuration, nameof(Summaries), schema, errors, o => o.Validate());
         var notify = Section<NotifyOptions>(configuration, nameof(Notify), schema, errors, o => o.Validate());
         var web = Section<WebOptions>(configuration, nameof(Web), schema, errors, o => o.Validate(publish.StatusIntervalSeconds));
+        var instance = Section<InstanceOptions>(configuration, nameof(Instance), schema, errors, o => o.Validate());
         if (errors.Count > 0)
         {
             throw new ConfigurationException(string.Join(Environment.NewLine, errors));
         }
 
-        return new BoundSettings(analysis, check, alerts, monitor, publish, store, inbox, site, logs, ingest, summaries, notify, web);
+        return new BoundSettings(analysis, check, alerts, monitor, publish, store, inbox, site, logs, ingest, summaries, notify, web, instance);
     }
 
     private static T Section<T>(IConfiguration configuration, string name, SettingsSchema.SchemaCheck schema, List<string> errors, Func<T, IReadOnlyList<string>> validate, Action<IConfigurationSection, T>? prepare = null)

@@ -24,6 +24,7 @@ internal sealed class StreamSession : IAnalysisFrameSink
     private readonly IMinuteRowSink _rowSink;
     private readonly ISpectrumPartSink? _spectrumSink;
     private readonly ILiveFrameSink? _liveFrames;
+    private readonly Fleet.StreamSightings? _sightings;
     private readonly Func<DateTimeOffset> _clock;
     private readonly DateTimeOffset? _recordingStartUtc;
     private double _lastEndSeconds;
@@ -54,6 +55,7 @@ internal sealed class StreamSession : IAnalysisFrameSink
         _alertSink = alertSink ?? outputs.AlertSink;
         _rowSink = outputs.RowSink;
         _liveFrames = outputs.LiveFrames;
+        _sightings = outputs.Sightings;
         _clock = outputs.Time.GetUtcNow;
         _recordingStartUtc = recordingStartUtc;
         _lastEndUtc = recordingStartUtc ?? _clock();
@@ -103,6 +105,7 @@ internal sealed class StreamSession : IAnalysisFrameSink
         }
 
         _liveFrames?.OnFrame(StreamId, frame, endUtc);
+        _sightings?.Seen(StreamId, endUtc);
     }
 
     /// <summary>Ends the session once: open alerts clear with "stream ended", the open ledger minute and spectrum part are emitted.</summary>

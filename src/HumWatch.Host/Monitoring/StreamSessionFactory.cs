@@ -19,6 +19,7 @@ internal sealed class StreamSessionFactory
     /// <param name="rowSink">Where completed minute rows go; in the service the store's <see cref="Store.LedgerWriter"/>.</param>
     /// <param name="spectrumSink">Where hourly mean spectra go for the daily summary plots; null keeps none.</param>
     /// <param name="liveFrames">Sees every frame after tracking (the live page's latest spectrum); null for none.</param>
+    /// <param name="sightings">Notes which streams this instance watched, for the store's stream owners; null keeps none.</param>
     public StreamSessionFactory(
         AnalysisOptions analysis,
         IOptions<AlertOptions> alerts,
@@ -27,7 +28,8 @@ internal sealed class StreamSessionFactory
         IMinuteRowSink rowSink,
         TimeProvider time,
         ISpectrumPartSink? spectrumSink = null,
-        ILiveFrameSink? liveFrames = null)
+        ILiveFrameSink? liveFrames = null,
+        Fleet.StreamSightings? sightings = null)
     {
         ArgumentNullException.ThrowIfNull(analysis);
         ArgumentNullException.ThrowIfNull(alerts);
@@ -43,6 +45,7 @@ internal sealed class StreamSessionFactory
         Time = time;
         SpectrumSink = spectrumSink;
         LiveFrames = liveFrames;
+        Sightings = sightings;
     }
 
     /// <summary>How frames are made; whoever reads samples builds its analyser from these.</summary>
@@ -61,6 +64,8 @@ internal sealed class StreamSessionFactory
     internal ISpectrumPartSink? SpectrumSink { get; }
 
     internal ILiveFrameSink? LiveFrames { get; }
+
+    internal Fleet.StreamSightings? Sightings { get; }
 
     /// <summary>
     /// A session of a live stream, id "{stream}@{UTC ticks now}". Frames are placed in time by their chunks' times, or

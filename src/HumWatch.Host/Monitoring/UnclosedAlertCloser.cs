@@ -2,35 +2,34 @@ using HumWatch.Core.Alerts;
 using HumWatch.Core.Attribution;
 using HumWatch.Core.Findings;
 using HumWatch.Host.Store;
-using Microsoft.Extensions.Hosting;
 using Microsoft.Extensions.Logging;
 
 namespace HumWatch.Host.Monitoring;
 
 /// <summary>
-/// At start, before any stream or file is analysed, closes the alerts an unclean stop (kill, crash, power loss) left
-/// open in the store, with reason "service restarted". The clear is placed at the last moment the stream is known to
-/// have been watched — its newest ledger minute's monitored end, or the alert's last event when later — never at the
-/// restart itself, which would count the time the service was away as affected. Each clear goes through the alert sink
-/// (store, log, subscribers) like any other.
+/// Closes the alerts a stop without closing them (kill, crash, power loss) left open in the store: at start, before
+/// any stream or file is analysed, this instance's own with reason "service restarted" (the instance heartbeat calls
+/// it, Fleet/InstanceHeartbeat.cs); and a stale peer's with reason "instance stopped" once the heartbeat won the claim
+/// on it. The clear is placed at the last moment the stream is known to have been watched — its newest ledger minute's
+/// monitored end, or the alert's last event when later — never at the restart itself, which would count the time the
+/// service was away as affected. Each clear goes through the alert sink (store, log, subscribers) like any other.
 /// </summary>
-internal sealed class UnclosedAlertCloser(HumWatchStore store, IAlertEventSink sink, TimeProvider time, ILogger<UnclosedAlertCloser> logger) : IHostedService
+internal sealed class UnclosedAlertCloser(HumWatchStore store, IAlertEventSink sink, TimeProvider time, ILogger<UnclosedAlertCloser> logger)
 {
-    public Task StartAsync(CancellationToken cancellationToken)
-    {
-        CloseAll();
-        return Task.CompletedTask;
-    }
+    /// <summary>Closes every unclosed alert, whoever stored it, with "service restarted"; returns how many. A store that cannot be read leaves them open (logged).</summary>
+    internal int CloseAll() => Close(storedBy: null, AlertClearReason.ServiceRestarted, time.GetUtcNow());
 
-    public Task StopAsync(CancellationToken cancellationToken) => Task.CompletedTask;
-
-    /// <summary>Closes every unclosed alert; returns how many. A store that cannot be read leaves them open (logged).</summary>
-    internal int CloseAll()
+    /// <summary>
+    /// Closes the unclosed alerts whose newest event <paramref name="storedBy"/> accepts (given the instance that stored
+    /// it; null for all); returns how many. No clear is placed after <paramref name="notAfterUtc"/> unless the alert's own
+    /// last event is later. A store that cannot be read leaves them open (logged).
+    /// </summary>
+    internal int Close(Func<string?, bool>? storedBy, AlertClearReason reason, DateTimeOffset notAfterUtc)
     {
         IReadOnlyList<IReadOnlyList<StoredAlert>> unclosed;
         try
         {
-            unclosed = store.Alerts.Unclosed();
+            unclosed = store.Alerts.Unclosed(storedBy: storedBy);
         }
         catch (Exception ex) when (ex is Microsoft.Data.Sqlite.SqliteException or InvalidOperationException or IOException)
         {
@@ -38,7 +37,6 @@ internal sealed class UnclosedAlertCloser(HumWatchStore store, IAlertEventSink s
             return 0;
         }
 
-        var now = time.GetUtcNow();
         var lastSeen = new Dictionary<string, DateTimeOffset?>(StringComparer.Ordinal);
         foreach (var events in unclosed)
         {
@@ -49,10 +47,10 @@ internal sealed class UnclosedAlertCloser(HumWatchStore store, IAlertEventSink s
                 lastSeen[stream] = monitoredUntil;
             }
 
-            sink.OnAlertEvent(ClearOf(events, monitoredUntil, now));
+            sink.OnAlertEvent(ClearOf(events, monitoredUntil, notAfterUtc, reason));
         }
 
-        if (unclosed.Count > 0)
+        if (unclosed.Count > 0 && reason == AlertClearReason.ServiceRestarted)
         {
             logger.UnclosedAlertsClosed(unclosed.Count);
         }
@@ -61,7 +59,7 @@ internal sealed class UnclosedAlertCloser(HumWatchStore store, IAlertEventSink s
     }
 
     /// <summary>The clear of one unclosed alert from its stored events (the raise first when it was stored); never before its last event.</summary>
-    internal static AlertCleared ClearOf(IReadOnlyList<StoredAlert> events, DateTimeOffset? monitoredUntil, DateTimeOffset now)
+    internal static AlertCleared ClearOf(IReadOnlyList<StoredAlert> events, DateTimeOffset? monitoredUntil, DateTimeOffset now, AlertClearReason reason = AlertClearReason.ServiceRestarted)
     {
         var last = events[^1];
         var raised = events.FirstOrDefault(e => e.Event == AlertEventKind.Raised) ?? events[0];
@@ -84,7 +82,7 @@ internal sealed class UnclosedAlertCloser(HumWatchStore store, IAlertEventSink s
             last.StreamSeconds + (end - last.Utc).TotalSeconds,
             end,
             last.FrequencyHz ?? double.NaN,
-            AlertClearReason.ServiceRestarted,
+            reason,
             Math.Max(0, (end - onset).TotalSeconds),
             amplitudes.Count > 0 ? amplitudes.Max() : double.NaN,
             events.Max(e => e.Severity),

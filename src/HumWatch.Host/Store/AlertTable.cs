@@ -6,12 +6,14 @@ using Microsoft.Data.Sqlite;
 namespace HumWatch.Host.Store;
 
 /// <summary>The <c>alerts</c> table: one row per alert event, text columns in the spellings docs/store.md lists.</summary>
-internal sealed class AlertTable(StoreConnection connection) : IAlertEventStore
+/// <param name="connection">The store's connection.</param>
+/// <param name="instance">Written into each stored event's instance column: the instance that stored it; null (tools, older tests) writes NULL.</param>
+internal sealed class AlertTable(StoreConnection connection, string? instance = null) : IAlertEventStore
 {
     private const string Columns = """
         stream, key, kind, event, severity, source_name, harmonic, aliased, frequency_hz,
         amplitude_uv_rms, channel_share, worst_channels, suggestion, stream_seconds, utc_ms, onset_utc_ms,
-        duration_s, peak_uv_rms, peak_severity, reason, evidence
+        duration_s, peak_uv_rms, peak_severity, reason, evidence, instance
         """;
 
     /// <summary>Stores one alert event; returns its row id.</summary>
@@ -25,7 +27,7 @@ internal sealed class AlertTable(StoreConnection connection) : IAlertEventStore
                 INSERT INTO alerts ({Columns})
                 VALUES ($stream, $key, $kind, $event, $severity, $sourceName, $harmonic, $aliased, $frequency,
                     $amplitude, $share, $worst, $suggestion, $streamSeconds, $utc, $onset,
-                    $duration, $peak, $peakSeverity, $reason, $evidence);
+                    $duration, $peak, $peakSeverity, $reason, $evidence, $instance);
                 SELECT last_insert_rowid();
                 """);
             var identified = alertEvent.Source.IsIdentified;
@@ -50,6 +52,7 @@ internal sealed class AlertTable(StoreConnection connection) : IAlertEventStore
             Sql.Add(command, "$peakSeverity", row.PeakSeverity);
             Sql.Add(command, "$reason", row.Reason);
             Sql.Add(command, "$evidence", row.Evidence);
+            Sql.Add(command, "$instance", instance);
             return (long)command.ExecuteScalar()!;
         });
     }
@@ -94,19 +97,27 @@ internal sealed class AlertTable(StoreConnection connection) : IAlertEventStore
     /// Alerts whose last stored event is not a clear: after an unclean stop, the alerts that stop left open. Each comes
     /// with its events from the raise on, oldest first.
     /// </summary>
-    public IReadOnlyList<IReadOnlyList<StoredAlert>> Unclosed() => connection.Run(c =>
+    /// <param name="stream">Only this stream's; null for every stream.</param>
+    /// <param name="storedBy">Only alerts whose newest event this says yes to, given that event's instance (null in rows of older builds); null for all.</param>
+    public IReadOnlyList<IReadOnlyList<StoredAlert>> Unclosed(string? stream = null, Func<string?, bool>? storedBy = null) => connection.Run(c =>
     {
         using var last = Sql.Command(c, """
-            SELECT a.stream, a.key, a.id
+            SELECT a.stream, a.key, a.id, a.instance
             FROM alerts a
-            JOIN (SELECT stream, key, max(id) AS id FROM alerts GROUP BY stream, key) newest ON newest.id = a.id
+            JOIN (SELECT stream, key, max(id) AS id FROM alerts WHERE $stream IS NULL OR stream = $stream GROUP BY stream, key) newest ON newest.id = a.id
             WHERE a.event <> 'cleared'
             ORDER BY a.id
             """);
-        var open = Sql.ReadAll(last, static reader => (Stream: reader.GetString(0), Key: reader.GetString(1), LastId: reader.GetInt64(2)));
+        Sql.Add(last, "$stream", stream);
+        var open = Sql.ReadAll(last, static reader => (Stream: reader.GetString(0), Key: reader.GetString(1), LastId: reader.GetInt64(2), Instance: Sql.NullableString(reader, 3)));
         var result = new List<IReadOnlyList<StoredAlert>>(open.Count);
-        foreach (var (stream, key, lastId) in open)
+        foreach (var (openStream, key, lastId, storer) in open)
         {
+            if (storedBy is not null && !storedBy(storer))
+            {
+                continue;
+            }
+
             using var events = Sql.Command(c, $"""
                 SELECT id, {Columns}
                 FROM alerts
@@ -114,7 +125,7 @@ internal sealed class AlertTable(StoreConnection connection) : IAlertEventStore
                   AND id >= coalesce((SELECT max(id) FROM alerts WHERE stream = $stream AND key = $key AND id <= $last AND event = 'raised'), 0)
                 ORDER BY id
                 """);
-            Sql.Add(events, "$stream", stream);
+            Sql.Add(events, "$stream", openStream);
             Sql.Add(events, "$key", key);
             Sql.Add(events, "$last", lastId);
             result.Add(Sql.ReadAll(events, Read));
@@ -140,16 +151,20 @@ internal sealed class AlertTable(StoreConnection connection) : IAlertEventStore
         });
     }
 
-    /// <summary>True when the newest stored event of the stream's alert <paramref name="key"/> is a "service restarted" clear.</summary>
+    /// <summary>
+    /// True when the newest stored event of the stream's alert <paramref name="key"/> is a clear written because its
+    /// process was gone: "service restarted", or "instance stopped" by a peer.
+    /// </summary>
     public bool ClosedAtRestart(string stream, FindingKey key) => connection.Run(c =>
     {
         using var command = Sql.Command(c, """
-            SELECT event = 'cleared' AND reason = $reason FROM alerts
+            SELECT event = 'cleared' AND reason IN ($restarted, $stopped) FROM alerts
             WHERE stream = $stream AND key = $key ORDER BY id DESC LIMIT 1
             """);
         Sql.Add(command, "$stream", stream);
         Sql.Add(command, "$key", key.ToString());
-        Sql.Add(command, "$reason", AlertClearReason.ServiceRestarted.ToText());
+        Sql.Add(command, "$restarted", AlertClearReason.ServiceRestarted.ToText());
+        Sql.Add(command, "$stopped", AlertClearReason.InstanceStopped.ToText());
         return command.ExecuteScalar() is long flag && flag != 0;
     });
 
@@ -175,6 +190,7 @@ internal sealed class AlertTable(StoreConnection connection) : IAlertEventStore
             reader.IsDBNull(20) ? null : ReasonOf(reader.GetString(20)))
         {
             EvidenceJson = Sql.NullableString(reader, 21),
+            Instance = Sql.NullableString(reader, 22),
         };
     }
 

@@ -10,11 +10,15 @@ internal sealed class HumWatchStore : IDisposable
 
     /// <param name="options">Validated store options.</param>
     /// <param name="timeProvider">Clock for journal, render and migration times.</param>
+    /// <param name="instance">This process's instance name (Instance:Name), written with each alert event; null for tools that only read.</param>
     /// <exception cref="InvalidOperationException">The file cannot be opened, or its schema is newer than this build.</exception>
-    public HumWatchStore(StoreOptions options, TimeProvider timeProvider)
+    public HumWatchStore(StoreOptions options, TimeProvider timeProvider, string? instance = null)
     {
         _connection = new StoreConnection(options, timeProvider);
-        Alerts = new AlertTable(_connection);
+        Instance = instance;
+        Alerts = new AlertTable(_connection, instance);
+        Instances = new InstanceTable(_connection);
+        StreamOwners = new StreamOwnerTable(_connection);
         Ledger = new LedgerTable(_connection);
         Files = new FileJournal(_connection);
         Spectra = new SpectrumTable(_connection);
@@ -30,6 +34,15 @@ internal sealed class HumWatchStore : IDisposable
 
     /// <summary>The connection itself, for connection-level settings; tests use it to make the store full or read-only.</summary>
     internal StoreConnection Connection => _connection;
+
+    /// <summary>This process's instance name; null for tools that only read.</summary>
+    public string? Instance { get; }
+
+    /// <summary>Heartbeats of the instances sharing the store.</summary>
+    public InstanceTable Instances { get; }
+
+    /// <summary>Which instance watched which stream.</summary>
+    public StreamOwnerTable StreamOwners { get; }
 
     /// <summary>Alert events.</summary>
     public AlertTable Alerts { get; }

@@ -30,6 +30,9 @@ internal sealed record StoredAlert(
 {
     /// <summary>A raised line's evidence as stored (JSON in the shape of a `check` line's "evidence"); null otherwise.</summary>
     public string? EvidenceJson { get; init; }
+
+    /// <summary>The instance that stored the event; null in rows of builds before schema 6.</summary>
+    public string? Instance { get; init; }
 }
 
 /// <summary>One stream/minute/source row of the ledger, merged over every part delivered for it.</summary>

@@ -97,6 +97,10 @@ internal static class StoreSchema
         // Version 5: each alert's events in order, so a start finds the alerts an unclean stop left open without a
         // scan of the whole table, and a re-checked file finds the events it already stored.
         ["CREATE INDEX ix_alerts_stream_key_id ON alerts (stream, key, id)"],
+
+        // Version 6: several instances on one store — their heartbeats, which instance watches which stream, and which
+        // instance stored each alert event.
+        FleetSchema.Migration,
     ];
 
     /// <summary>Newest schema version this build knows.</summary>

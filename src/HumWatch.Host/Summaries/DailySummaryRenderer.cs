@@ -68,7 +68,8 @@ internal sealed class DailySummaryRenderer
         alerts ??= _store.AlertsByStream(from, to).GetValueOrDefault(stream) ?? [];
         var spectrum = _store.DaySpectrum(stream, from, to);
         var minutes = _store.LedgerMinutes(stream, from, to);
-        var summary = DaySummarizer.Summarize(stream, day, _zone, minutes, alerts, spectrum, _options.Day, DayRulesKey);
+        var summary = DaySummarizer.Summarize(stream, day, _zone, minutes, alerts, spectrum, _options.Day, DayRulesKey)
+            with { Instances = _store.Instances(stream, from, to) };
         return (summary, spectrum, MonitoredRange(minutes, from, to));
     }
 

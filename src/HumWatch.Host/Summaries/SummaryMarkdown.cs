@@ -25,14 +25,14 @@ internal static class SummaryMarkdown
         sb.Append(c, $"{summaries.Count} room(s): {fails} fail, {warns} warn, {summaries.Count(s => s.Verdict == DayVerdict.Pass)} pass, {summaries.Count(s => s.Verdict == DayVerdict.NoData)} without data.").AppendLine().AppendLine();
         sb.AppendLine(DayLimitsLine(summaries[0])).AppendLine();
 
-        sb.AppendLine("| Room | Verdict | Monitored | Affected min | Longest run | Max µV RMS | Mains Hz (min–max) | Alerts raised / cleared |");
-        sb.AppendLine("|---|---|---:|---:|---|---:|---|---:|");
+        sb.AppendLine("| Room | Instance | Verdict | Monitored | Affected min | Longest run | Max µV RMS | Mains Hz (min–max) | Alerts raised / cleared |");
+        sb.AppendLine("|---|---|---|---:|---:|---|---:|---|---:|");
         foreach (var s in summaries)
         {
             var longest = s.LongestEpisode is { } e ? $"{ClockRange(e.StartLocal, e.EndLocal)} ({e.SpanMinutes:0} min)" : "–";
             var grid = s.Mains.NominalHz is { } nominal ? string.Create(c, $"{nominal:0} Hz grid: ") : "";
             var mains = s.Mains.MeanHz is { } mean ? string.Create(c, $"{grid}{mean:0.000} ({s.Mains.MinHz:0.000}–{s.Mains.MaxHz:0.000})") : "–";
-            sb.Append(c, $"| {Cell(s.Stream)} | **{s.Verdict.ToText()}** | {SummaryPlots.DurationText(s.HoursMonitored * 3600)} | {s.AffectedMinutes:0.#} | {longest} | {Num(s.MaxAmplitudeUvRms)} | {mains} | {s.Alerts.Raised} / {s.Alerts.Cleared} |").AppendLine();
+            sb.Append(c, $"| {Cell(s.Stream)} | {InstancesText(s)} | **{s.Verdict.ToText()}** | {SummaryPlots.DurationText(s.HoursMonitored * 3600)} | {s.AffectedMinutes:0.#} | {longest} | {Num(s.MaxAmplitudeUvRms)} | {mains} | {s.Alerts.Raised} / {s.Alerts.Cleared} |").AppendLine();
         }
 
         foreach (var s in summaries)
@@ -46,6 +46,11 @@ internal static class SummaryMarkdown
             if (s.VerdictReasons.Count > 0)
             {
                 sb.AppendLine();
+            }
+
+            if (s.Instances.Count > 0)
+            {
+                sb.Append(c, $"Watched by {InstancesText(s)}. ");
             }
 
             sb.Append(c, $"Monitored {SummaryPlots.DurationText(s.HoursMonitored * 3600)} of {s.HoursInDay} h; any line present {s.AffectedMinutes:0.#} min; median of the strongest line {Num(s.MedianAmplitudeUvRms)} µV RMS.");
@@ -111,6 +116,9 @@ internal static class SummaryMarkdown
 
         return $"{startLocal.Substring(11, 5)}–{end}";
     }
+
+    /// <summary>The day's instances, comma-separated; "–" when none is recorded (data of builds before instance names).</summary>
+    private static string InstancesText(DaySummary summary) => summary.Instances.Count > 0 ? Cell(string.Join(", ", summary.Instances)) : "–";
 
     private static string Num(double? value) => value is { } v ? v.ToString("0.###", CultureInfo.InvariantCulture) : "–";
 

@@ -52,6 +52,9 @@ internal sealed class SummaryStore(HumWatchStore store)
         return result;
     }
 
+    /// <summary>The instances that watched a stream's data of a UTC range, ordinal order; empty when none is recorded.</summary>
+    public IReadOnlyList<string> Instances(string stream, DateTimeOffset fromUtc, DateTimeOffset toUtc) => Store.StreamOwners.InstancesBetween(stream, fromUtc, toUtc);
+
     /// <summary>Streams with ledger rows or alerts in a UTC range, ordinal order.</summary>
     public IReadOnlyList<string> StreamsWithLedger(DateTimeOffset fromUtc, DateTimeOffset toUtc) => Store.Activity.StreamsBetween(fromUtc, toUtc);
 

@@ -12,7 +12,9 @@ namespace HumWatch.Host.Web;
 /// Every room's state, folded from the messages the service publishes (status, alert, clear) as they are handed to the
 /// PUB socket, so the page shows what subscribers hear and nothing is computed twice. A room whose data has not moved on
 /// for <see cref="WebOptions.SilentAfterSeconds"/> is silent. Changed rooms are collected until the next
-/// <see cref="TakeChanges"/>. Thread-safe; <see cref="Offer"/> never throws.
+/// <see cref="TakeChanges"/>. Rooms other instances of the store watch come from <see cref="SetRemote"/> (the fleet
+/// view); a room this instance holds is shown as its own unless it is silent here and its data went on elsewhere.
+/// Thread-safe; <see cref="Offer"/> never throws.
 /// </summary>
 internal sealed class RoomBoard
 {
@@ -26,13 +28,49 @@ internal sealed class RoomBoard
     private readonly SortedDictionary<string, Room> _rooms = new(StringComparer.Ordinal);
     private readonly HashSet<string> _changed = new(StringComparer.Ordinal);
     private readonly Dictionary<string, long> _raisedByKind = new(StringComparer.Ordinal);
+    private readonly string? _instance;
+    private Dictionary<string, RemoteRoom> _remote = new(StringComparer.Ordinal);
 
-    public RoomBoard(WebOptions options, TimeProvider time, ILogger<RoomBoard> logger)
+    /// <param name="instance">This instance's name, written as each of its rooms' "instance"; null writes null.</param>
+    public RoomBoard(WebOptions options, TimeProvider time, ILogger<RoomBoard> logger, string? instance = null)
     {
         ArgumentNullException.ThrowIfNull(options);
         _time = time;
         _silentAfter = TimeSpan.FromSeconds(options.SilentAfterSeconds);
         _logger = logger;
+        _instance = instance;
+    }
+
+    /// <summary>The rooms other instances watch, as last read from the store; rooms whose JSON changed count as changed.</summary>
+    public void SetRemote(IReadOnlyList<RemoteRoom> rooms)
+    {
+        ArgumentNullException.ThrowIfNull(rooms);
+        var next = new Dictionary<string, RemoteRoom>(rooms.Count, StringComparer.Ordinal);
+        foreach (var room in rooms)
+        {
+            next[room.Stream] = room;
+        }
+
+        lock (_gate)
+        {
+            foreach (var (stream, room) in next)
+            {
+                if (!_remote.TryGetValue(stream, out var old) || !old.Json.AsSpan().SequenceEqual(room.Json))
+                {
+                    _changed.Add(stream);
+                }
+            }
+
+            foreach (var stream in _remote.Keys)
+            {
+                if (!next.ContainsKey(stream))
+                {
+                    _changed.Add(stream);
+                }
+            }
+
+            _remote = next;
+        }
     }
 
     /// <summary>Called with each published message (the SSE clients get their copy elsewhere); never throws.</summary>
@@ -71,7 +109,7 @@ internal sealed class RoomBoard
             {
                 if (!_rooms.ContainsKey(stream))
                 {
-                    _rooms[stream] = new Room(stream) { LastDataUtc = lastData, Silent = true, SeededAt = _time.GetTimestamp() };
+                    _rooms[stream] = new Room(stream, _instance) { LastDataUtc = lastData, Silent = true, SeededAt = _time.GetTimestamp() };
                     _changed.Add(stream);
                 }
             }
@@ -92,7 +130,7 @@ internal sealed class RoomBoard
             var result = new List<(string, byte[]?)>(_changed.Count);
             foreach (var stream in _changed.Order(StringComparer.Ordinal))
             {
-                result.Add((stream, _rooms.TryGetValue(stream, out var room) ? room.Json() : null));
+                result.Add((stream, Shown(stream)));
             }
 
             _changed.Clear();
@@ -106,10 +144,13 @@ internal sealed class RoomBoard
         lock (_gate)
         {
             Sweep();
-            var result = new List<byte[]>(_rooms.Count);
-            foreach (var room in _rooms.Values)
+            var result = new List<byte[]>(_rooms.Count + _remote.Count);
+            foreach (var stream in _rooms.Keys.Union(_remote.Keys).Order(StringComparer.Ordinal))
             {
-                result.Add(room.Json());
+                if (Shown(stream) is { } json)
+                {
+                    result.Add(json);
+                }
             }
 
             return result;
@@ -122,9 +163,34 @@ internal sealed class RoomBoard
         lock (_gate)
         {
             Sweep();
-            return _rooms.TryGetValue(stream, out var room) ? room.Json() : null;
+            return Shown(stream);
         }
     }
+
+    /// <summary>The instance that watches <paramref name="stream"/> when another instance does (its room is shown), else null.</summary>
+    public string? RemoteOwner(string stream)
+    {
+        lock (_gate)
+        {
+            return _remote.TryGetValue(stream, out var remote) && !IsLocalShown(stream, remote) ? remote.Instance : null;
+        }
+    }
+
+    // The caller holds _gate.
+    private byte[]? Shown(string stream)
+    {
+        var remote = _remote.GetValueOrDefault(stream);
+        if (_rooms.TryGetValue(stream, out var room) && (remote is null || IsLocalShown(stream, remote)))
+        {
+            return room.Json();
+        }
+
+        return remote?.Json;
+    }
+
+    // The caller holds _gate. A room this instance hears from is its own; a silent one yields to the instance whose data is newer.
+    private bool IsLocalShown(string stream, RemoteRoom remote) =>
+        _rooms.TryGetValue(stream, out var room) && (!room.Silent || room.LastDataUtc is { } last && last >= remote.LastSeenUtc);
 
     /// <summary>Keys of the room's active alerts (empty for an unknown room).</summary>
     public IReadOnlySet<string> ActiveKeys(string stream)
@@ -253,6 +319,12 @@ internal sealed class RoomBoard
     {
         lock (_gate)
         {
+            // This instance closing a stopped peer's alerts does not make the peer's room one of its own.
+            if (clear.Reason == AlertClearReason.InstanceStopped.ToText() && !_rooms.ContainsKey(clear.Stream))
+            {
+                return;
+            }
+
             var room = RoomOf(clear.Stream);
             room.Active.Remove(clear.Key);
 
@@ -271,7 +343,7 @@ internal sealed class RoomBoard
     {
         if (!_rooms.TryGetValue(stream, out var room))
         {
-            room = new Room(stream);
+            room = new Room(stream, _instance);
             _rooms[stream] = room;
         }
 
@@ -319,7 +391,7 @@ internal sealed class RoomBoard
     }
 
     /// <summary>One room. Fields are guarded by the board's lock.</summary>
-    private sealed class Room(string stream)
+    private sealed class Room(string stream, string? instance)
     {
         private long _jsonVersion = -1;
         private bool _jsonSilent;
@@ -359,6 +431,7 @@ internal sealed class RoomBoard
             {
                 writer.WriteStartObject();
                 writer.WriteString("stream", Stream);
+                WriteNullable(writer, "instance", instance);
                 writer.WriteString("state", state);
                 WriteNullable(writer, "severity", worst?.Severity);
                 if (worst is not null)

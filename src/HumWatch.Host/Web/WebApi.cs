@@ -15,6 +15,7 @@ namespace HumWatch.Host.Web;
 /// <summary>The read-only JSON API under /api/v1/ (docs/http.md), the day sheets' files and the health probes.</summary>
 internal sealed partial class WebApi(
     RoomBoard board,
+    FleetRooms fleet,
     LiveSpectra spectra,
     HumWatchStore store,
     DailySummaryRenderer renderer,
@@ -36,6 +37,7 @@ internal sealed partial class WebApi(
         app.MapGet("/api/v1/rooms", Rooms);
         app.MapGet("/api/v1/rooms/{stream}", Room);
         app.MapGet("/api/v1/rooms/{stream}/spectrum", Spectrum);
+        app.MapGet("/api/v1/instances", (HttpContext c) => Json(c, fleet.Instances(), WebJsonContext.Output.InstancesView));
         app.MapGet("/api/v1/alerts", Alerts);
         app.MapGet("/api/v1/summaries", Summaries);
         app.MapGet("/api/v1/summaries/{day}/{stream}", Summary);
@@ -84,7 +86,9 @@ internal sealed partial class WebApi(
         board.RoomJson(stream) is { } json ? JsonBytes(context, json) : NotFound(context, $"no room '{stream}' on the board");
 
     private Task Spectrum(HttpContext context, string stream) =>
-        spectra.Read(stream, board.ActiveKeys(stream)) is { } view
+        board.RemoteOwner(stream) is { } owner
+            ? NotFound(context, $"'{stream}' is watched by instance {owner}: its live spectrum is served by that instance's page")
+            : spectra.Read(stream, board.ActiveKeys(stream)) is { } view
             ? Json(context, view, WebJsonContext.Output.SpectrumView)
             : NotFound(context, $"no spectrum of '{stream}' yet: it appears with the room's first analysed frame");
 

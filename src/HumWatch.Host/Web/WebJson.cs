@@ -76,6 +76,8 @@ internal sealed record ErrorView(string Error);
 [JsonSerializable(typeof(ReadinessView))]
 [JsonSerializable(typeof(ErrorView))]
 [JsonSerializable(typeof(SpectrumView))]
+[JsonSerializable(typeof(InstancesView))]
+[JsonSerializable(typeof(List<AlertView>), TypeInfoPropertyName = "ListAlertView")]
 internal sealed partial class WebJsonContext : JsonSerializerContext
 {
     /// <summary>Characters as themselves, as in every HumWatch JSON (responses are JSON, never pasted into HTML).</summary>

@@ -27,6 +27,7 @@ internal sealed class WebServer : IHostedService, IAsyncDisposable
 
     private readonly BoundSettings _settings;
     private readonly RoomBoard _board;
+    private readonly FleetRooms _fleet;
     private readonly LiveSpectra _spectra;
     private readonly EventClients _clients;
     private readonly Func<WebApi> _api;
@@ -43,6 +44,7 @@ internal sealed class WebServer : IHostedService, IAsyncDisposable
     public WebServer(
         BoundSettings settings,
         RoomBoard board,
+        FleetRooms fleet,
         LiveSpectra spectra,
         EventClients clients,
         Func<WebApi> api,
@@ -53,6 +55,7 @@ internal sealed class WebServer : IHostedService, IAsyncDisposable
     {
         _settings = settings;
         _board = board;
+        _fleet = fleet;
         _spectra = spectra;
         _clients = clients;
         _api = api;
@@ -254,6 +257,8 @@ internal sealed class WebServer : IHostedService, IAsyncDisposable
     private async Task SendUpdatesAsync(WebApi api, CancellationToken token)
     {
         var sincePrune = TimeSpan.Zero;
+        var sinceFleet = TimeSpan.Zero;
+        var fleetInterval = TimeSpan.FromSeconds(_settings.Instance.HeartbeatSeconds);
         while (!token.IsCancellationRequested)
         {
             try
@@ -274,6 +279,14 @@ internal sealed class WebServer : IHostedService, IAsyncDisposable
                     _clients.Broadcast(EventClients.Frame("rooms", api.RoomsJson(full: false, rooms, removed)));
                 }
 
+                // The other instances' rooms as the store has them, once per heartbeat (their owners write once per beat).
+                sinceFleet += UpdateInterval;
+                if (sinceFleet >= fleetInterval)
+                {
+                    sinceFleet = TimeSpan.Zero;
+                    RefreshFleet();
+                }
+
                 sincePrune += UpdateInterval;
                 if (sincePrune >= TimeSpan.FromMinutes(10))
                 {
@@ -288,13 +301,26 @@ internal sealed class WebServer : IHostedService, IAsyncDisposable
         }
     }
 
-    /// <summary>Rooms with data in the last day appear at once, as silent, until their data comes again.</summary>
+    private void RefreshFleet()
+    {
+        if (_fleet.Refresh())
+        {
+            _board.SetRemote(_fleet.Remote);
+        }
+    }
+
+    /// <summary>
+    /// Rooms with data in the last day appear at once: this instance's (and those no instance is recorded for) as
+    /// silent until their data comes again, the other instances' as the store has them.
+    /// </summary>
     private void SeedFromStore()
     {
         try
         {
+            RefreshFleet();
             var now = _time.GetUtcNow();
-            var streams = _store.Activity.StreamsBetween(now - RoomBoard.ForgetAfter, now);
+            var streams = _store.Activity.StreamsBetween(now - RoomBoard.ForgetAfter, now)
+                .Where(s => _fleet.OwnerOf(s) is not { } owner || owner == _fleet.Self);
             _board.Seed([.. streams.Select(s => (s, _store.Activity.LastMonitoredUtc(s)))]);
         }
         catch (Exception ex) when (ex is not OutOfMemoryException)

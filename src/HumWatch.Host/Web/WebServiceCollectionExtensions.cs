@@ -25,7 +25,8 @@ internal static class WebServiceCollectionExtensions
             return services;
         }
 
-        services.AddSingleton(sp => new RoomBoard(bound.Web, sp.GetRequiredService<TimeProvider>(), sp.GetRequiredService<ILogger<RoomBoard>>()));
+        services.AddSingleton(sp => new RoomBoard(bound.Web, sp.GetRequiredService<TimeProvider>(), sp.GetRequiredService<ILogger<RoomBoard>>(), bound.Instance.Name));
+        services.AddSingleton(sp => new FleetRooms(sp.GetRequiredService<HumWatchStore>(), bound.Instance, bound.Web, sp.GetRequiredService<TimeProvider>(), sp.GetRequiredService<ILogger<FleetRooms>>()));
         services.AddSingleton(sp => new EventClients(bound.Web.MaxEventClients, sp.GetRequiredService<ILogger<EventClients>>()));
         services.AddSingleton(sp => new LiveSpectra(sp.GetRequiredService<TimeProvider>()));
         services.AddSingleton<ILiveFrameSink>(sp => sp.GetRequiredService<LiveSpectra>());
@@ -43,10 +44,12 @@ internal static class WebServiceCollectionExtensions
         services.AddSingleton(sp => new WebServer(
             bound,
             sp.GetRequiredService<RoomBoard>(),
+            sp.GetRequiredService<FleetRooms>(),
             sp.GetRequiredService<LiveSpectra>(),
             sp.GetRequiredService<EventClients>(),
             () => new WebApi(
                 sp.GetRequiredService<RoomBoard>(),
+                sp.GetRequiredService<FleetRooms>(),
                 sp.GetRequiredService<LiveSpectra>(),
                 sp.GetRequiredService<HumWatchStore>(),
                 new DailySummaryRenderer(sp.GetRequiredService<SummaryStore>(), bound.Summaries, bound.Site.Name, bound.Site.ResolveTimeZone(), bound.Analysis.Sources.MainsHz),

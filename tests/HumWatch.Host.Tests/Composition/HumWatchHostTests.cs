@@ -41,10 +41,10 @@ public sealed class HumWatchHostTests
         // HumWatchHost's registration order is the reverse of the stop order it documents: the live page stops first (it
         // starts last, once the sockets it reports on are bound), then ingest stops taking input, then the inbox, then
         // the stream monitors drain, then the ledger writer writes the last rows, and last the store health retries
-        // what still waits. At start the closer of alerts an unclean stop left open runs after
+        // what still waits. At start the instance heartbeat (which closes the alerts an unclean stop left open) runs after
         // the ledger writer and before any monitor raises a new one.
         Assert.Equal(
-            [typeof(StoreHealth), typeof(LogFolderGuard), typeof(LedgerWriter), typeof(UnclosedAlertCloser), typeof(StreamMonitorService), typeof(InboxService), typeof(DailySummaryService), typeof(SocketIngestService), typeof(HumWatch.Host.Web.WebServer)],
+            [typeof(StoreHealth), typeof(LogFolderGuard), typeof(LedgerWriter), typeof(HumWatch.Host.Fleet.InstanceHeartbeat), typeof(StreamMonitorService), typeof(InboxService), typeof(DailySummaryService), typeof(SocketIngestService), typeof(HumWatch.Host.Web.WebServer)],
             hosted);
 
         // docs/messages.md: status every Publish:StatusIntervalSeconds, default 10 s; severity minor ≥ 1 µV, marked ≥ 5 µV, severe ≥ 20 µV.

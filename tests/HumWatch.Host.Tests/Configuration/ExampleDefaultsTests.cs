@@ -24,7 +24,7 @@ public sealed class ExampleDefaultsTests
             .Order(StringComparer.Ordinal)
             .ToList();
 
-        Assert.Equal(["Analysis:Sources:SiteTones", "Notify:Webhooks", "Site:Name", "Site:TimeZone"], differing);
+        Assert.Equal(["Analysis:Sources:SiteTones", "Instance:Name", "Notify:Webhooks", "Site:Name", "Site:TimeZone"], differing);
         var lines = File.ReadAllLines(path);
         foreach (var key in differing)
         {

@@ -144,7 +144,7 @@ public sealed class NotifySettingsTests
         var hosted = host.Services.GetServices<IHostedService>().Select(s => s.GetType()).ToList();
 
         // The store's health and the log folder's guard start before everything else (HumWatchHostTests has the whole order).
-        Assert.Equal([typeof(StoreHealth), typeof(LogFolderGuard), typeof(LedgerWriter), typeof(NotificationService), typeof(UnclosedAlertCloser), typeof(StreamMonitorService)], hosted.Take(6));
+        Assert.Equal([typeof(StoreHealth), typeof(LogFolderGuard), typeof(LedgerWriter), typeof(NotificationService), typeof(HumWatch.Host.Fleet.InstanceHeartbeat), typeof(StreamMonitorService)], hosted.Take(6));
         Assert.Same(host.Services.GetRequiredService<NotificationService>(), Assert.Single(host.Services.GetServices<IDispatchSink>()));
         Assert.NotNull(host.Services.GetRequiredService<AlertDispatcher>());
     }

@@ -93,7 +93,47 @@ public sealed class RoomBoardTests
         Assert.Equal("clean", State(board));
     }
 
-    private RoomBoard Board() => new(new WebOptions { SilentAfterSeconds = 30 }, _time, NullLogger<RoomBoard>.Instance);
+    [Fact]
+    public void A_room_held_here_stays_ours_while_heard_and_yields_to_a_peer_once_silent_here()
+    {
+        var board = Board("lab-a");
+        board.Offer(Messages.StatusKind, "room-a", Status(chunks: 20, frames: 3));
+        var remote = new RemoteRoom("room-a", "lab-b", _time.GetUtcNow().AddSeconds(5), "{\"stream\":\"room-a\",\"instance\":\"lab-b\"}"u8.ToArray());
+        board.SetRemote([remote, remote with { Stream = "room-b", Json = "{\"stream\":\"room-b\",\"instance\":\"lab-b\"}"u8.ToArray() }]);
+
+        Assert.Equal("lab-a", Room(board).GetProperty("instance").GetString());
+        Assert.Null(board.RemoteOwner("room-a"));
+        Assert.Equal("lab-b", Room(board, "room-b").GetProperty("instance").GetString());
+        Assert.Equal(["room-a", "room-b"], board.Snapshot().Select(j => JsonDocument.Parse(j).RootElement.GetProperty("stream").GetString()));
+
+        // Silent here, and the peer saw it after our last data: the peer's room is shown.
+        _time.Advance(TimeSpan.FromSeconds(31));
+        Assert.Equal("lab-b", Room(board).GetProperty("instance").GetString());
+        Assert.Equal("lab-b", board.RemoteOwner("room-a"));
+
+        // The peer's rooms leave the board when the store no longer names them.
+        board.TakeChanges();
+        board.SetRemote([]);
+        var changes = board.TakeChanges()!;
+        Assert.Contains(("room-b", (byte[]?)null), changes.Select(c => (c.Stream, c.Json is null ? null : c.Json)));
+        Assert.Equal("lab-a", Room(board).GetProperty("instance").GetString());
+    }
+
+    [Fact]
+    public void Closing_a_stopped_peers_alert_does_not_add_its_room_here()
+    {
+        var board = Board("lab-a");
+        Offer(board, Some.Cleared("room-c") with { Reason = Core.Alerts.AlertClearReason.InstanceStopped });
+        Assert.Null(board.RoomJson("room-c"));
+
+        // A room of its own it still clears as usual.
+        board.Offer(Messages.StatusKind, "room-a", Status(chunks: 20, frames: 3));
+        Offer(board, Some.Raised());
+        Offer(board, Some.Cleared() with { Reason = Core.Alerts.AlertClearReason.InstanceStopped });
+        Assert.Empty(Room(board).GetProperty("alerts").EnumerateArray());
+    }
+
+    private RoomBoard Board(string? instance = null) => new(new WebOptions { SilentAfterSeconds = 30 }, _time, NullLogger<RoomBoard>.Instance, instance);
 
     private byte[] Status(long chunks, long frames) =>
         Messages.For(new StatusMessage(Messages.Version, "room-a", _time.GetUtcNow(), frames, 0, 0, chunks, 0, 0, 0.5));

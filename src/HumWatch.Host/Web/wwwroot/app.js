@@ -99,6 +99,7 @@ function renderTile(room) {
   const worst = room.alerts[0];
   const link = el("a", { class: "room", href: `/room/${encodeURIComponent(room.stream)}`, "data-tier": tier, "data-state": room.state, "data-severity": room.severity },
     el("h2", null, room.stream),
+    room.instance ? el("p", { class: "instance" }, `instance ${room.instance}`) : null,
     el("span", { class: "badge" }, stateWord(room)),
     worst ? el("p", { class: "what" }, worst.label, room.alerts.length > 1 ? ` and ${room.alerts.length - 1} more` : "") : null,
     worst ? el("p", { class: "facts" }, alertFacts(worst)) : null,
@@ -139,7 +140,8 @@ function renderRoomHeader(room) {
     list.replaceChildren();
     return;
   }
-  line.replaceChildren(el("span", { class: "badge", "data-tier": tierOf(room), "data-state": room.state, id: "room-badge" }, stateWord(room)), " ", lastSeen(room));
+  line.replaceChildren(el("span", { class: "badge", "data-tier": tierOf(room), "data-state": room.state, id: "room-badge" }, stateWord(room)), " ", lastSeen(room),
+    room.instance ? el("span", { class: "instance", id: "room-instance" }, ` · instance ${room.instance}`) : null);
   list.replaceChildren(...room.alerts.map(a => el("li", { "data-tier": a.severity === "minor" ? "minor" : "high", "data-key": a.key },
     el("p", { class: "what" }, `${a.label} — ${a.severity}`),
     el("p", { class: "facts" }, alertFacts(a)),
@@ -158,7 +160,11 @@ async function loadSpectrum() {
   spectrumBusy = true;
   try {
     const response = await fetch(`/api/v1/rooms/${encodeURIComponent(roomPath)}/spectrum`);
-    if (response.status === 404) return;
+    if (response.status === 404) {
+      // Not analysed here yet, or watched by another instance: the answer says which.
+      document.getElementById("spectrum-note").textContent = (await response.json()).error;
+      return;
+    }
     drawSpectrum(await response.json());
   } catch (e) {
     // The next update tries again.
