@@ -98,7 +98,7 @@ internal sealed class DailySummaryService : BackgroundService
                     }
                 }
             }
-            catch (Exception ex) when (ex is IOException or UnauthorizedAccessException or InvalidOperationException or Microsoft.Data.Sqlite.SqliteException)
+            catch (Exception ex) when (ex is IOException or UnauthorizedAccessException or InvalidOperationException or System.Data.Common.DbException)
             {
                 // By design: one failing day must not stop the service; the day stays unrecorded and is tried again.
                 _logger.RenderFailed(ex, dayText);

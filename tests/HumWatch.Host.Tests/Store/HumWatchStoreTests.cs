@@ -61,10 +61,11 @@ public sealed class HumWatchStoreTests : IDisposable
     public void A_schema_newer_than_the_build_is_refused_with_a_clear_error()
     {
         Open().Dispose();
-        RawScalar("INSERT INTO schema_version (version, applied_utc_ms) VALUES (7, 0)");
+        var newer = StoreSchema.LatestVersion + 1;
+        RawScalar($"INSERT INTO schema_version (version, applied_utc_ms) VALUES ({newer}, 0)");
 
         var ex = Assert.Throws<InvalidOperationException>(() => Open());
-        Assert.Contains("schema version 7", ex.Message, StringComparison.Ordinal);
+        Assert.Contains($"schema version {newer}", ex.Message, StringComparison.Ordinal);
         Assert.Contains($"({StoreSchema.LatestVersion})", ex.Message, StringComparison.Ordinal);
         Assert.Contains(_temp.File("store.db"), ex.Message, StringComparison.Ordinal);
     }
