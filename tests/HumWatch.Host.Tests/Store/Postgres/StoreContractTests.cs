@@ -314,13 +314,18 @@ public sealed class StoreContractTests(PostgresServer server) : IDisposable
     public void A_store_that_takes_no_writes_is_classified_read_only(string provider)
     {
         var db = Db(provider);
+        if (db.IsPostgres)
+        {
+            // Every operation on a connection of its own, so the database setting below reaches the store's next one.
+            db.Options.ConnectionString = new Npgsql.NpgsqlConnectionStringBuilder(db.Options.ConnectionString) { Pooling = false }.ConnectionString;
+        }
+
         var store = Open(db);
         store.Activity.CheckWritable();
         if (db.IsPostgres)
         {
-            // PostgreSQL: default_transaction_read_only makes every new transaction read-only (SQLSTATE 25006).
+            // PostgreSQL: default_transaction_read_only makes every new session's transactions read-only (SQLSTATE 25006).
             db.Raw($"ALTER DATABASE {new Npgsql.NpgsqlConnectionStringBuilder(db.Options.ConnectionString).Database} SET default_transaction_read_only = on");
-            Npgsql.NpgsqlConnection.ClearAllPools();
         }
         else
         {
