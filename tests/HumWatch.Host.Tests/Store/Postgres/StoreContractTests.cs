@@ -3,6 +3,8 @@ using HumWatch.Core.Findings;
 using HumWatch.Core.Ledger;
 using HumWatch.Core.Summaries;
 using HumWatch.Host.Store;
+using HumWatch.Host.Summaries;
+using HumWatch.Host.Tests.Summaries;
 using HumWatch.Host.Tests.Publishing.Support;
 using Microsoft.Extensions.Time.Testing;
 using Xunit;
@@ -211,6 +213,45 @@ public sealed class StoreContractTests(PostgresServer server) : IDisposable
         Assert.True(holder.Instances.MarkStopped(holder.Instance!, _time.GetUtcNow()));
         Assert.True(other.Instances.Hold(claim, other.Instance!, _time.GetUtcNow()));
         Assert.Equal(other.Instance, holder.Instances.Holder(claim));
+    }
+
+    [Theory]
+    [InlineData(StoreUnderTest.Sqlite)]
+    [PostgresRow]
+    public void A_day_is_rendered_by_one_instance_of_the_fleet_and_re_rendered_by_any_with_the_same_bytes(string provider)
+    {
+        var db = Db(provider);
+        var day = new DateOnly(2026, 3, 1);
+        var from = new DateTimeOffset(2026, 3, 1, 0, 0, 0, TimeSpan.Zero);
+        using var folders = new TempFolder();
+        var instances = new[] { "lab-a", "lab-b" };
+        var stores = instances.Select(name => Open(db, name)).ToArray();
+        var renderers = stores.Select(store =>
+        {
+            store.Instances.Register(store.Instance!, "test", _time.GetUtcNow());
+            var options = new SummaryOutputOptions { Folder = folders.File(store.Instance!), PlotWidthPx = 320, PlotHeightPx = 200 };
+            return new DailySummaryRenderer(new SummaryStore(store), options, "Test site", TimeZoneInfo.Utc);
+        }).ToArray();
+        stores[0].Ledger.AddMinuteRows(SummaryHarness.Rows("room-a", "a", from.AddHours(8), from.AddHours(9), seed: 1));
+        stores[1].Ledger.AddMinuteRows(SummaryHarness.Rows("room-b", "b", from.AddHours(8), from.AddHours(9), seed: 2));
+
+        var results = new IReadOnlyList<RenderedStream>[2];
+        Parallel.For(0, 2, i => results[i] = renderers[i].RenderDay(day));
+
+        var writer = Assert.Single(Enumerable.Range(0, 2), i => results[i].Any(r => r.Written));
+        var other = 1 - writer;
+        Assert.All(results[writer], r => Assert.True(r.Written));
+        Assert.All(results[other], r => Assert.False(r.Written));
+        Assert.False(Directory.Exists(folders.File(instances[other])));
+        Assert.Equal(2, stores[other].Renders.RenderedCount(day, "UTC"));
+
+        // `humwatch summary` (forced) from the other instance writes the same summary bytes.
+        var again = renderers[other].RenderDay(day, folder: folders.File("on-demand"), force: true);
+        foreach (var stream in (string[])["room-a", "room-b"])
+        {
+            var name = Path.Combine(DailySummaryRenderer.DayFolder(folders.File(instances[writer]), day), stream + ".json");
+            Assert.Equal(File.ReadAllBytes(name), again.Single(r => r.Stream == stream).Json);
+        }
     }
 
     [Theory]
