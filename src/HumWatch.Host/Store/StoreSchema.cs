@@ -115,6 +115,24 @@ internal static class StoreSchema
         null,
         "point Store:Path at another file");
 
+    /// <summary>
+    /// Every table of the current schema with the columns that order its rows uniquely (its key), the same on every
+    /// provider: what a copy between stores walks, and what the contract tests hold both schemas to.
+    /// </summary>
+    internal static readonly IReadOnlyList<(string Table, string OrderBy)> Tables =
+    [
+        ("schema_version", "version"),
+        ("alerts", "id"),
+        ("minute_ledger", "stream, minute_utc, source_key"),
+        ("minute_ledger_parts", "stream, session, seq"),
+        ("file_journal", "id"),
+        ("spectrum_parts", "stream, session, seq"),
+        ("summary_renders", "day, zone, stream"),
+        ("instances", "name"),
+        ("stream_owners", "stream, instance, hour_utc"),
+        ("store_claims", "name"),
+    ];
+
     /// <summary>Newest schema version this build knows.</summary>
     internal static int LatestVersion => Migrations.Length;
 

@@ -383,6 +383,50 @@ public sealed class StoreContractTests(PostgresServer server) : IDisposable
         }
     }
 
+    [Theory]
+    [PostgresRow]
+    public void Both_providers_have_the_same_tables_and_columns_in_the_same_order(string provider)
+    {
+        var postgres = Db(provider);
+        var sqlite = Db(StoreUnderTest.Sqlite);
+        Open(postgres).Dispose();
+        Open(sqlite).Dispose();
+
+        foreach (var (table, _) in StoreSchema.Tables)
+        {
+            // SQLite: pragma_table_info; PostgreSQL: information_schema.columns (SQL standard), both in column order.
+            var sqliteColumns = sqlite.Raw($"SELECT group_concat(name, ',') FROM (SELECT name FROM pragma_table_info('{table}') ORDER BY cid)") as string;
+            var postgresColumns = postgres.Raw($"SELECT string_agg(column_name, ',' ORDER BY ordinal_position) FROM information_schema.columns WHERE table_schema = 'public' AND table_name = '{table}'") as string;
+            Assert.False(string.IsNullOrEmpty(sqliteColumns), table);
+            Assert.Equal(sqliteColumns, postgresColumns);
+        }
+
+        Assert.Equal(
+            StoreSchema.Tables.Select(t => t.Table).Order(StringComparer.Ordinal),
+            (postgres.Raw("SELECT string_agg(table_name, ',' ORDER BY table_name) FROM information_schema.tables WHERE table_schema = 'public'") as string)!.Split(','));
+        Assert.Equal(StoreSchema.LatestVersion, PostgresSchema.Migrations.Length);
+    }
+
+    [Theory]
+    [PostgresRow]
+    public void Times_and_ids_are_64_bit_and_floating_columns_double_on_postgres(string provider)
+    {
+        var db = Db(provider);
+        Open(db).Dispose();
+
+        // PostgreSQL documentation 8.1: integer is 4 bytes, bigint 8; real 4 bytes, double precision 8.
+        var narrow = db.Raw("""
+            SELECT string_agg(table_name || '.' || column_name, ',' ORDER BY table_name, column_name) FROM information_schema.columns
+            WHERE table_schema = 'public' AND (data_type = 'real' OR (data_type = 'integer' AND (column_name LIKE '%utc%' OR column_name IN ('id', 'seq', 'size_bytes'))))
+            """);
+        Assert.Equal(DBNull.Value, narrow);
+
+        var store = Open(db);
+        var late = new DateTimeOffset(2300, 1, 1, 0, 0, 0, TimeSpan.Zero); // Unix ms past 2^31 many times over
+        store.Alerts.AppendAlert(Some.Raised(utc: late));
+        Assert.Equal(late, Assert.Single(store.Alerts.Between(late, late.AddSeconds(1))).Utc);
+    }
+
     private StoreUnderTest Db(string provider)
     {
         var db = new StoreUnderTest(provider, server, _time);
