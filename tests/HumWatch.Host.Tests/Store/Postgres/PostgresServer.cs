@@ -30,6 +30,7 @@ public sealed class PostgresServer : IDisposable
     private string? _folder;
     private string? _binaries;
     private bool _asClusterUser;
+    private Exception? _startFailure;
 
     /// <summary>
     /// Why no PostgreSQL can be had here, decided without starting one (discovery runs this): null when a server is
@@ -90,10 +91,30 @@ public sealed class PostgresServer : IDisposable
                 return _adminConnectionString = named;
             }
 
-            _binaries = FindBinaries() ?? throw new InvalidOperationException("PostgreSQL's initdb and pg_ctl are on neither PATH nor /usr/lib/postgresql/*/bin (Debian package postgresql).");
-            _asClusterUser = Environment.IsPrivilegedProcess;
-            _adminConnectionString = StartCluster();
-            return _adminConnectionString;
+            if (_startFailure is not null)
+            {
+                throw new InvalidOperationException("the private PostgreSQL cluster did not start", _startFailure);
+            }
+
+            try
+            {
+                _binaries = FindBinaries() ?? throw new InvalidOperationException("PostgreSQL's initdb and pg_ctl are on neither PATH nor /usr/lib/postgresql/*/bin (Debian package postgresql).");
+                _asClusterUser = Environment.IsPrivilegedProcess;
+                _adminConnectionString = StartCluster();
+                return _adminConnectionString;
+            }
+            catch (Exception ex) when (ex is InvalidOperationException or IOException or System.ComponentModel.Win32Exception)
+            {
+                // Tried once: every later test fails with the same cause instead of making another cluster.
+                _startFailure = ex;
+                if (_folder is not null && Directory.Exists(_folder))
+                {
+                    Directory.Delete(_folder, recursive: true);
+                }
+
+                _folder = null;
+                throw;
+            }
         }
     }
 
