@@ -4,7 +4,10 @@ using Xunit;
 
 namespace HumWatch.Host.Tests.Store.Postgres;
 
-/// <summary>Store:Provider, Store:ConnectionString and Store:ConnectionStringFile: validation names the key and never the credentials.</summary>
+/// <summary>
+/// Store:Provider, Store:ConnectionString and Store:ConnectionStringFile: validation names the key and never the
+/// credentials; PostgreSQL's errors sort into the store's fault kinds.
+/// </summary>
 public sealed class StoreProviderSettingsTests : IDisposable
 {
     private const string Password = "pw-7Hq2-not-for-logs";
@@ -72,5 +75,20 @@ public sealed class StoreProviderSettingsTests : IDisposable
         Assert.Contains("Store:Provider Postgres needs Store:ConnectionString or Store:ConnectionStringFile", ex.Message, StringComparison.Ordinal);
         var wrong = Assert.Throws<ConfigurationException>(() => SettingsBuilder.Build(SettingsSources.Isolated(new Dictionary<string, string?> { ["Store:Provider"] = "Punchcards" })));
         Assert.Contains("Store:Provider must be one of Sqlite, Postgres (got \"Punchcards\")", wrong.Message, StringComparison.Ordinal);
+    }
+
+    [Theory]
+    // SQLSTATEs: PostgreSQL documentation, Appendix A "PostgreSQL Error Codes".
+    [InlineData("53100", "full")] // disk_full
+    [InlineData("25006", "read-only")] // read_only_sql_transaction
+    [InlineData("42501", "read-only")] // insufficient_privilege
+    [InlineData("55P03", "locked")] // lock_not_available
+    [InlineData("40P01", "locked")] // deadlock_detected
+    [InlineData("XX001", "failing")] // data_corrupted
+    public void PostgreSQL_errors_are_sorted_by_their_SQLSTATE(string sqlState, string kind)
+    {
+        var error = new Npgsql.PostgresException("refused", "ERROR", "ERROR", sqlState);
+        Assert.Equal(kind, StoreFaults.Classify(new InvalidOperationException("wrapped", error)).ToText());
+        Assert.True(StoreFaults.IsStoreFailure(error));
     }
 }
