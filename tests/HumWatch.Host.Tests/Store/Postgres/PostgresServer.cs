@@ -121,6 +121,9 @@ public sealed class PostgresServer : IDisposable
     private string StartCluster()
     {
         _folder = Directory.CreateTempSubdirectory("humwatch-pg-").FullName;
+
+        // Stopped by the collection's end; should the test host end without it, by the process exit.
+        AppDomain.CurrentDomain.ProcessExit += (_, _) => Dispose();
         if (_asClusterUser)
         {
             // initdb and the server run as the cluster user, who must own the folder.
