@@ -74,6 +74,14 @@ internal abstract class StoreConnection : IDisposable
     /// <summary>Throws when the database cannot be written to now (read-only, locked past the timeout, gone). Writes nothing.</summary>
     public abstract void CheckWritable();
 
+    /// <summary>
+    /// After rows were copied into <paramref name="table"/> with their ids (<see cref="StoreCopy"/>), makes the next id
+    /// the database hands out follow them. SQLite's AUTOINCREMENT follows by itself; an identity column does not.
+    /// </summary>
+    public virtual void AfterRowsCopiedWithIds(DbConnection connection, DbTransaction transaction, string table)
+    {
+    }
+
     public void Dispose()
     {
         lock (_gate)
@@ -216,6 +224,17 @@ internal sealed class PostgresStoreConnection : StoreConnection
         transaction.Rollback();
         return true;
     });
+
+    public override void AfterRowsCopiedWithIds(DbConnection connection, DbTransaction transaction, string table)
+    {
+        ArgumentNullException.ThrowIfNull(connection);
+        using var command = connection.CreateCommand();
+        command.Transaction = transaction;
+
+        // setval(…, false): the next nextval returns this value itself (PostgreSQL docs, "Sequence Manipulation Functions").
+        command.CommandText = $"SELECT setval(pg_get_serial_sequence('{table}', 'id'), coalesce((SELECT max(id) FROM {table}), 0) + 1, false)";
+        command.ExecuteScalar();
+    }
 
     protected override T RunOpen<T>(Func<DbConnection, T> work)
     {

@@ -12,7 +12,7 @@ namespace HumWatch.Host.Store;
 /// <param name="TargetRows">Rows in the target table after the copy, read back.</param>
 /// <param name="SourceChecksum">Checksum of the source table's rows (<see cref="StoreCopy.Checksum"/>).</param>
 /// <param name="TargetChecksum">Checksum of the target table's rows, read back after the copy.</param>
-internal sealed record TableCopyResult(string Table, long SourceRows, long TargetRows, string SourceChecksum, string TargetChecksum)
+public sealed record TableCopyResult(string Table, long SourceRows, long TargetRows, string SourceChecksum, string TargetChecksum)
 {
     /// <summary>Whether the target holds exactly the source's rows.</summary>
     public bool Matches => SourceRows == TargetRows && SourceChecksum == TargetChecksum;
@@ -36,15 +36,10 @@ internal static class StoreCopy
     private const int MaxParametersPerStatement = 2000;
 
     /// <summary>
-    /// Every table the store's schema holds, in the order they are copied (schema_version is not copied: each side keeps
-    /// its own migration record, and the versions must be equal). <c>StoreCopyTests</c> holds this list to the tables a
-    /// new store has.
+    /// The tables copied, in <see cref="StoreSchema.Tables"/> order. schema_version is not copied: each side keeps its
+    /// own migration record, and the versions must be equal.
     /// </summary>
-    internal static readonly string[] Tables =
-    [
-        "alerts", "minute_ledger", "minute_ledger_parts", "file_journal", "spectrum_parts", "summary_renders",
-        "instances", "stream_owners", "store_claims",
-    ];
+    internal static readonly string[] Tables = [.. StoreSchema.Tables.Select(t => t.Table).Where(t => t != "schema_version")];
 
     /// <summary>Identity-numbered tables: after rows are copied with their ids, the target's next id must follow them.</summary>
     internal static readonly string[] IdentityTables = ["alerts", "file_journal"];
@@ -55,7 +50,7 @@ internal static class StoreCopy
     /// <param name="source">An open connection to a migrated store.</param>
     /// <param name="target">An open connection to a migrated, empty store of the same schema version.</param>
     /// <param name="afterIdentityTable">Run on the target inside the copy's transaction after each of <see cref="IdentityTables"/>
-    /// (PostgreSQL moves the table's identity sequence past the copied ids; SQLite needs nothing).</param>
+    /// (<see cref="StoreConnection.AfterRowsCopiedWithIds"/> of the target store).</param>
     /// <param name="progress">Told of each table as it is copied, with its row count.</param>
     /// <exception cref="InvalidOperationException">The versions differ, or the target already holds rows, or a table's columns differ.</exception>
     public static IReadOnlyList<TableCopyResult> Copy(
@@ -269,5 +264,32 @@ internal static class StoreCopy
         }
 
         encoded.Append('\u001f');
+    }
+}
+
+/// <summary>`humwatch store copy`: opens both stores (migrating each to this build's schema) and runs <see cref="StoreCopy"/>.</summary>
+public static class StoreCopyJob
+{
+    /// <summary>Copies <paramref name="from"/> into <paramref name="to"/> and reads both back.</summary>
+    /// <param name="from">The store to copy.</param>
+    /// <param name="to">The empty store to fill.</param>
+    /// <param name="opened">Told the schema version both stores were opened at, before the copy starts.</param>
+    /// <param name="progress">Told of each table as it is copied, with its row count.</param>
+    /// <exception cref="InvalidOperationException">A store cannot be opened, the versions differ, or the target is not empty.</exception>
+    public static IReadOnlyList<TableCopyResult> Run(StoreAddress from, StoreAddress to, Action<int>? opened = null, Action<string, long>? progress = null)
+    {
+        ArgumentNullException.ThrowIfNull(from);
+        ArgumentNullException.ThrowIfNull(to);
+        using var source = new HumWatchStore(Validated(from, "--from"), TimeProvider.System);
+        using var target = new HumWatchStore(Validated(to, "--to"), TimeProvider.System);
+        opened?.Invoke(source.SchemaVersion);
+        return source.Connection.Run(s => target.Connection.Run(t => StoreCopy.Copy(s, t, target.Connection.AfterRowsCopiedWithIds, progress)));
+    }
+
+    private static StoreOptions Validated(StoreAddress address, string option)
+    {
+        var options = address.Options();
+        var errors = options.Validate();
+        return errors.Count == 0 ? options : throw new InvalidOperationException($"{option} {address.Display}: {string.Join(" ", errors)}");
     }
 }

@@ -4,19 +4,42 @@ using HumWatch.Core.Ledger;
 using HumWatch.Core.Summaries;
 using HumWatch.Host.Store;
 using HumWatch.Host.Tests.Publishing.Support;
+using HumWatch.Host.Tests.Store.Postgres;
+using HumWatch.TestSupport;
 using Microsoft.Extensions.Time.Testing;
 using Xunit;
 
 namespace HumWatch.Host.Tests.Store;
 
-public sealed class StoreCopyTests : IDisposable
+/// <summary>`store copy`: a SQLite history into an empty store of either provider, proved by counts and checksums.</summary>
+[Collection(PostgresCollection.Name)]
+public sealed class StoreCopyTests(PostgresServer server) : IDisposable
 {
     private readonly TempFolder _temp = new();
     private readonly FakeTimeProvider _time = new(new DateTimeOffset(2026, 3, 2, 12, 0, 0, TimeSpan.Zero));
+    private readonly List<IDisposable> _open = [];
 
-    public void Dispose() => _temp.Dispose();
+    public void Dispose()
+    {
+        for (var i = _open.Count - 1; i >= 0; i--)
+        {
+            _open[i].Dispose();
+        }
 
-    private HumWatchStore Open(string name, string? instance = "lab-a") => new(new StoreOptions { Path = _temp.File(name) }, _time, instance);
+        _temp.Dispose();
+    }
+
+    private HumWatchStore Open(string name, string? instance = "lab-a") => Keep(new HumWatchStore(new StoreOptions { Path = _temp.File(name) }, _time, instance));
+
+    /// <summary>An empty target store on the provider the theory row names.</summary>
+    private HumWatchStore Target(string provider) => Keep(Keep(new StoreUnderTest(provider, server, _time)).Open("lab-a"));
+
+    private T Keep<T>(T disposable)
+        where T : IDisposable
+    {
+        _open.Add(disposable);
+        return disposable;
+    }
 
     /// <summary>A store with rows in every table, each kind of column value (NULL, integers, reals, text, blobs) among them.</summary>
     private static void Fill(HumWatchStore store)
@@ -42,7 +65,7 @@ public sealed class StoreCopyTests : IDisposable
     }
 
     private static IReadOnlyList<TableCopyResult> Copy(HumWatchStore source, HumWatchStore target) =>
-        source.Connection.Run(s => target.Connection.Run(t => StoreCopy.Copy(s, t)));
+        source.Connection.Run(s => target.Connection.Run(t => StoreCopy.Copy(s, t, target.Connection.AfterRowsCopiedWithIds)));
 
     private static (long Rows, string Checksum) ChecksumOf(HumWatchStore store, string table) =>
         store.Connection.Run(c => StoreCopy.Checksum(c, table));
@@ -54,32 +77,13 @@ public sealed class StoreCopyTests : IDisposable
         return command.ExecuteNonQuery();
     });
 
-    [Fact]
-    public void Every_table_of_a_new_store_is_copied()
+    [Theory]
+    [InlineData(StoreUnderTest.Sqlite)]
+    [PostgresRow]
+    public void A_copy_holds_every_row_and_both_sides_read_back_equal(string provider)
     {
-        using var store = Open("new.db");
-        var tables = store.Connection.Run(c =>
-        {
-            using var command = c.CreateCommand();
-            command.CommandText = "SELECT name FROM sqlite_master WHERE type = 'table' AND name NOT IN ('schema_version', 'sqlite_sequence') ORDER BY name";
-            var names = new List<string>();
-            using var reader = command.ExecuteReader();
-            while (reader.Read())
-            {
-                names.Add(reader.GetString(0));
-            }
-
-            return names;
-        });
-
-        Assert.Equal(tables, StoreCopy.Tables.Order(StringComparer.Ordinal));
-    }
-
-    [Fact]
-    public void A_copy_holds_every_row_and_both_sides_read_back_equal()
-    {
-        using var source = Open("source.db");
-        using var target = Open("target.db");
+        var source = Open("source.db");
+        var target = Target(provider);
         Fill(source);
 
         var results = Copy(source, target);
@@ -99,11 +103,13 @@ public sealed class StoreCopyTests : IDisposable
         Assert.True(target.Renders.IsRendered(new DateOnly(2026, 3, 1), "UTC", "room-a"));
     }
 
-    [Fact]
-    public void New_rows_in_the_copy_take_ids_after_the_copied_ones()
+    [Theory]
+    [InlineData(StoreUnderTest.Sqlite)]
+    [PostgresRow]
+    public void New_rows_in_the_copy_take_ids_after_the_copied_ones(string provider)
     {
-        using var source = Open("source.db");
-        using var target = Open("target.db");
+        var source = Open("source.db");
+        var target = Target(provider);
         Fill(source);
         Copy(source, target);
 
@@ -112,11 +118,13 @@ public sealed class StoreCopyTests : IDisposable
         Assert.Equal(5, next);
     }
 
-    [Fact]
-    public void A_target_that_already_holds_rows_is_refused_and_left_as_it_was()
+    [Theory]
+    [InlineData(StoreUnderTest.Sqlite)]
+    [PostgresRow]
+    public void A_target_that_already_holds_rows_is_refused_and_left_as_it_was(string provider)
     {
-        using var source = Open("source.db");
-        using var target = Open("target.db");
+        var source = Open("source.db");
+        var target = Target(provider);
         Fill(source);
         target.Alerts.AppendAlert(Some.Raised(stream: "room-z"));
 
@@ -128,11 +136,13 @@ public sealed class StoreCopyTests : IDisposable
         Assert.Equal(0, ChecksumOf(target, "minute_ledger").Rows);
     }
 
-    [Fact]
-    public void Stores_of_different_schema_versions_are_refused()
+    [Theory]
+    [InlineData(StoreUnderTest.Sqlite)]
+    [PostgresRow]
+    public void Stores_of_different_schema_versions_are_refused(string provider)
     {
-        using var source = Open("source.db");
-        using var target = Open("target.db");
+        var source = Open("source.db");
+        var target = Target(provider);
         Execute(target, $"DELETE FROM schema_version WHERE version = {StoreSchema.LatestVersion}");
 
         var error = Assert.Throws<InvalidOperationException>(() => Copy(source, target));
@@ -143,8 +153,8 @@ public sealed class StoreCopyTests : IDisposable
     [Fact]
     public void The_checksum_ignores_row_order_and_sees_a_changed_value()
     {
-        using var forward = Open("forward.db");
-        using var backward = Open("backward.db");
+        var forward = Open("forward.db");
+        var backward = Open("backward.db");
         MinuteRow[] rows = [Some.Row("s1", 1, 60, 60, 3, 2), Some.Row("s1", 2, 60, 30, 5, 1, stream: "room-b"), Some.Row("s1", 3, 60, 10, 2, 1, stream: "room-c")];
         forward.Ledger.AddMinuteRows(rows);
         backward.Ledger.AddMinuteRows([.. rows.Reverse()]);
@@ -159,7 +169,7 @@ public sealed class StoreCopyTests : IDisposable
     [Fact]
     public void The_checksum_sees_a_changed_text_and_a_real_where_an_integer_was()
     {
-        using var store = Open("kinds.db");
+        var store = Open("kinds.db");
         string Sum()
         {
             return ChecksumOf(store, "store_claims").Checksum;
