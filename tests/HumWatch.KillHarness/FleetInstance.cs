@@ -69,7 +69,7 @@ internal sealed class FleetInstance : IDisposable
     /// <summary>`humwatch summary --day D --out DIR` with this instance's settings (its own process); the exit code.</summary>
     public Task<int> RenderSummaryAsync(DateOnly day, string outFolder)
     {
-        var arguments = new List<string> { "summary", "--data", Folder, "--day", day.ToString("yyyy-MM-dd", CultureInfo.InvariantCulture), "--out", outFolder };
+        var arguments = new List<string> { "summary", "--data", Folder, "--day", day.ToString("yyyy-MM-dd", CultureInfo.InvariantCulture), "--out", outFolder, "--set", ServiceProcess.MainsSetting };
         foreach (var setting in _settings)
         {
             arguments.Add("--set");

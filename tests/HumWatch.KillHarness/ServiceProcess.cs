@@ -11,6 +11,12 @@ namespace HumWatch.KillHarness;
 /// </summary>
 internal sealed partial class ServiceProcess : IDisposable
 {
+    /// <summary>
+    /// Mains fixed: rooms with both a 50 Hz and a 60 Hz line would otherwise make the estimate a coin toss. Other
+    /// commands on the same store (`summary`) need it too: it places the mains plot of a day without a fundamental.
+    /// </summary>
+    public const string MainsSetting = "Analysis:Sources:MainsHz=50";
+
     private const int SigTerm = 15;
     private readonly Process _process;
     private readonly StreamWriter _log;
@@ -37,8 +43,7 @@ internal sealed partial class ServiceProcess : IDisposable
             "--set", "Inbox:StableSeconds=0.5",
             "--set", "Inbox:RescanSeconds=0.5",
 
-            // Mains fixed: rooms with both a 50 Hz and a 60 Hz line would otherwise make the estimate a coin toss.
-            "--set", "Analysis:Sources:MainsHz=50",
+            "--set", MainsSetting,
 
             // The day summaries are not under test here; they would only add load.
             "--set", "Summaries:Enabled=false",
