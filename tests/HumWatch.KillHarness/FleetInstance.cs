@@ -42,6 +42,9 @@ internal sealed class FleetInstance : IDisposable
     /// <summary>The process's console output, every start appended.</summary>
     public string OutputLog => Path.Combine(Folder, "service-output.log");
 
+    /// <summary>The console output of the `summary` command run with this instance's settings.</summary>
+    public string SummaryLog => Path.Combine(Folder, "summary-output.log");
+
     public int IngestPort { get; }
 
     public int PublishPort { get; }
@@ -52,7 +55,7 @@ internal sealed class FleetInstance : IDisposable
     public IReadOnlyList<string> Settings => _settings;
 
     /// <summary>Where to look when something failed: the console output and the log folder.</summary>
-    public string Logs => $"{Name}: {OutputLog} and {Path.Combine(Folder, "logs")}";
+    public string Logs => $"{Name}: {OutputLog}, {SummaryLog} and {Path.Combine(Folder, "logs")}";
 
     public async Task StartAsync(CancellationToken cancel)
     {
@@ -76,7 +79,7 @@ internal sealed class FleetInstance : IDisposable
             arguments.Add(setting);
         }
 
-        return ServiceProcess.RunToEndAsync(Folder, arguments, OutputLog, TimeSpan.FromSeconds(120));
+        return ServiceProcess.RunToEndAsync(Folder, arguments, SummaryLog, TimeSpan.FromSeconds(120));
     }
 
     public void Dispose()

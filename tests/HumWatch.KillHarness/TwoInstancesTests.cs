@@ -23,7 +23,7 @@ public sealed class TwoInstancesTests(ITestOutputHelper output) : IDisposable
     private const int StreamSeconds = 150;
 
     /// <summary>Stream time per wall time while the rooms are played.</summary>
-    private const double Speed = 10;
+    private const double Speed = 5;
 
     private static readonly string[] EastRooms = ["east-1", "east-2"];
     private static readonly string[] WestRooms = ["west-1", "west-2"];
@@ -39,7 +39,8 @@ public sealed class TwoInstancesTests(ITestOutputHelper output) : IDisposable
     {
         using var server = new PostgresServer();
         var work = Directory.CreateTempSubdirectory("humwatch-fleet-").FullName;
-        var cancel = new CancellationTokenSource(TimeSpan.FromMinutes(5)).Token;
+        using var timeout = new CancellationTokenSource(TimeSpan.FromMinutes(5));
+        var cancel = timeout.Token;
         var connectionString = server.CreateDatabase();
 
         // The credentials as docs/store.md tells operators to keep them: a file readable by the service only.
