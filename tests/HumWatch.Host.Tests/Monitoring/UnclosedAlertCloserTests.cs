@@ -1,3 +1,4 @@
+using HumWatch.TestSupport;
 using System.Text.Json;
 using HumWatch.Core.Alerts;
 using HumWatch.Core.Findings;

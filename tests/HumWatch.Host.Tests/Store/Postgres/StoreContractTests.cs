@@ -1,3 +1,4 @@
+using HumWatch.TestSupport;
 using HumWatch.Core.Alerts;
 using HumWatch.Core.Findings;
 using HumWatch.Core.Ledger;

@@ -1,3 +1,4 @@
+using HumWatch.TestSupport;
 using System.Data.Common;
 using System.Reflection;
 using HumWatch.Host.Store;

@@ -3,9 +3,8 @@ using System.Globalization;
 using System.Net;
 using System.Net.Sockets;
 using Npgsql;
-using Xunit;
 
-namespace HumWatch.Host.Tests.Store.Postgres;
+namespace HumWatch.TestSupport;
 
 /// <summary>
 /// A PostgreSQL server for the store's contract tests: the one named by <see cref="ServerVariable"/> (a connection
@@ -38,6 +37,12 @@ public sealed class PostgresServer : IDisposable
     /// Short, as it goes into the skipped row's name, where xunit cuts a text argument at 50 characters.
     /// </summary>
     public static string? SkipReason { get; } = FindSkipReason();
+
+    /// <summary>
+    /// Whether a private cluster keeps PostgreSQL's durable defaults (fsync, synchronous commit, full page writes). Off
+    /// for tests, where durability is not under test; on for the bench, whose write rates must be the real ones.
+    /// </summary>
+    public bool Durable { get; init; }
 
     /// <summary>A fresh, empty database on the server; returns its connection string.</summary>
     public string CreateDatabase()
@@ -133,9 +138,10 @@ public sealed class PostgresServer : IDisposable
         var data = Path.Combine(_folder, "data");
         Run(Path.Combine(_binaries!, "initdb"), ["-D", data, "-U", "postgres", "-A", "trust", "-E", "UTF8", "--no-locale", "--no-sync"], TimeSpan.FromMinutes(2));
         var port = FreePort();
-        // Loopback only, the socket in the temp folder; durability is not under test, so no fsync.
+        // Loopback only, the socket in the temp folder; unless Durable, no fsync (durability is not under test).
+        var durability = Durable ? "" : " -c fsync=off -c synchronous_commit=off -c full_page_writes=off";
         var serverOptions = string.Create(CultureInfo.InvariantCulture,
-            $"-c listen_addresses=127.0.0.1 -p {port} -k {_folder} -c fsync=off -c synchronous_commit=off -c full_page_writes=off -c max_connections=200");
+            $"-c listen_addresses=127.0.0.1 -p {port} -k {_folder} -c max_connections=200{durability}");
         Run(Path.Combine(_binaries!, "pg_ctl"), ["-D", data, "-o", serverOptions, "-l", Path.Combine(_folder, "server.log"), "-w", "-t", "60", "start"], TimeSpan.FromMinutes(2));
         return new NpgsqlConnectionStringBuilder { Host = "127.0.0.1", Port = port, Username = "postgres", Database = "postgres", Pooling = false }.ConnectionString;
     }
@@ -223,11 +229,4 @@ public sealed class PostgresServer : IDisposable
 
         return null;
     }
-}
-
-/// <summary>The test classes that share the one <see cref="PostgresServer"/>; it is stopped when they are done.</summary>
-[CollectionDefinition(Name)]
-public sealed class PostgresCollection : ICollectionFixture<PostgresServer>
-{
-    public const string Name = "postgres";
 }
