@@ -150,6 +150,41 @@ public sealed class StoreCopyTests(PostgresServer server) : IDisposable
         Assert.Contains($"schema version {StoreSchema.LatestVersion} and the target {StoreSchema.LatestVersion - 1}", error.Message, StringComparison.Ordinal);
     }
 
+    [Theory]
+    [InlineData(StoreUnderTest.Sqlite)]
+    [PostgresRow]
+    public void The_job_opens_both_stores_from_their_addresses_a_connection_string_file_among_them(string provider)
+    {
+        using (var source = new HumWatchStore(new StoreOptions { Path = _temp.File("box.db") }, _time, "lab-a"))
+        {
+            Fill(source);
+        }
+
+        string to;
+        if (provider == StoreUnderTest.Sqlite)
+        {
+            to = "sqlite:" + _temp.File("copy.db");
+        }
+        else
+        {
+            // The connection string in a file of its own, as docs/fleet.md tells operators to keep it.
+            var file = _temp.File("store.conn");
+            File.WriteAllText(file, server.CreateDatabase());
+            to = "postgres-file:" + file;
+        }
+
+        Assert.True(StoreAddress.TryParse("sqlite:" + _temp.File("box.db"), "--from", out var from, out _));
+        Assert.True(StoreAddress.TryParse(to, "--to", out var target, out _));
+        var versions = new List<int>();
+        var tables = new List<string>();
+
+        var results = StoreCopyJob.Run(from, target, versions.Add, (table, _) => tables.Add(table));
+
+        Assert.Equal([StoreSchema.LatestVersion], versions);
+        Assert.Equal(StoreCopy.Tables, tables);
+        Assert.All(results, r => Assert.True(r.Matches, r.Table));
+    }
+
     [Fact]
     public void The_checksum_ignores_row_order_and_sees_a_changed_value()
     {
