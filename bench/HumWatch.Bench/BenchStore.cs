@@ -13,14 +13,23 @@ namespace HumWatch.Bench;
 /// <summary>Rows in the tables the service writes while it streams, and for PostgreSQL the server's own write counters.</summary>
 /// <param name="Commits">PostgreSQL: transactions committed in the database (pg_stat_database.xact_commit, reads included); 0 for SQLite.</param>
 /// <param name="WalSyncs">PostgreSQL: WAL flushes to disk, the whole cluster (pg_stat_wal.wal_sync); 0 for SQLite.</param>
-internal readonly record struct StoreCounts(long Alerts, long LedgerParts, long LedgerRows, long SpectrumParts, long StreamOwners, long Commits, long WalSyncs)
+/// <param name="TuplesWritten">PostgreSQL: rows inserted, updated or deleted in the database (pg_stat_database), upserts' updates included; 0 for SQLite.</param>
+internal readonly record struct StoreCounts(long Alerts, long LedgerParts, long LedgerRows, long SpectrumParts, long StreamOwners, long Commits, long WalSyncs, long TuplesWritten)
 {
     /// <summary>Rows inserted: alert events, ledger parts (each also merged into a ledger row), spectrum parts, stream-owner rows (inserted or updated by the heartbeat).</summary>
     public long Rows => Alerts + LedgerParts + SpectrumParts + StreamOwners;
 
     public static StoreCounts operator -(StoreCounts a, StoreCounts b) => new(
         a.Alerts - b.Alerts, a.LedgerParts - b.LedgerParts, a.LedgerRows - b.LedgerRows, a.SpectrumParts - b.SpectrumParts,
-        a.StreamOwners - b.StreamOwners, a.Commits - b.Commits, a.WalSyncs - b.WalSyncs);
+        a.StreamOwners - b.StreamOwners, a.Commits - b.Commits, a.WalSyncs - b.WalSyncs, a.TuplesWritten - b.TuplesWritten);
+
+    /// <summary>
+    /// Without <paramref name="appends"/> probe appends: each is one alert row and, on PostgreSQL, one commit, one WAL
+    /// flush (synchronous_commit on) and one tuple.
+    /// </summary>
+    public StoreCounts WithoutProbe(int appends, StoreProvider provider) => provider == StoreProvider.Postgres
+        ? this with { Alerts = Alerts - appends, Commits = Commits - appends, WalSyncs = WalSyncs - appends, TuplesWritten = TuplesWritten - appends }
+        : this with { Alerts = Alerts - appends };
 }
 
 /// <summary>
@@ -129,6 +138,8 @@ internal sealed class BenchStore : IDisposable
     /// <summary>One step's store.</summary>
     internal sealed class StepStore(StoreProvider provider, string location, IReadOnlyDictionary<string, string?> settings)
     {
+        public StoreProvider Provider => provider;
+
         /// <summary>The Store: keys the host gets.</summary>
         public IReadOnlyDictionary<string, string?> Settings => settings;
 
@@ -151,10 +162,13 @@ internal sealed class BenchStore : IDisposable
             postgres.Open();
             var counts = Rows(postgres);
             using var stats = postgres.CreateCommand();
-            stats.CommandText = "SELECT (SELECT xact_commit FROM pg_stat_database WHERE datname = current_database()), (SELECT wal_sync FROM pg_stat_wal)";
+            stats.CommandText = """
+                SELECT xact_commit, tup_inserted + tup_updated + tup_deleted, (SELECT wal_sync FROM pg_stat_wal)
+                FROM pg_stat_database WHERE datname = current_database()
+                """;
             using var reader = stats.ExecuteReader();
             reader.Read();
-            return counts with { Commits = reader.GetInt64(0), WalSyncs = reader.GetInt64(1) };
+            return counts with { Commits = reader.GetInt64(0), TuplesWritten = reader.GetInt64(1), WalSyncs = reader.GetInt64(2) };
         }
 
         private static StoreCounts Rows(DbConnection connection)
@@ -163,7 +177,7 @@ internal sealed class BenchStore : IDisposable
             command.CommandText = CountSql;
             using var reader = command.ExecuteReader();
             reader.Read();
-            return new StoreCounts(reader.GetInt64(0), reader.GetInt64(1), reader.GetInt64(2), reader.GetInt64(3), reader.GetInt64(4), 0, 0);
+            return new StoreCounts(reader.GetInt64(0), reader.GetInt64(1), reader.GetInt64(2), reader.GetInt64(3), reader.GetInt64(4), 0, 0, 0);
         }
     }
 }

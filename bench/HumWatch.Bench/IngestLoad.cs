@@ -234,7 +234,7 @@ internal sealed class IngestLoad(int channels, int sampleRateHz, double chunkSec
                         gen0,
                         socketCpuPercent)
                     {
-                        StoreWritten = (storeNow - storeStart) with { Alerts = storeNow.Alerts - storeStart.Alerts - probe.Count },
+                        StoreWritten = (storeNow - storeStart).WithoutProbe(probe.Count, stepStore.Provider),
                         StoreSeconds = storeSeconds,
                         ProbeAppendMs = probe.Milliseconds,
                         ProbeFailures = probe.Failures,
@@ -250,7 +250,7 @@ internal sealed class IngestLoad(int channels, int sampleRateHz, double chunkSec
             // After disposal the service's connections are closed, so PostgreSQL has flushed their statistics too.
             Thread.Sleep(500);
             var storeEnd = stepStore.Count() - storeStart;
-            return result with { StoreWrittenWithStop = storeEnd with { Alerts = storeEnd.Alerts - result.ProbeAppendMs.Count } };
+            return result with { StoreWrittenWithStop = storeEnd.WithoutProbe(result.ProbeAppendMs.Count, stepStore.Provider) };
         }
         finally
         {

@@ -52,7 +52,7 @@ internal sealed class StreamsSection : IBenchmarkSection
         Console.WriteLine("alert latency: from the wall time the pusher's send of the chunk holding the raising frame's last sample returned (sample index round(streamSeconds·fs) − 1, streamSeconds from the alert body) to the wall time the 'alert/load-tagged' raise arrived at a SUB socket in this process; the dispatcher stores the event before it publishes, so the store's commit is inside it");
         Console.WriteLine("dropped/accepted/rejected: IngestCounters of the host (ingest queue and per-stream queues), read about 2 s after the last send; missing = sent − accepted − rejected − dropped, floored at 0 (chunks the service never counted; a failure); CPU %: process CPU time ÷ wall time (100 % = one core; pushers and subscriber included, pusher share shown); memory: process working set and live managed heap (after a full collection) at the end of the step, host still running; each step starts after a full collection");
         Console.WriteLine("dropped by reason: IngestDropReason counts summed over streams; gen0/gen2: collections during the step (every collection counts as gen0); alloc MB/s: managed bytes allocated in the process (pushers included) ÷ wall time; GC pause s: total pause time during the step / longest single pause seen (polled every 20 ms); socket %: CPU of the ingest socket thread (receive + decode) ÷ wall time; queue peak: most chunks waiting in the ingest queue at once; buffer peak MB: most decoded-sample bytes rented at once (ingest queue + per-stream queues + in analysis)");
-        Console.WriteLine("store: rows counted in the tables from a connection of the bench's own, from the host's start to the counters' reading (and to its disposal, which writes the sessions' last rows): alerts, minute_ledger_parts (each also merged into a minute_ledger row), spectrum_parts, stream_owners; rows/s over that time; PostgreSQL also commits (pg_stat_database.xact_commit of the step's database, reads included) and WAL flushes (pg_stat_wal.wal_sync, the cluster); probe: one AppendAlert of a 50 Hz raise (stream 'bench-probe', not counted in the alerts above) on the service's own HumWatchStore every second during the step, timed");
+        Console.WriteLine("store: rows counted in the tables from a connection of the bench's own, from the host's start to the counters' reading (and to its disposal, which writes the sessions' last rows): alerts, minute_ledger_parts (each also merged into a minute_ledger row), spectrum_parts, stream_owners; rows/s over that time; stream_owners rows are upserted by every heartbeat (10 s), which this row count does not see; PostgreSQL also the server's own counts: rows written (pg_stat_database tup_inserted + tup_updated + tup_deleted of the step's database, upserts' updates included), commits (xact_commit, reads included) and WAL flushes (pg_stat_wal.wal_sync, the cluster); the probe's appends are taken out of all of these; probe: one AppendAlert of a 50 Hz raise (stream 'bench-probe', not counted in the alerts above) on the service's own HumWatchStore every second during the step, timed");
         Console.WriteLine($"load average at start: {LoadAverage()}");
         var clock = Stopwatch.StartNew();
         var results = new List<(BenchStore Store, IReadOnlyList<Step> Steps32, IReadOnlyList<Step> Steps64, double[] Appends)>();
@@ -207,13 +207,13 @@ internal sealed class StreamsSection : IBenchmarkSection
         var text = new System.Text.StringBuilder(F($"       store: {w.Alerts} alerts, {w.LedgerParts} ledger parts ({w.LedgerRows} ledger rows), {w.SpectrumParts} spectrum parts, {w.StreamOwners} stream-owner rows in {r.StoreSeconds:F0} s = {RowsPerSecond(r):F1} rows/s"));
         if (w.Commits > 0)
         {
-            text.Append(F($", {w.Commits / r.StoreSeconds:F1} commits/s, {w.WalSyncs / r.StoreSeconds:F1} WAL flushes/s"));
+            text.Append(F($"; server: {w.TuplesWritten / r.StoreSeconds:F1} rows written/s, {w.Commits / r.StoreSeconds:F1} commits/s, {w.WalSyncs / r.StoreSeconds:F1} WAL flushes/s"));
         }
 
         text.Append(F($"; to disposal: {all.Alerts} alerts, {all.LedgerParts} ledger parts, {all.SpectrumParts} spectrum parts, {all.StreamOwners} stream-owner rows"));
         if (all.Commits > 0)
         {
-            text.Append(F($", {all.Commits} commits, {all.WalSyncs} WAL flushes"));
+            text.Append(F($", server: {all.TuplesWritten} rows written, {all.Commits} commits, {all.WalSyncs} WAL flushes"));
         }
 
         var probe = r.ProbeAppendMs;
