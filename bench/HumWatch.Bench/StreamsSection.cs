@@ -116,7 +116,7 @@ internal sealed class StreamsSection : IBenchmarkSection
         Console.WriteLine($"side by side ({b.Store.Name} − {a.Store.Name}):");
         if (a.Appends.Length > 0 && b.Appends.Length > 0)
         {
-            Console.WriteLine(F($"AppendAlert alone: median {Median(a.Appends):F2} → {Median(b.Appends):F2} ms (added {Median(b.Appends) - Median(a.Appends):+0.00;-0.00} ms), p95 {Quantile(a.Appends, 0.95):F2} → {Quantile(b.Appends, 0.95):F2} ms (added {Quantile(b.Appends, 0.95) - Quantile(a.Appends, 0.95):+0.00;-0.00} ms)"));
+            Console.WriteLine(F($"AppendAlert alone: median {Median(a.Appends):F2} → {Median(b.Appends):F2} ms (added {Signed(Median(b.Appends) - Median(a.Appends))} ms), p95 {Quantile(a.Appends, 0.95):F2} → {Quantile(b.Appends, 0.95):F2} ms (added {Signed(Quantile(b.Appends, 0.95) - Quantile(a.Appends, 0.95))} ms)"));
         }
 
         Console.WriteLine($"{"shape",-16} {"N",6} {"latency s",17} {"added s",8} {"probe p50 ms",15} {"probe p95 ms",15} {"rows/s",15} {"verdicts",15}");
@@ -130,10 +130,17 @@ internal sealed class StreamsSection : IBenchmarkSection
                     continue;
                 }
 
-                var added = x.Result.AlertLatencySeconds is { } lx && y.Result.AlertLatencySeconds is { } ly ? F($"{ly - lx:+0.00;-0.00}") : "-";
+                var added = x.Result.AlertLatencySeconds is { } lx && y.Result.AlertLatencySeconds is { } ly ? Signed(ly - lx) : "-";
                 Console.WriteLine(F($"{shape,-16} {x.Result.Streams,6} {$"{Latency(x.Result)} → {Latency(y.Result)}",17} {added,8} {$"{Median(x.Result.ProbeAppendMs):F1} → {Median(y.Result.ProbeAppendMs):F1}",15} {$"{Quantile(x.Result.ProbeAppendMs, 0.95):F1} → {Quantile(y.Result.ProbeAppendMs, 0.95):F1}",15} {$"{RowsPerSecond(x.Result):F1} → {RowsPerSecond(y.Result):F1}",15} {$"{Verdict(x)} → {Verdict(y)}",15}"));
             }
         }
+    }
+
+    /// <summary>A difference with its sign, two decimals; one that rounds to zero is "±0.00".</summary>
+    private static string Signed(double value)
+    {
+        var rounded = Math.Round(value, 2);
+        return rounded == 0 ? "±0.00" : F($"{(rounded > 0 ? "+" : "−")}{Math.Abs(rounded):F2}");
     }
 
     private static string Latency(LoadResult r) => r.AlertLatencySeconds is { } v ? F($"{v:F2}") : "none";
