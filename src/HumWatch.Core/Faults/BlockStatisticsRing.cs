@@ -141,6 +141,8 @@ internal sealed class BlockStatisticsRing
         Reference[cell], Sum[cell], SumSquares[cell], Finite[cell], Clipped[cell], NonFinite[cell],
         Max[cell], Min[cell], AtMax[cell], AtMin[cell], Last[cell], MinStep[cell]);
 
+    // Generic over the lane type, so never in the ReadyToRun image: optimised at first call instead of running unoptimised until tiering.
+    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
     private int AddGroups<TOps, TVec>(ReadOnlySpan<float> channelMajor, int first, int stride, int count, int baseCell, int c)
         where TOps : struct, ILaneLogic<TVec, double>
         where TVec : unmanaged

@@ -141,6 +141,8 @@ internal sealed class ComplexFftPlan
     /// each element is one lane pack (1, 4 or 8 channels) of <typeparamref name="TScalar"/> (double or float). Output in
     /// natural order, unscaled.
     /// </summary>
+    // Generic over the lane type, so never in the ReadyToRun image: optimised at first call instead of running unoptimised until tiering.
+    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
     public void Forward<TOps, TVec, TScalar>(Span<TVec> re, Span<TVec> im)
         where TOps : struct, ILaneOps<TVec, TScalar>
         where TVec : struct

@@ -92,6 +92,8 @@ internal sealed class LaneGroupPeriodogram<TOps, TVec, TScalar> : ILanePeriodogr
     public int Lanes => TOps.Lanes;
 
     /// <inheritdoc/>
+    // Generic over the lane type, so never in the ReadyToRun image: optimised at first call instead of running unoptimised until tiering.
+    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
     public void Compute(ReadOnlySpan<TScalar> samples, int channelCount, int sampleStride, Span<TScalar> periodograms)
     {
         var lanes = TOps.Lanes;
@@ -190,6 +192,7 @@ internal sealed class LaneGroupPeriodogram<TOps, TVec, TScalar> : ILanePeriodogr
     }
 
     // Per-lane segment means into _meanHigh/_meanLow: float64 from the sum of pass 1, float32 from the transposed raw samples.
+    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
     private void Means(ReadOnlySpan<TVec> raw, TVec sum)
     {
         var lanes = TOps.Lanes;
@@ -244,6 +247,7 @@ internal sealed class LaneGroupPeriodogram<TOps, TVec, TScalar> : ILanePeriodogr
     }
 
     /// <summary>FFT, then scaled power per bin back into the scratch: bin k (k &lt; M) at re[k]; for even N, bin M at im[0].</summary>
+    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
     private void Transform()
     {
         var re = MemoryMarshal.Cast<TScalar, TVec>(_re.Span);

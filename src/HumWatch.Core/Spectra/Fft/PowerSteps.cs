@@ -60,6 +60,8 @@ internal static class PowerSteps
     }
 
     /// <summary>The values of <paramref name="values"/> in <typeparamref name="TScalar"/> (rounded once for float32).</summary>
+    // Generic over the lane type, so never in the ReadyToRun image: optimised at first call instead of running unoptimised until tiering.
+    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
     public static TScalar[] Round<TScalar>(ReadOnlySpan<double> values)
         where TScalar : unmanaged, IFloatingPointIeee754<TScalar>
     {
