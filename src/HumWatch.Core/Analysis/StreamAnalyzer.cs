@@ -1,4 +1,3 @@
-using System.Runtime.CompilerServices;
 using System.Runtime.InteropServices;
 using System.Runtime.Intrinsics;
 using HumWatch.Core.Attribution;
@@ -228,8 +227,6 @@ public sealed class StreamAnalyzer
     }
 
     // total[b] += add[b]; lane-wise, so the same bits as the plain loop.
-    // Needs AVX, which the ReadyToRun image does not assume: optimised at first call instead of running unoptimised until tiering.
-    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
     private static void AddInto(Span<double> total, ReadOnlySpan<double> add)
     {
         var b = 0;
@@ -250,8 +247,6 @@ public sealed class StreamAnalyzer
     }
 
     // values[b] *= factor; lane-wise, so the same bits as the plain loop.
-    // Needs AVX, which the ReadyToRun image does not assume: optimised at first call instead of running unoptimised until tiering.
-    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
     private static void Scale(Span<double> values, double factor)
     {
         var b = 0;

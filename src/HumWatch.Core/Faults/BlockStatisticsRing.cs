@@ -141,8 +141,6 @@ internal sealed class BlockStatisticsRing
         Reference[cell], Sum[cell], SumSquares[cell], Finite[cell], Clipped[cell], NonFinite[cell],
         Max[cell], Min[cell], AtMax[cell], AtMin[cell], Last[cell], MinStep[cell]);
 
-    // Generic over the lane type, so never in the ReadyToRun image: optimised at first call instead of running unoptimised until tiering.
-    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
     private int AddGroups<TOps, TVec>(ReadOnlySpan<float> channelMajor, int first, int stride, int count, int baseCell, int c)
         where TOps : struct, ILaneLogic<TVec, double>
         where TVec : unmanaged
@@ -242,7 +240,6 @@ internal sealed class BlockStatisticsRing
     // sample adds +0, which changes no sum because a sum that starts at +0 is never −0, and is masked out of every
     // comparison), so the statistics are bit-identical to one Accumulate call per channel. Channel c + j's samples start
     // at first + j·stride.
-    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
     private void AccumulateLanes<TOps, TVec>(ReadOnlySpan<float> channelMajor, int first, int stride, int count, int cell, int channel)
         where TOps : struct, ILaneLogic<TVec, double>
         where TVec : unmanaged

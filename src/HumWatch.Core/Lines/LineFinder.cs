@@ -260,8 +260,6 @@ internal sealed class LineFinder
     // then ÷ 6), so it rejects exactly the bins Consider would reject at those two tests. Passing bins get the full scalar
     // test. NaN semantics match the scalar comparisons: a test written "p &lt; x ⇒ reject" rejects only when the
     // comparison is true. Returns the first bin not covered.
-    // Generic over the lane type, so never in the ReadyToRun image: optimised at first call instead of running unoptimised until tiering.
-    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
     private int Prefilter<TOps, TVec>(ReadOnlySpan<double> psd, int k, int interiorLast, ref int kept)
         where TOps : struct, ILaneLogic<TVec, double>
         where TVec : struct

@@ -177,8 +177,6 @@ public sealed class SlidingWelch
     }
 
     // target[i] = source[i] widened to double, or 0 where it is not finite (v − v is 0 exactly when v is finite).
-    // Needs AVX, which the ReadyToRun image does not assume: optimised at first call instead of running unoptimised until tiering.
-    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
     private static void WidenFinite(ReadOnlySpan<float> source, Span<double> target)
     {
         var i = 0;
@@ -316,8 +314,6 @@ public sealed class SlidingWelch
     // span: per bin ((row₀ + row₁) + …) / K. The vector loop does exactly those operations per lane, so it gives the
     // same bits. Done on first use inside OnSpan (while the consumer is about to read it, so it is still in cache) and
     // for the rest of the channels right after OnSpan, before later segments can replace the rows.
-    // Needs AVX, which the ReadyToRun image does not assume: optimised at first call instead of running unoptimised until tiering.
-    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
     private void AverageChannel(int channel)
     {
         var k = SegmentsPerSpan;

@@ -141,8 +141,6 @@ internal sealed class ComplexFftPlan
     /// each element is one lane pack (1, 4 or 8 channels) of <typeparamref name="TScalar"/> (double or float). Output in
     /// natural order, unscaled.
     /// </summary>
-    // Generic over the lane type, so never in the ReadyToRun image: optimised at first call instead of running unoptimised until tiering.
-    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
     public void Forward<TOps, TVec, TScalar>(Span<TVec> re, Span<TVec> im)
         where TOps : struct, ILaneOps<TVec, TScalar>
         where TVec : struct
@@ -221,7 +219,6 @@ internal sealed class ComplexFftPlan
 
         // One stage: sub-transforms of length subLength are combined r at a time; butterfly j of each block of r·subLength
         // takes elements j, j + subLength, … (r of them) and twiddles 1 … r − 1 of offset j (none on the first stage).
-        [MethodImpl(MethodImplOptions.AggressiveOptimization)]
         public static void Stage(Span<TVec> re, Span<TVec> im, int subLength, int r, ReadOnlySpan<TScalar> twiddles)
         {
             var n = re.Length;

@@ -92,8 +92,6 @@ internal sealed class LaneGroupPeriodogram<TOps, TVec, TScalar> : ILanePeriodogr
     public int Lanes => TOps.Lanes;
 
     /// <inheritdoc/>
-    // Generic over the lane type, so never in the ReadyToRun image: optimised at first call instead of running unoptimised until tiering.
-    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
     public void Compute(ReadOnlySpan<TScalar> samples, int channelCount, int sampleStride, Span<TScalar> periodograms)
     {
         var lanes = TOps.Lanes;
@@ -114,7 +112,6 @@ internal sealed class LaneGroupPeriodogram<TOps, TVec, TScalar> : ILanePeriodogr
 
     private static bool IsSingle => typeof(TScalar) == typeof(float);
 
-    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
     private void Load(ReadOnlySpan<TScalar> samples)
     {
         var lanes = TOps.Lanes;
@@ -192,7 +189,6 @@ internal sealed class LaneGroupPeriodogram<TOps, TVec, TScalar> : ILanePeriodogr
     }
 
     // Per-lane segment means into _meanHigh/_meanLow: float64 from the sum of pass 1, float32 from the transposed raw samples.
-    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
     private void Means(ReadOnlySpan<TVec> raw, TVec sum)
     {
         var lanes = TOps.Lanes;
@@ -247,7 +243,6 @@ internal sealed class LaneGroupPeriodogram<TOps, TVec, TScalar> : ILanePeriodogr
     }
 
     /// <summary>FFT, then scaled power per bin back into the scratch: bin k (k &lt; M) at re[k]; for even N, bin M at im[0].</summary>
-    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
     private void Transform()
     {
         var re = MemoryMarshal.Cast<TScalar, TVec>(_re.Span);
@@ -264,7 +259,6 @@ internal sealed class LaneGroupPeriodogram<TOps, TVec, TScalar> : ILanePeriodogr
     }
 
     /// <summary>Copies lanes 0 … <paramref name="count"/> − 1 of the power in the scratch into consecutive output rows.</summary>
-    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
     private void Unload(int count, Span<TScalar> rows)
     {
         var lanes = TOps.Lanes;
