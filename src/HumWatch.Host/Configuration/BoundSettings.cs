@@ -153,6 +153,7 @@ public sealed class BoundSettings
         {
             // Nothing set: the binder would leave the defaults as they are, after reflecting over the whole class.
             errors.AddRange(validate(options));
+            TmpTiming.Mark("validated unbound " + name);
             return options;
         }
 
@@ -169,7 +170,9 @@ public sealed class BoundSettings
             return options;
         }
 
+        TmpTiming.Mark("bound " + name);
         errors.AddRange(validate(options));
+        TmpTiming.Mark("validated " + name);
         return options;
     }
 
