@@ -8,7 +8,6 @@ internal static class Program
 {
     private static int Main(string[] args)
     {
-        HumWatch.Host.TmpTiming.Mark("main");
         var root = new RootCommand("HumWatch — watches EEG recordings for mains hum, display refresh lines and other narrowband contamination.")
         {
             CheckCommand.Create(),
@@ -22,7 +21,6 @@ internal static class Program
         };
 
         var parse = root.Parse(args);
-        HumWatch.Host.TmpTiming.Mark("parsed");
 
         // Bad arguments are exit code 2, as for unreadable input; System.CommandLine's own default would be 1.
         if (parse.Errors.Count > 0)
@@ -43,9 +41,7 @@ internal static class Program
             return ExitCodes.BadInput;
         }
 
-        var rc = parse.Invoke();
-        HumWatch.Host.TmpTiming.Mark("invoked");
-        return rc;
+        return parse.Invoke();
     }
 
     /// <summary>"humwatch" for the root, "humwatch check" for a command (the root's name is the executable's, so it is spelled out).</summary>

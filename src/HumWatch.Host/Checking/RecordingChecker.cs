@@ -87,7 +87,6 @@ public sealed class RecordingChecker
         CancellationToken cancellationToken)
     {
         using var reader = RecordingReader.Open(path);
-        TmpTiming.Mark("reader open");
         var info = reader.Info;
         var notes = new List<string>();
         if (info.Groups.Count == 0)
@@ -119,12 +118,10 @@ public sealed class RecordingChecker
 
         // One long file on several cores: split it in time when the format allows, else spread each group's spectra.
         var blocked = BlockedAnalysis.TryPlan(path, reader, _analysis, _threads);
-        TmpTiming.Mark("planned " + (blocked is null ? "one pass" : "blocks"));
         var gapCounts = blocked is null
             ? AnalyseInOnePass(reader, sinks, progress, cancellationToken)
             : AnalyseInBlocks(blocked, sinks, progress, cancellationToken);
 
-        TmpTiming.Mark("analysed");
         var lines = new List<CheckLine>();
         var faults = new List<CheckFault>();
         var verdict = Verdict.Pass;
@@ -201,7 +198,6 @@ public sealed class RecordingChecker
             notes.Add(string.Create(CultureInfo.InvariantCulture, $"The recording shows a {conflict:0.##} Hz grid (its fundamental on most channels, with harmonics) and no {configured:0.##} Hz fundamental, but the settings say {configured:0.##} Hz: check Analysis:Sources:MainsHz or --mains. Lines were attributed against {configured:0.##} Hz."));
         }
 
-        TmpTiming.Mark("folded");
         var primary = groups.OrderByDescending(g => g.Layout.ChannelCount).First().Layout;
         return new CheckReport
         {

@@ -111,12 +111,10 @@ public sealed class BoundSettings
     {
         ArgumentNullException.ThrowIfNull(configuration);
         var schema = SettingsSchema.Check(configuration, sourceOf);
-        TmpTiming.Mark("schema");
         var errors = new List<string>(earlierProblems);
         errors.AddRange(schema.Errors);
         var analysis = Section<AnalysisOptions>(configuration, nameof(Analysis), schema, errors, o => o.Validate(nameof(Analysis)), ReplaceConfiguredSourceLists);
         var check = Section<CheckLimits>(configuration, nameof(Check), schema, errors, o => o.Validate(nameof(Check)));
-        TmpTiming.Mark("analysis+check bound");
         var alerts = Section<AlertOptions>(configuration, nameof(Alerts), schema, errors, o => o.Validate(nameof(Alerts)));
         var monitor = Section<MonitorOptions>(configuration, nameof(Monitor), schema, errors, o => o.Validate());
         var publish = Section<PublishOptions>(configuration, nameof(Publish), schema, errors, o => o.Validate());
@@ -129,7 +127,6 @@ public sealed class BoundSettings
         var notify = Section<NotifyOptions>(configuration, nameof(Notify), schema, errors, o => o.Validate());
         var web = Section<WebOptions>(configuration, nameof(Web), schema, errors, o => o.Validate(publish.StatusIntervalSeconds));
         var instance = Section<InstanceOptions>(configuration, nameof(Instance), schema, errors, o => o.Validate());
-        TmpTiming.Mark("all bound");
         if (errors.Count > 0)
         {
             throw new ConfigurationException(string.Join(Environment.NewLine, errors));
@@ -153,7 +150,6 @@ public sealed class BoundSettings
         {
             // Nothing set: the binder would leave the defaults as they are, after reflecting over the whole class.
             errors.AddRange(validate(options));
-            TmpTiming.Mark("validated unbound " + name);
             return options;
         }
 
@@ -170,9 +166,7 @@ public sealed class BoundSettings
             return options;
         }
 
-        TmpTiming.Mark("bound " + name);
         errors.AddRange(validate(options));
-        TmpTiming.Mark("validated " + name);
         return options;
     }
 

@@ -34,7 +34,6 @@ public static class SettingsBuilder
     public static BoundSettings Build(SettingsSources sources)
     {
         var (root, names, environmentProblems) = LayerNamed(sources);
-        TmpTiming.Mark("layered");
         return BoundSettings.Bind(root, key => SourceOf(root, names, key), environmentProblems);
     }
 

@@ -103,11 +103,8 @@ internal static class CheckCommand
     private static async Task<int> RunAsync(CheckRequest request, int? mains, string[] configFiles, string[] settings, CancellationToken cancellationToken)
     {
         using var settingsErrors = new StringWriter();
-        HumWatch.Host.TmpTiming.Mark("check action");
         var sources = Sources(configFiles, settings, mains, settingsErrors);
-        HumWatch.Host.TmpTiming.Mark("sources");
         var bound = sources is null ? null : CommandSettings.TryBuild("check", sources, settingsErrors);
-        HumWatch.Host.TmpTiming.Mark("bound");
         Func<int, RecordingChecker>? checkerFor = null;
         if (bound is not null)
         {
@@ -115,7 +112,6 @@ internal static class CheckCommand
             {
                 _ = new RecordingChecker(bound.Analysis, bound.Check); // validates the settings before any file is read
                 checkerFor = threads => new RecordingChecker(bound.Analysis, bound.Check, threads);
-                HumWatch.Host.TmpTiming.Mark("checker validated");
             }
             catch (ArgumentException ex)
             {

@@ -92,15 +92,12 @@ internal sealed class DatasetCheck
 
                 progress?.FileStarted(index);
                 var watch = Stopwatch.StartNew();
-                HumWatch.Host.TmpTiming.Mark("file start");
                 var report = checker.Check(file.ReportPath, progress?.For(index) ?? fileProgress, cancellationToken);
                 var checkTime = watch.Elapsed;
-                HumWatch.Host.TmpTiming.Mark("file checked");
                 var fingerprint = _fingerprint ? Fingerprint(file) : null;
                 InterlockedMax(ref worstExit, report.ExitCode);
                 Interlocked.Increment(ref checkedCount);
                 Finish(index, new CheckedFile(file, report, checkTime, fingerprint), null);
-                HumWatch.Host.TmpTiming.Mark("file handed on");
             }
         }
 

@@ -24,7 +24,6 @@ internal static class DatasetCommand
     {
         var walk = DatasetWalk.Collect(request.Inputs);
         ReportPassedOver(walk.PassedOver);
-        HumWatch.Host.TmpTiming.Mark("walked");
         var isDataset = walk.Files.Count != 1 || request.Inputs.Any(Directory.Exists);
         if (walk.Files.Count == 0)
         {
@@ -81,7 +80,6 @@ internal static class DatasetCommand
             table?.Write(CheckTable.Row(done.File.TablePath, report, done.CheckTime, done.Fingerprint));
         }
 
-        HumWatch.Host.TmpTiming.Mark("before DatasetCheck");
         var check = new DatasetCheck(checkerFor, Environment.ProcessorCount, alreadyChecked, fingerprint: table is not null);
         DatasetOutcome outcome;
         if (progress is null)
@@ -96,7 +94,6 @@ internal static class DatasetCommand
             outcome = await ShowProgressAsync(console!, progress, () => check.RunAsync(walk.Files, OnChecked, progress, null, cancellationToken)).ConfigureAwait(false);
         }
 
-        HumWatch.Host.TmpTiming.Mark("checked all");
         if (text is not null)
         {
             CheckReportText.WriteCaution(text, anyHint);
