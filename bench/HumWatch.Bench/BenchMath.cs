@@ -24,6 +24,37 @@ internal static class BenchMath
         return sorted.Length % 2 == 1 ? sorted[mid] : 0.5 * (sorted[mid - 1] + sorted[mid]);
     }
 
+    /// <summary>The <paramref name="fraction"/> quantile of <paramref name="values"/> by nearest rank (0.95: the value 95 % of them do not exceed); NaN when empty.</summary>
+    public static double Quantile(IReadOnlyList<double> values, double fraction)
+    {
+        if (values.Count == 0)
+        {
+            return double.NaN;
+        }
+
+        var sorted = values.ToArray();
+        Array.Sort(sorted);
+        var rank = (int)Math.Ceiling(fraction * sorted.Length);
+        return sorted[Math.Clamp(rank, 1, sorted.Length) - 1];
+    }
+
+    /// <summary>
+    /// Removes "--name value" from <paramref name="args"/> and returns the value; null when the option is absent. For the
+    /// few options that are not integers (<see cref="ParseIntOptions"/> takes the rest).
+    /// </summary>
+    public static string? TakeTextOption(ref string[] args, string name)
+    {
+        var i = Array.IndexOf(args, name);
+        if (i < 0 || i + 1 >= args.Length)
+        {
+            return null;
+        }
+
+        var value = args[i + 1];
+        args = [.. args[..i], .. args[(i + 2)..]];
+        return value;
+    }
+
     /// <summary>The 1/5/15-minute load averages from /proc/loadavg, or "n/a".</summary>
     public static string LoadAverage()
     {

@@ -18,6 +18,7 @@ internal static class Program
             SummaryCommand.Create(),
             KeysCommand.Create(),
             WebPasswordCommand.Create(),
+            StoreCommand.Create(),
         };
 
         var parse = root.Parse(args);

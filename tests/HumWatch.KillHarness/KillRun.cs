@@ -1,11 +1,8 @@
 using System.Diagnostics;
 using System.Net;
 using System.Net.Sockets;
-using HumWatch.Formats.Wire;
 using HumWatch.Simulation;
 using Microsoft.Data.Sqlite;
-using NetMQ;
-using NetMQ.Sockets;
 
 namespace HumWatch.KillHarness;
 
@@ -50,10 +47,7 @@ internal sealed class KillRun
         var service = await ServiceProcess.StartAsync(dataFolder, ingestPort, publishPort, logPath, cancel);
         try
         {
-            using var push = new PushSocket();
-            push.Options.Linger = TimeSpan.Zero;
-            push.Options.SendHighWatermark = 10_000;
-            push.Connect($"tcp://127.0.0.1:{ingestPort}");
+            using var sender = new ChunkSender(ingestPort);
             var points = withKills ? new Queue<KillPoint>(_plan.Points) : new Queue<KillPoint>();
             var paced = Stopwatch.StartNew();
             var pacedFrom = 0L;
@@ -68,8 +62,7 @@ internal sealed class KillRun
                 for (var r = 0; r < simulators.Count; r++)
                 {
                     var samples = (int)Math.Round(KillPlan.ChunkSeconds * KillPlan.SampleRateHz);
-                    var message = ChunkWireCodec.Encode(KillPlan.StreamId(r), simulators[r].Next(samples));
-                    push.SendMoreFrame(message.Header).SendFrame(message.Samples);
+                    sender.Send(KillPlan.StreamId(r), simulators[r].Next(samples));
                 }
 
                 while (points.Count > 0 && points.Peek().Chunk == chunk)
@@ -129,7 +122,7 @@ internal sealed class KillRun
 
     /// <summary>
     /// A 5 min recording (long enough that its check takes a good part of a second) of its own room (mains from 5 s on, a seed of its own so every file's content differs),
-    /// written under a .part name the inbox ignores and then renamed, as a careful copier does.
+    /// dropped into the inbox as a careful copier does (<see cref="RecordingFile.Drop"/>).
     /// </summary>
     private string DropFile(string inbox, int index, Random random)
     {
@@ -141,9 +134,7 @@ internal sealed class KillRun
             Channels = SimulatedRoom.Montage(KillPlan.Channels),
             Tones = [new SimulatedTone { Name = "mains", FrequencyHz = 50, AmplitudeUvRms = 4 + (8 * random.NextDouble()), OnsetSeconds = 5 }],
         };
-        var part = Path.Combine(inbox, name + ".part");
-        RecordingFile.Write(new RoomSimulator(room, 1000 + index), part, seconds: 300, _plan.Options.StartUtc.UtcDateTime.AddMinutes(index));
-        File.Move(part, Path.Combine(inbox, name));
+        RecordingFile.Drop(new RoomSimulator(room, 1000 + index), inbox, name, seconds: 300, _plan.Options.StartUtc.UtcDateTime.AddMinutes(index));
         return name;
     }
 
@@ -173,7 +164,8 @@ internal sealed class KillRun
         }
     }
 
-    private static int FreePort()
+    /// <summary>A free loopback TCP port (taken from the system, then released for the service to bind).</summary>
+    internal static int FreePort()
     {
         using var listener = new TcpListener(IPAddress.Loopback, 0);
         listener.Start();

@@ -240,7 +240,6 @@ internal sealed class BlockStatisticsRing
     // sample adds +0, which changes no sum because a sum that starts at +0 is never −0, and is masked out of every
     // comparison), so the statistics are bit-identical to one Accumulate call per channel. Channel c + j's samples start
     // at first + j·stride.
-    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
     private void AccumulateLanes<TOps, TVec>(ReadOnlySpan<float> channelMajor, int first, int stride, int count, int cell, int channel)
         where TOps : struct, ILaneLogic<TVec, double>
         where TVec : unmanaged

@@ -12,7 +12,6 @@ namespace HumWatch.Formats.Edf;
 /// </summary>
 internal static class Int16Decoder
 {
-    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
     public static void Decode(ReadOnlySpan<short> digital, Span<float> physicalUv, double scale, double offset)
     {
         if (physicalUv.Length < digital.Length)

@@ -19,6 +19,10 @@ namespace HumWatch.Host.Checking;
 internal sealed class BlockedAnalysis
 {
     private const double MinBlockSeconds = 64;
+
+    // A file shorter than a block per worker is still split, one block per worker, down to blocks of this length: its
+    // warm-up is then a larger share of the work, but a short check's wall time is mostly that one pass.
+    private const double MinShortBlockSeconds = 8;
     private const double MaxBlockSeconds = 512;
 
     // A hop grid that meets the record grid only this rarely is not worth splitting on.
@@ -91,6 +95,11 @@ internal sealed class BlockedAnalysis
         warmUpRecords = RoundUp(warmUpRecords, unit);
         var durationSeconds = ranges.RecordCount * recordSeconds;
         var targetSeconds = Math.Clamp(durationSeconds / (4.0 * workers), MinBlockSeconds, MaxBlockSeconds);
+        if (durationSeconds < targetSeconds * workers)
+        {
+            targetSeconds = Math.Max(durationSeconds / workers, MinShortBlockSeconds);
+        }
+
         var blockRecords = Math.Max(unit, (long)Math.Round(targetSeconds / (unit * recordSeconds)) * unit);
         if (blockRecords >= ranges.RecordCount)
         {

@@ -15,7 +15,7 @@ internal static class DataFolders
         {
             ("Logs:Folder", bound.Logs.Folder),
         };
-        if (Path.GetDirectoryName(Path.GetFullPath(bound.Store.Path)) is { Length: > 0 } storeFolder)
+        if (bound.Store.Provider == Store.StoreProvider.Sqlite && Path.GetDirectoryName(Path.GetFullPath(bound.Store.Path)) is { Length: > 0 } storeFolder)
         {
             folders.Add(("Store:Path", storeFolder));
         }

@@ -160,8 +160,10 @@ public static class HumWatchHost
         }
         catch (Exception ex) when (ex is InvalidOperationException or IOException or UnauthorizedAccessException)
         {
-            // The store names its file; the setting is what a person changes.
-            throw new StartFailureException($"{ex.Message.TrimEnd('.')}. Store:Path names this file: move the file away, or point Store:Path (or --data) elsewhere.", ex);
+            // The store names its file or server; the setting is what a person changes.
+            throw new StartFailureException(options.Provider == StoreProvider.Postgres
+                ? $"{ex.Message.TrimEnd('.')}. Store:ConnectionString (or Store:ConnectionStringFile) names this database: check the server, the database and the user's rights, or point it elsewhere."
+                : $"{ex.Message.TrimEnd('.')}. Store:Path names this file: move the file away, or point Store:Path (or --data) elsewhere.", ex);
         }
     }
 }

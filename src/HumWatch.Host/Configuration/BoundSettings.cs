@@ -146,6 +146,13 @@ public sealed class BoundSettings
         }
 
         var section = configuration.GetSection(name);
+        if (!section.Exists())
+        {
+            // Nothing set: the binder would leave the defaults as they are, after reflecting over the whole class.
+            errors.AddRange(validate(options));
+            return options;
+        }
+
         prepare?.Invoke(section, options);
         try
         {

@@ -14,11 +14,19 @@ public sealed class InstanceOptions
     /// <summary>Longest instance name, characters (a DNS label's limit, so a host name fits).</summary>
     public const int MaxNameLength = 63;
 
+    private string? _name;
+
     /// <summary>
     /// The instance's name in the store, the API and the page: 1–63 letters (a–z, A–Z), digits, '-', '_' or '.'; unique
     /// among the instances sharing a store. The default is this machine's host name, lower-cased.
     /// </summary>
-    public string Name { get; set; } = DefaultName();
+    public string Name
+    {
+        // Looked up on first read, not at construction: `check` binds these options but never names itself, and the
+        // host-name lookup costs a one-shot check some 15 ms.
+        get => _name ??= DefaultName();
+        set => _name = value;
+    }
 
     /// <summary>How often the instance writes its heartbeat and looks for stopped peers, s, 1 to 3600. The default is 10 s.</summary>
     public double HeartbeatSeconds { get; set; } = 10;
@@ -33,7 +41,9 @@ public sealed class InstanceOptions
     public IReadOnlyList<string> Validate(string prefix = SectionName)
     {
         var errors = new List<string>();
-        if (!IsValidName(Name))
+
+        // An unset name is the host name made valid by FromHostName; only a configured one can break the rule.
+        if (_name is not null && !IsValidName(_name))
         {
             errors.Add($"{prefix}:Name must be 1 to {MaxNameLength} characters, each a letter (a–z, A–Z), a digit, '-', '_' or '.' (got \"{Name}\").");
         }

@@ -92,7 +92,14 @@ internal static class SettingsSchema
         }
 
         // In key order, so the lines about one section stand together.
-        var ordered = errors.OrderBy(e => e.Key, StringComparer.OrdinalIgnoreCase).Select(e => e.Text).ToList();
+        // Each key has one line (an unknown prefix or a bad value), so the sort needs no stability.
+        errors.Sort(static (a, b) => StringComparer.OrdinalIgnoreCase.Compare(a.Key, b.Key));
+        var ordered = new List<string>(errors.Count);
+        foreach (var (_, text) in errors)
+        {
+            ordered.Add(text);
+        }
+
         return new SchemaCheck(ordered, unknownSections, badValueSections);
     }
 
@@ -220,13 +227,18 @@ internal static class SettingsSchema
         };
     }
 
-    /// <summary>Keys that hold a value or are empty sections: every path that is not the parent of another.</summary>
-    private static List<(string Key, string? Value)> Leaves(IConfiguration configuration)
+    /// <summary>Keys that hold a value or are empty sections: every path that is not the parent of another, in key order.</summary>
+    /// <remarks>
+    /// Loops over reference types rather than LINQ over key-value pairs: every start of the program runs this, and
+    /// generic framework code over value-type pairs has no ReadyToRun code, so it would be compiled at run time.
+    /// </remarks>
+    private static List<Leaf> Leaves(IConfiguration configuration)
     {
-        var all = configuration.AsEnumerable().ToList();
+        var all = new List<Leaf>();
         var parents = new HashSet<string>(StringComparer.OrdinalIgnoreCase);
-        foreach (var (key, _) in all)
+        foreach (var (key, value) in configuration.AsEnumerable())
         {
+            all.Add(new Leaf(key, value));
             var colon = key.LastIndexOf(':');
             if (colon > 0)
             {
@@ -243,8 +255,13 @@ internal static class SettingsSchema
             }
         }
 
-        return [.. all.Where(kv => !parents.Contains(kv.Key)).OrderBy(kv => kv.Key, StringComparer.OrdinalIgnoreCase).Select(kv => (kv.Key, (string?)kv.Value))];
+        // Configuration keys are unique (ignoring case), so the sort needs no stability.
+        all.RemoveAll(leaf => parents.Contains(leaf.Key));
+        all.Sort(static (a, b) => StringComparer.OrdinalIgnoreCase.Compare(a.Key, b.Key));
+        return all;
     }
+
+    private sealed record Leaf(string Key, string? Value);
 
     /// <summary>Follows <paramref name="segments"/> down the tree; on a miss, the node is null and depth is the failing segment.</summary>
     private static (Node? Node, int Depth) Walk(Node root, string[] segments)

@@ -26,9 +26,11 @@ internal sealed class StreamMonitorService : BackgroundService
     private readonly ConcurrentDictionary<string, StreamMonitor> _monitors = new(StringComparer.Ordinal);
     private readonly WarningThrottle _tooManyThrottle;
     private readonly ResourceStatus? _resources;
+    private readonly string? _instance;
     private long _retiredFrames;
 
     /// <param name="resources">The store and folder states each status message carries; null leaves them out.</param>
+    /// <param name="instance">This instance's name, written into each status message; none by default.</param>
     public StreamMonitorService(
         IngestQueue queue,
         IngestCounters counters,
@@ -36,9 +38,11 @@ internal sealed class StreamMonitorService : BackgroundService
         IOptions<PublishOptions> publish,
         IMessagePublisher publisher,
         ILoggerFactory loggerFactory,
-        ResourceStatus? resources = null)
+        ResourceStatus? resources = null,
+        IOptions<Configuration.InstanceOptions>? instance = null)
     {
         _resources = resources;
+        _instance = instance?.Value.Name;
         _queue = queue;
         _counters = counters;
         _sessions = sessions;
@@ -143,7 +147,7 @@ internal sealed class StreamMonitorService : BackgroundService
         var resources = _resources is null ? null : new ResourceSnapshot(_resources);
         foreach (var monitor in _monitors.Values)
         {
-            var status = StatusOf(monitor, _counters.Get(monitor.StreamId), now, resources);
+            var status = StatusOf(monitor, _counters.Get(monitor.StreamId), now, resources) with { Instance = _instance };
             _publisher.TryPublish(Messages.StatusKind, monitor.StreamId, Messages.For(status));
         }
     }

@@ -31,7 +31,7 @@ internal sealed class UnclosedAlertCloser(HumWatchStore store, IAlertEventSink s
         {
             unclosed = store.Alerts.Unclosed(storedBy: storedBy);
         }
-        catch (Exception ex) when (ex is Microsoft.Data.Sqlite.SqliteException or InvalidOperationException or IOException)
+        catch (Exception ex) when (ex is System.Data.Common.DbException or InvalidOperationException or IOException)
         {
             logger.UnclosedAlertsFailed(ex);
             return 0;

@@ -19,15 +19,18 @@ internal sealed class AlertDispatcher : IAlertEventSink
     private readonly ILogger _logger;
     private readonly DeferredWrites<AlertEvent> _unstored;
     private readonly IDispatchSink[] _sinks;
+    private readonly string? _instance;
 
     /// <param name="health">The store's fault state, which retries refused events; null makes one of this dispatcher's own.</param>
     /// <param name="sinks">Told of each published event after the socket (notifications); none by default.</param>
+    /// <param name="instance">This instance's name, written into each body as "instance"; none by default.</param>
     public AlertDispatcher(
         IAlertEventStore store,
         IMessagePublisher publisher,
         ILogger<AlertDispatcher> logger,
         StoreHealth? health = null,
-        IEnumerable<IDispatchSink>? sinks = null)
+        IEnumerable<IDispatchSink>? sinks = null,
+        Microsoft.Extensions.Options.IOptions<Configuration.InstanceOptions>? instance = null)
     {
         ArgumentNullException.ThrowIfNull(store);
         ArgumentNullException.ThrowIfNull(publisher);
@@ -35,6 +38,7 @@ internal sealed class AlertDispatcher : IAlertEventSink
         _publisher = publisher;
         _logger = logger;
         _sinks = sinks?.ToArray() ?? [];
+        _instance = instance?.Value.Name;
         _unstored = new DeferredWrites<AlertEvent>(
             "alert events", retryOrder: 1, MaxPendingStore, e => store.AppendAlert(e), Describe, health ?? new StoreHealth("the alert store", TimeProvider.System, logger));
     }
@@ -112,7 +116,7 @@ internal sealed class AlertDispatcher : IAlertEventSink
         byte[] body;
         try
         {
-            (kind, body) = Messages.For(alertEvent);
+            (kind, body) = Messages.For(alertEvent, _instance);
         }
         catch (Exception ex)
         {

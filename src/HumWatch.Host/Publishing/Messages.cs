@@ -38,6 +38,9 @@ internal sealed record AlertMessage(
 
     /// <summary>The caution that goes with the suggestion, the text `check` reports carry; null when there is no suggestion.</summary>
     public string? Caution { get; init; }
+
+    /// <summary>The instance that published the message (Instance:Name); null where no instance is named.</summary>
+    public string? Instance { get; init; }
 }
 
 /// <summary>Body of "clear/&lt;stream&gt;" messages.</summary>
@@ -57,7 +60,11 @@ internal sealed record ClearMessage(
     string PeakSeverity,
     string LastSeverity,
     double StreamSeconds,
-    DateTimeOffset Utc);
+    DateTimeOffset Utc)
+{
+    /// <summary>The instance that published the message (Instance:Name); null where no instance is named.</summary>
+    public string? Instance { get; init; }
+}
 
 /// <summary>Body of "status/&lt;stream&gt;" messages, sent every <see cref="PublishOptions.StatusIntervalSeconds"/>.</summary>
 /// <param name="V">Schema version, 1.</param>
@@ -99,6 +106,9 @@ internal sealed record StatusMessage(
 
     /// <summary>Whether the inbox folder is there ("off" when the inbox is off).</summary>
     public Health.FolderStatus? InboxFolder { get; init; }
+
+    /// <summary>The instance that published the message (Instance:Name); null where no instance is named.</summary>
+    public string? Instance { get; init; }
 }
 
 [JsonSourceGenerationOptions(PropertyNamingPolicy = JsonKnownNamingPolicy.CamelCase)]
@@ -129,7 +139,9 @@ internal static class Messages
     public static string Topic(string kind, string streamId) => $"{kind}/{streamId}";
 
     /// <summary>Message kind ("alert" or "clear") and body for an alert event.</summary>
-    public static (string Kind, byte[] Body) For(AlertEvent alertEvent)
+    /// <param name="alertEvent">The event.</param>
+    /// <param name="instance">The publishing instance's name, written as "instance"; null leaves it null.</param>
+    public static (string Kind, byte[] Body) For(AlertEvent alertEvent, string? instance = null)
     {
         ArgumentNullException.ThrowIfNull(alertEvent);
         var identified = alertEvent.Source.IsIdentified;
@@ -145,7 +157,7 @@ internal static class Messages
                     new ClearMessage(
                         Version, c.StreamId, key, kind, source, harmonic, c.Source.Aliased, fault, Finite(Reported.Hz(c.FrequencyHz)),
                         c.Reason.ToText(), Reported.Seconds(c.DurationSeconds), Finite(Reported.UvRms(c.PeakAmplitudeUvRms)), c.PeakSeverity.ToText(),
-                        c.LastSeverity.ToText(), Reported.ClockSeconds(c.StreamSeconds), c.Utc),
+                        c.LastSeverity.ToText(), Reported.ClockSeconds(c.StreamSeconds), c.Utc) { Instance = instance },
                     MessageJsonContext.Output.ClearMessage));
             case AlertRaised r:
                 return (AlertKind, JsonSerializer.SerializeToUtf8Bytes(
@@ -157,6 +169,7 @@ internal static class Messages
                         AlsoPossible = r.Category == AlertCategory.Line ? [.. r.AlsoPossible.Select(Core.Reporting.LineFinding.Describe)] : null,
                         Evidence = r.Category == AlertCategory.Line ? Checking.CheckEvidence.From(r) : null,
                         Caution = r.Suggestion is null ? null : Core.Reporting.SafetyNotice.Text,
+                        Instance = instance,
                     },
                     MessageJsonContext.Output.AlertMessage));
             case AlertSeverityChanged s:
@@ -164,7 +177,10 @@ internal static class Messages
                     new AlertMessage(
                         Version, s.StreamId, key, s.EventKind.ToText(), kind, source, harmonic, s.Source.Aliased, fault,
                         Finite(Reported.Hz(s.FrequencyHz)), Finite(Reported.UvRms(s.AmplitudeUvRms)), Finite(Reported.Share(s.ChannelShare)), s.WorstChannels,
-                        s.Severity.ToText(), s.PreviousSeverity.ToText(), null, Reported.ClockSeconds(s.StreamSeconds), s.Utc, null, Probability(s.FalseAlarmProbability)),
+                        s.Severity.ToText(), s.PreviousSeverity.ToText(), null, Reported.ClockSeconds(s.StreamSeconds), s.Utc, null, Probability(s.FalseAlarmProbability))
+                    {
+                        Instance = instance,
+                    },
                     MessageJsonContext.Output.AlertMessage));
             default:
                 throw new ArgumentOutOfRangeException(nameof(alertEvent), alertEvent.GetType().Name, "Unknown alert event type.");

@@ -1,7 +1,7 @@
 using HumWatch.Core.Alerts;
 using HumWatch.Core.Findings;
 using HumWatch.Core.Summaries;
-using Microsoft.Data.Sqlite;
+using System.Data.Common;
 
 namespace HumWatch.Host.Store;
 
@@ -25,35 +25,35 @@ internal sealed class AlertTable(StoreConnection connection, string? instance = 
         {
             using var command = Sql.Command(c, $"""
                 INSERT INTO alerts ({Columns})
-                VALUES ($stream, $key, $kind, $event, $severity, $sourceName, $harmonic, $aliased, $frequency,
-                    $amplitude, $share, $worst, $suggestion, $streamSeconds, $utc, $onset,
-                    $duration, $peak, $peakSeverity, $reason, $evidence, $instance);
-                SELECT last_insert_rowid();
+                VALUES (@stream, @key, @kind, @event, @severity, @sourceName, @harmonic, @aliased, @frequency,
+                    @amplitude, @share, @worst, @suggestion, @streamSeconds, @utc, @onset,
+                    @duration, @peak, @peakSeverity, @reason, @evidence, @instance)
+                RETURNING id
                 """);
             var identified = alertEvent.Source.IsIdentified;
-            Sql.Add(command, "$stream", alertEvent.StreamId);
-            Sql.Add(command, "$key", alertEvent.Key.ToString());
-            Sql.Add(command, "$kind", alertEvent.Key.Category.ToText());
-            Sql.Add(command, "$event", alertEvent.EventKind.ToText());
-            Sql.Add(command, "$severity", alertEvent.Severity.ToText());
-            Sql.Add(command, "$sourceName", identified ? alertEvent.Source.Name : null);
-            Sql.Add(command, "$harmonic", identified ? alertEvent.Source.Harmonic : null);
-            Sql.Add(command, "$aliased", alertEvent.Source.Aliased ? 1 : 0);
-            Sql.Add(command, "$frequency", row.FrequencyHz);
-            Sql.Add(command, "$amplitude", row.AmplitudeUvRms);
-            Sql.Add(command, "$share", row.ChannelShare);
-            Sql.Add(command, "$worst", Sql.LabelsJson(row.WorstChannels));
-            Sql.Add(command, "$suggestion", row.Suggestion);
-            Sql.Add(command, "$streamSeconds", alertEvent.StreamSeconds);
-            Sql.Add(command, "$utc", alertEvent.Utc.ToUnixTimeMilliseconds());
-            Sql.Add(command, "$onset", row.OnsetUtc?.ToUnixTimeMilliseconds());
-            Sql.Add(command, "$duration", row.DurationSeconds);
-            Sql.Add(command, "$peak", row.PeakUvRms);
-            Sql.Add(command, "$peakSeverity", row.PeakSeverity);
-            Sql.Add(command, "$reason", row.Reason);
-            Sql.Add(command, "$evidence", row.Evidence);
-            Sql.Add(command, "$instance", instance);
-            return (long)command.ExecuteScalar()!;
+            Sql.Add(command, "@stream", alertEvent.StreamId);
+            Sql.Add(command, "@key", alertEvent.Key.ToString());
+            Sql.Add(command, "@kind", alertEvent.Key.Category.ToText());
+            Sql.Add(command, "@event", alertEvent.EventKind.ToText());
+            Sql.Add(command, "@severity", alertEvent.Severity.ToText());
+            Sql.Add(command, "@sourceName", identified ? alertEvent.Source.Name : null);
+            Sql.Add(command, "@harmonic", identified ? alertEvent.Source.Harmonic : null);
+            Sql.Add(command, "@aliased", alertEvent.Source.Aliased ? 1 : 0);
+            Sql.Add(command, "@frequency", row.FrequencyHz);
+            Sql.Add(command, "@amplitude", row.AmplitudeUvRms);
+            Sql.Add(command, "@share", row.ChannelShare);
+            Sql.Add(command, "@worst", Sql.LabelsJson(row.WorstChannels));
+            Sql.Add(command, "@suggestion", row.Suggestion);
+            Sql.Add(command, "@streamSeconds", alertEvent.StreamSeconds);
+            Sql.Add(command, "@utc", alertEvent.Utc.ToUnixTimeMilliseconds());
+            Sql.Add(command, "@onset", row.OnsetUtc?.ToUnixTimeMilliseconds());
+            Sql.Add(command, "@duration", row.DurationSeconds);
+            Sql.Add(command, "@peak", row.PeakUvRms);
+            Sql.Add(command, "@peakSeverity", row.PeakSeverity);
+            Sql.Add(command, "@reason", row.Reason);
+            Sql.Add(command, "@evidence", row.Evidence);
+            Sql.Add(command, "@instance", instance);
+            return Sql.Int64(command.ExecuteScalar()) ?? throw new InvalidOperationException($"Store {connection.Location}: the alert insert returned no id.");
         });
     }
 
@@ -63,12 +63,12 @@ internal sealed class AlertTable(StoreConnection connection, string? instance = 
         using var command = Sql.Command(c, $"""
             SELECT id, {Columns}
             FROM alerts
-            WHERE utc_ms >= $from AND utc_ms < $to AND ($stream IS NULL OR stream = $stream)
+            WHERE utc_ms >= @from AND utc_ms < @to AND (@stream IS NULL OR stream = @stream)
             ORDER BY utc_ms, id
             """);
-        Sql.Add(command, "$from", fromUtc.ToUnixTimeMilliseconds());
-        Sql.Add(command, "$to", toUtc.ToUnixTimeMilliseconds());
-        Sql.Add(command, "$stream", stream);
+        Sql.Add(command, "@from", fromUtc.ToUnixTimeMilliseconds());
+        Sql.Add(command, "@to", toUtc.ToUnixTimeMilliseconds());
+        Sql.Add(command, "@stream", stream);
         return Sql.ReadAll(command, Read);
     });
 
@@ -81,15 +81,15 @@ internal sealed class AlertTable(StoreConnection connection, string? instance = 
         using var command = Sql.Command(c, $"""
             SELECT id, {Columns}
             FROM alerts
-            WHERE utc_ms >= $from AND utc_ms < $to AND ($stream IS NULL OR stream = $stream) AND ($kind IS NULL OR kind = $kind OR ($kind = 'site-tone' AND kind = 'site'))
+            WHERE utc_ms >= @from AND utc_ms < @to AND (@stream IS NULL OR stream = @stream) AND (@kind IS NULL OR kind = @kind OR (@kind = 'site-tone' AND kind = 'site'))
             ORDER BY utc_ms DESC, id DESC
-            LIMIT $limit
+            LIMIT @limit
             """);
-        Sql.Add(command, "$from", fromUtc.ToUnixTimeMilliseconds());
-        Sql.Add(command, "$to", toUtc.ToUnixTimeMilliseconds());
-        Sql.Add(command, "$stream", stream);
-        Sql.Add(command, "$kind", kind);
-        Sql.Add(command, "$limit", limit);
+        Sql.Add(command, "@from", fromUtc.ToUnixTimeMilliseconds());
+        Sql.Add(command, "@to", toUtc.ToUnixTimeMilliseconds());
+        Sql.Add(command, "@stream", stream);
+        Sql.Add(command, "@kind", kind);
+        Sql.Add(command, "@limit", limit);
         return Sql.ReadAll(command, Read);
     });
 
@@ -104,12 +104,12 @@ internal sealed class AlertTable(StoreConnection connection, string? instance = 
         using var last = Sql.Command(c, """
             SELECT a.stream, a.key, a.id, a.instance
             FROM alerts a
-            JOIN (SELECT stream, key, max(id) AS id FROM alerts WHERE $stream IS NULL OR stream = $stream GROUP BY stream, key) newest ON newest.id = a.id
+            JOIN (SELECT stream, key, max(id) AS id FROM alerts WHERE @stream IS NULL OR stream = @stream GROUP BY stream, key) newest ON newest.id = a.id
             WHERE a.event <> 'cleared'
             ORDER BY a.id
             """);
-        Sql.Add(last, "$stream", stream);
-        var open = Sql.ReadAll(last, static reader => (Stream: reader.GetString(0), Key: reader.GetString(1), LastId: reader.GetInt64(2), Instance: Sql.NullableString(reader, 3)));
+        Sql.Add(last, "@stream", stream);
+        var open = Sql.ReadAll(last, static reader => (Stream: reader.GetString(0), Key: reader.GetString(1), LastId: Sql.Int64(reader, 2), Instance: Sql.NullableString(reader, 3)));
         var result = new List<IReadOnlyList<StoredAlert>>(open.Count);
         foreach (var (openStream, key, lastId, storer) in open)
         {
@@ -121,13 +121,13 @@ internal sealed class AlertTable(StoreConnection connection, string? instance = 
             using var events = Sql.Command(c, $"""
                 SELECT id, {Columns}
                 FROM alerts
-                WHERE stream = $stream AND key = $key AND id <= $last
-                  AND id >= coalesce((SELECT max(id) FROM alerts WHERE stream = $stream AND key = $key AND id <= $last AND event = 'raised'), 0)
+                WHERE stream = @stream AND key = @key AND id <= @last
+                  AND id >= coalesce((SELECT max(id) FROM alerts WHERE stream = @stream AND key = @key AND id <= @last AND event = 'raised'), 0)
                 ORDER BY id
                 """);
-            Sql.Add(events, "$stream", openStream);
-            Sql.Add(events, "$key", key);
-            Sql.Add(events, "$last", lastId);
+            Sql.Add(events, "@stream", openStream);
+            Sql.Add(events, "@key", key);
+            Sql.Add(events, "@last", lastId);
             result.Add(Sql.ReadAll(events, Read));
         }
 
@@ -141,13 +141,13 @@ internal sealed class AlertTable(StoreConnection connection, string? instance = 
         return connection.Run(c =>
         {
             using var command = Sql.Command(c, """
-                SELECT EXISTS (SELECT 1 FROM alerts WHERE stream = $stream AND key = $key AND event = $event AND utc_ms = $utc)
+                SELECT CASE WHEN EXISTS (SELECT 1 FROM alerts WHERE stream = @stream AND key = @key AND event = @event AND utc_ms = @utc) THEN 1 ELSE 0 END
                 """);
-            Sql.Add(command, "$stream", alertEvent.StreamId);
-            Sql.Add(command, "$key", alertEvent.Key.ToString());
-            Sql.Add(command, "$event", alertEvent.EventKind.ToText());
-            Sql.Add(command, "$utc", alertEvent.Utc.ToUnixTimeMilliseconds());
-            return Convert.ToInt64(command.ExecuteScalar(), System.Globalization.CultureInfo.InvariantCulture) != 0;
+            Sql.Add(command, "@stream", alertEvent.StreamId);
+            Sql.Add(command, "@key", alertEvent.Key.ToString());
+            Sql.Add(command, "@event", alertEvent.EventKind.ToText());
+            Sql.Add(command, "@utc", alertEvent.Utc.ToUnixTimeMilliseconds());
+            return Sql.Int64(command.ExecuteScalar()) is 1;
         });
     }
 
@@ -158,14 +158,14 @@ internal sealed class AlertTable(StoreConnection connection, string? instance = 
     public bool ClosedAtRestart(string stream, FindingKey key) => connection.Run(c =>
     {
         using var command = Sql.Command(c, """
-            SELECT event = 'cleared' AND reason IN ($restarted, $stopped) FROM alerts
-            WHERE stream = $stream AND key = $key ORDER BY id DESC LIMIT 1
+            SELECT CASE WHEN event = 'cleared' AND reason IN (@restarted, @stopped) THEN 1 ELSE 0 END FROM alerts
+            WHERE stream = @stream AND key = @key ORDER BY id DESC LIMIT 1
             """);
-        Sql.Add(command, "$stream", stream);
-        Sql.Add(command, "$key", key.ToString());
-        Sql.Add(command, "$restarted", AlertClearReason.ServiceRestarted.ToText());
-        Sql.Add(command, "$stopped", AlertClearReason.InstanceStopped.ToText());
-        return command.ExecuteScalar() is long flag && flag != 0;
+        Sql.Add(command, "@stream", stream);
+        Sql.Add(command, "@key", key.ToString());
+        Sql.Add(command, "@restarted", AlertClearReason.ServiceRestarted.ToText());
+        Sql.Add(command, "@stopped", AlertClearReason.InstanceStopped.ToText());
+        return Sql.Int64(command.ExecuteScalar()) is 1;
     });
 
     /// <summary>Alert events of one local day in <paramref name="zone"/>.</summary>
@@ -175,16 +175,16 @@ internal sealed class AlertTable(StoreConnection connection, string? instance = 
         return Between(from, to, stream);
     }
 
-    private static StoredAlert Read(SqliteDataReader reader)
+    private static StoredAlert Read(DbDataReader reader)
     {
         var key = FindingKey.Parse(reader.GetString(2));
         return new StoredAlert(
-            reader.GetInt64(0), reader.GetString(1), key, KindOf(reader.GetString(3), key), EventOf(reader.GetString(4)),
-            SeverityOf(reader.GetString(5)), Sql.NullableString(reader, 6), reader.IsDBNull(7) ? null : reader.GetInt32(7),
-            reader.GetInt64(8) != 0, Sql.NullableDouble(reader, 9), Sql.NullableDouble(reader, 10), Sql.NullableDouble(reader, 11),
+            Sql.Int64(reader, 0), reader.GetString(1), key, KindOf(reader.GetString(3), key), EventOf(reader.GetString(4)),
+            SeverityOf(reader.GetString(5)), Sql.NullableString(reader, 6), reader.IsDBNull(7) ? null : Sql.Int32(reader, 7),
+            Sql.Int64(reader, 8) != 0, Sql.NullableDouble(reader, 9), Sql.NullableDouble(reader, 10), Sql.NullableDouble(reader, 11),
             Sql.Labels(reader.GetString(12)), Sql.NullableString(reader, 13), reader.GetDouble(14),
-            DateTimeOffset.FromUnixTimeMilliseconds(reader.GetInt64(15)),
-            reader.IsDBNull(16) ? null : DateTimeOffset.FromUnixTimeMilliseconds(reader.GetInt64(16)),
+            DateTimeOffset.FromUnixTimeMilliseconds(Sql.Int64(reader, 15)),
+            reader.IsDBNull(16) ? null : DateTimeOffset.FromUnixTimeMilliseconds(Sql.Int64(reader, 16)),
             Sql.NullableDouble(reader, 17), Sql.NullableDouble(reader, 18),
             reader.IsDBNull(19) ? null : SeverityOf(reader.GetString(19)),
             reader.IsDBNull(20) ? null : ReasonOf(reader.GetString(20)))

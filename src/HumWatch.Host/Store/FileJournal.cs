@@ -1,20 +1,38 @@
-using Microsoft.Data.Sqlite;
+using System.Data.Common;
 
 namespace HumWatch.Host.Store;
 
 /// <summary>
 /// The <c>file_journal</c> table: each dropped file's content (SHA-256 and size) is processed exactly once across
-/// restarts. Also remembers which contents a worker of this process holds right now.
+/// restarts and across the instances sharing the store. Also remembers which contents a worker of this process holds
+/// right now.
 /// </summary>
-internal sealed class FileJournal(StoreConnection connection)
+/// <param name="connection">The store's connection.</param>
+/// <param name="instance">This instance's name, recorded as the claimant; null (tools, older tests) claims as no instance.</param>
+internal sealed class FileJournal(StoreConnection connection, string? instance = null)
 {
+    // One statement decides a claim, inside the database: a new content is inserted; a 'received' row (an interrupted
+    // attempt) is taken over only when its claimant is no instance, this instance (a restart), or an instance the
+    // instances table marks stopped. A row another live instance holds, or an archived or rejected one, is left alone,
+    // and the affected-row count (0) says so. Two instances racing for one content: the unique (sha256, size_bytes)
+    // lets exactly one insert win; the other's ON CONFLICT finds the winner's row and its WHERE refuses it.
+    private static readonly string Claim = $"""
+        INSERT INTO file_journal (path, size_bytes, mtime_utc_ms, sha256, state, utc_ms, attempts, instance)
+        VALUES (@path, @size, @mtime, @sha, 'received', @utc, 1, @me)
+        ON CONFLICT (sha256, size_bytes) DO UPDATE SET
+            path = excluded.path, mtime_utc_ms = excluded.mtime_utc_ms, utc_ms = excluded.utc_ms,
+            attempts = file_journal.attempts + 1, instance = excluded.instance
+        WHERE file_journal.state = 'received' AND {Sql.HolderReplaceable("file_journal.instance")}
+        """;
+
     // Touched only inside connection.Run, so the store's lock guards it too.
     private readonly HashSet<(string Sha256, long SizeBytes)> _inProgress = [];
 
     /// <summary>
-    /// Claims a file for processing, exactly once across restarts. True when the caller should process it: it is new,
-    /// or an earlier attempt was interrupted (state still received). False when it was already archived or rejected,
-    /// or another worker of this process holds it; <paramref name="entry"/> then tells the stored state.
+    /// Claims a file for processing, exactly once across restarts and instances. True when the caller should process
+    /// it: it is new, or an earlier attempt was interrupted (state still received) by this instance, by no instance, or
+    /// by an instance since marked stopped. False when it was already archived or rejected, when another worker of this
+    /// process holds it, or when another live instance does; <paramref name="entry"/> then tells the stored state.
     /// </summary>
     public bool TryBegin(string path, long sizeBytes, DateTimeOffset modifiedUtc, string sha256, out FileJournalEntry entry)
     {
@@ -25,29 +43,25 @@ internal sealed class FileJournal(StoreConnection connection)
         var now = connection.TimeProvider.GetUtcNow().ToUnixTimeMilliseconds();
         var (claimed, found) = connection.Run(c =>
         {
-            var existing = Find(c, hash, sizeBytes);
-            if (existing is not null && (existing.State != FileJournalState.Received || _inProgress.Contains((hash, sizeBytes))))
+            if (_inProgress.Contains((hash, sizeBytes)))
             {
-                return (false, existing);
+                return (false, Find(c, hash, sizeBytes)!);
             }
 
-            using var command = Sql.Command(c, existing is null
-                ? """
-                  INSERT INTO file_journal (path, size_bytes, mtime_utc_ms, sha256, state, utc_ms, attempts)
-                  VALUES ($path, $size, $mtime, $sha, 'received', $utc, 1)
-                  """
-                : """
-                  UPDATE file_journal SET path = $path, mtime_utc_ms = $mtime, utc_ms = $utc, attempts = attempts + 1
-                  WHERE sha256 = $sha AND size_bytes = $size
-                  """);
-            Sql.Add(command, "$path", path);
-            Sql.Add(command, "$size", sizeBytes);
-            Sql.Add(command, "$mtime", modifiedUtc.ToUnixTimeMilliseconds());
-            Sql.Add(command, "$sha", hash);
-            Sql.Add(command, "$utc", now);
-            command.ExecuteNonQuery();
-            _inProgress.Add((hash, sizeBytes));
-            return (true, Find(c, hash, sizeBytes)!);
+            using var command = Sql.Command(c, Claim);
+            Sql.Add(command, "@path", path);
+            Sql.Add(command, "@size", sizeBytes);
+            Sql.Add(command, "@mtime", modifiedUtc.ToUnixTimeMilliseconds());
+            Sql.Add(command, "@sha", hash);
+            Sql.Add(command, "@utc", now);
+            Sql.Add(command, "@me", instance);
+            var won = command.ExecuteNonQuery() == 1;
+            if (won)
+            {
+                _inProgress.Add((hash, sizeBytes));
+            }
+
+            return (won, Find(c, hash, sizeBytes)!);
         });
         entry = found;
         return claimed;
@@ -67,18 +81,18 @@ internal sealed class FileJournal(StoreConnection connection)
         return connection.Run(c =>
         {
             using var command = Sql.Command(c, """
-                UPDATE file_journal SET state = $state, report_path = $report, reason = $reason, utc_ms = $utc
-                WHERE sha256 = $sha AND size_bytes = $size AND state = 'received'
+                UPDATE file_journal SET state = @state, report_path = @report, reason = @reason, utc_ms = @utc
+                WHERE sha256 = @sha AND size_bytes = @size AND state = 'received'
                 """);
-            Sql.Add(command, "$state", StateText(state));
-            Sql.Add(command, "$report", reportPath);
-            Sql.Add(command, "$reason", reason);
-            Sql.Add(command, "$utc", connection.TimeProvider.GetUtcNow().ToUnixTimeMilliseconds());
-            Sql.Add(command, "$sha", hash);
-            Sql.Add(command, "$size", sizeBytes);
+            Sql.Add(command, "@state", StateText(state));
+            Sql.Add(command, "@report", reportPath);
+            Sql.Add(command, "@reason", reason);
+            Sql.Add(command, "@utc", connection.TimeProvider.GetUtcNow().ToUnixTimeMilliseconds());
+            Sql.Add(command, "@sha", hash);
+            Sql.Add(command, "@size", sizeBytes);
             if (command.ExecuteNonQuery() == 0)
             {
-                throw new InvalidOperationException($"Store {connection.FullPath}: file {hash} ({sizeBytes} bytes) is not being processed; complete it only after TryBegin.");
+                throw new InvalidOperationException($"Store {connection.Location}: file {hash} ({sizeBytes} bytes) is not being processed; complete it only after TryBegin.");
             }
 
             _inProgress.Remove((hash, sizeBytes));
@@ -101,14 +115,14 @@ internal sealed class FileJournal(StoreConnection connection)
         return connection.Run(c => Find(c, sha256.ToLowerInvariant(), sizeBytes));
     }
 
-    private static FileJournalEntry? Find(SqliteConnection c, string sha256, long sizeBytes)
+    private static FileJournalEntry? Find(DbConnection c, string sha256, long sizeBytes)
     {
         using var command = Sql.Command(c, """
-            SELECT id, path, size_bytes, mtime_utc_ms, sha256, state, report_path, reason, utc_ms, attempts
-            FROM file_journal WHERE sha256 = $sha AND size_bytes = $size
+            SELECT id, path, size_bytes, mtime_utc_ms, sha256, state, report_path, reason, utc_ms, attempts, instance
+            FROM file_journal WHERE sha256 = @sha AND size_bytes = @size
             """);
-        Sql.Add(command, "$sha", sha256);
-        Sql.Add(command, "$size", sizeBytes);
+        Sql.Add(command, "@sha", sha256);
+        Sql.Add(command, "@size", sizeBytes);
         using var reader = command.ExecuteReader();
         if (!reader.Read())
         {
@@ -116,9 +130,12 @@ internal sealed class FileJournal(StoreConnection connection)
         }
 
         return new FileJournalEntry(
-            reader.GetInt64(0), reader.GetString(1), reader.GetInt64(2), DateTimeOffset.FromUnixTimeMilliseconds(reader.GetInt64(3)),
+            Sql.Int64(reader, 0), reader.GetString(1), Sql.Int64(reader, 2), DateTimeOffset.FromUnixTimeMilliseconds(Sql.Int64(reader, 3)),
             reader.GetString(4), ParseState(reader.GetString(5)), Sql.NullableString(reader, 6), Sql.NullableString(reader, 7),
-            DateTimeOffset.FromUnixTimeMilliseconds(reader.GetInt64(8)), reader.GetInt32(9));
+            DateTimeOffset.FromUnixTimeMilliseconds(Sql.Int64(reader, 8)), Sql.Int32(reader, 9))
+        {
+            Instance = Sql.NullableString(reader, 10),
+        };
     }
 
     private static string StateText(FileJournalState state) => state switch

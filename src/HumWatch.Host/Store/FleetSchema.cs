@@ -44,4 +44,7 @@ internal static class FleetSchema
         """,
         "ALTER TABLE alerts ADD COLUMN instance TEXT",
     ];
+
+    /// <summary>Version 7 (SQLite): the instance that claimed a file's content; NULL in rows of older builds.</summary>
+    internal const string FileClaimColumn = "ALTER TABLE file_journal ADD COLUMN instance TEXT";
 }

@@ -1,8 +1,9 @@
 namespace HumWatch.Host.Store;
 
 /// <summary>
-/// The SQLite store of a process: one <see cref="StoreConnection"/> (WAL, busy timeout, migrations, one lock) and one
-/// class per table over it. Safe to share between stream workers, the inbox and the summaries. Disposing closes the file.
+/// The store of a process: one <see cref="StoreConnection"/> (SQLite: one file, WAL, busy timeout; PostgreSQL: one
+/// pool; both: migrations and one lock) and one class per table over it, the same classes and SQL for both providers.
+/// Safe to share between stream workers, the inbox and the summaries. Disposing closes the file or the pool.
 /// </summary>
 internal sealed class HumWatchStore : IDisposable
 {
@@ -11,23 +12,29 @@ internal sealed class HumWatchStore : IDisposable
     /// <param name="options">Validated store options.</param>
     /// <param name="timeProvider">Clock for journal, render and migration times.</param>
     /// <param name="instance">This process's instance name (Instance:Name), written with each alert event; null for tools that only read.</param>
-    /// <exception cref="InvalidOperationException">The file cannot be opened, or its schema is newer than this build.</exception>
+    /// <exception cref="InvalidOperationException">The database cannot be opened, or its schema is newer than this build.</exception>
     public HumWatchStore(StoreOptions options, TimeProvider timeProvider, string? instance = null)
     {
-        _connection = new StoreConnection(options, timeProvider);
+        _connection = StoreConnection.Open(options, timeProvider);
         Instance = instance;
         Alerts = new AlertTable(_connection, instance);
         Instances = new InstanceTable(_connection);
         StreamOwners = new StreamOwnerTable(_connection);
         Ledger = new LedgerTable(_connection);
-        Files = new FileJournal(_connection);
+        Files = new FileJournal(_connection, instance);
         Spectra = new SpectrumTable(_connection);
         Renders = new SummaryRenderTable(_connection);
         Activity = new StoreActivity(_connection);
     }
 
-    /// <summary>Absolute path of the database file.</summary>
-    public string FullPath => _connection.FullPath;
+    /// <summary>
+    /// Where the store is, as every message names it: the absolute path of a SQLite file, or for PostgreSQL
+    /// "postgres host:port/database as user" (never a password).
+    /// </summary>
+    public string FullPath => _connection.Location;
+
+    /// <summary>The database engine behind the store.</summary>
+    public StoreProvider Provider => _connection.Provider;
 
     /// <summary>Schema version after migration.</summary>
     public int SchemaVersion => _connection.SchemaVersion;

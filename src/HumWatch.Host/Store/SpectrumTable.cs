@@ -23,8 +23,9 @@ internal sealed class SpectrumTable(StoreConnection connection) : ISpectrumPartS
         {
             using var transaction = c.BeginTransaction();
             using var command = Sql.Command(c, """
-                INSERT OR IGNORE INTO spectrum_parts (stream, session, seq, hour_utc, bin_width_hz, seconds, psd, lines)
-                VALUES ($stream, $session, $seq, $hour, $bin, $seconds, $psd, $lines)
+                INSERT INTO spectrum_parts (stream, session, seq, hour_utc, bin_width_hz, seconds, psd, lines)
+                VALUES (@stream, @session, @seq, @hour, @bin, @seconds, @psd, @lines)
+                ON CONFLICT (stream, session, seq) DO NOTHING
                 """, transaction);
             var added = 0;
             foreach (var part in parts)
@@ -42,14 +43,14 @@ internal sealed class SpectrumTable(StoreConnection connection) : ISpectrumPartS
                 }
 
                 command.Parameters.Clear();
-                Sql.Add(command, "$stream", part.StreamId);
-                Sql.Add(command, "$session", part.SessionId);
-                Sql.Add(command, "$seq", part.Sequence);
-                Sql.Add(command, "$hour", part.HourUtc.ToUnixTimeSeconds());
-                Sql.Add(command, "$bin", part.BinWidthHz);
-                Sql.Add(command, "$seconds", part.Seconds);
-                Sql.Add(command, "$psd", blob);
-                Sql.Add(command, "$lines", JsonSerializer.Serialize(lines, SpectrumLinesJsonContext.Output.DictionaryStringDoubleArray));
+                Sql.Add(command, "@stream", part.StreamId);
+                Sql.Add(command, "@session", part.SessionId);
+                Sql.Add(command, "@seq", part.Sequence);
+                Sql.Add(command, "@hour", part.HourUtc.ToUnixTimeSeconds());
+                Sql.Add(command, "@bin", part.BinWidthHz);
+                Sql.Add(command, "@seconds", part.Seconds);
+                Sql.Add(command, "@psd", blob);
+                Sql.Add(command, "@lines", JsonSerializer.Serialize(lines, SpectrumLinesJsonContext.Output.DictionaryStringDoubleArray));
                 added += command.ExecuteNonQuery();
             }
 
@@ -63,12 +64,12 @@ internal sealed class SpectrumTable(StoreConnection connection) : ISpectrumPartS
     {
         using var command = Sql.Command(c, """
             SELECT stream, session, seq, hour_utc, bin_width_hz, seconds, psd, lines FROM spectrum_parts
-            WHERE stream = $stream AND hour_utc >= $from AND hour_utc < $to
+            WHERE stream = @stream AND hour_utc >= @from AND hour_utc < @to
             ORDER BY hour_utc, session, seq
             """);
         Sql.AddStreamRange(command, stream, fromUtc.ToUnixTimeSeconds(), toUtc.ToUnixTimeSeconds());
         return Sql.ReadAll(command, static reader => new SpectrumPart(
-            reader.GetString(0), reader.GetString(1), reader.GetInt64(2), DateTimeOffset.FromUnixTimeSeconds(reader.GetInt64(3)),
+            reader.GetString(0), reader.GetString(1), Sql.Int64(reader, 2), DateTimeOffset.FromUnixTimeSeconds(Sql.Int64(reader, 3)),
             reader.GetDouble(4), reader.GetDouble(5), Psd((byte[])reader.GetValue(6)), Lines(reader.GetString(7))));
     });
 

@@ -6,15 +6,10 @@ namespace HumWatch.Host.Store;
 internal sealed class StoreActivity(StoreConnection connection)
 {
     /// <summary>
-    /// Takes the database's write lock and lets it go again (BEGIN IMMEDIATE; ROLLBACK): throws when the file cannot be
-    /// written to now (read-only, locked by another process past the busy timeout, gone). Writes nothing.
+    /// Throws when the database cannot be written to now (SQLite: takes the file's write lock and lets it go again;
+    /// PostgreSQL: asks whether the server takes writes). Writes nothing.
     /// </summary>
-    public void CheckWritable() => connection.Run(c =>
-    {
-        Sql.Execute(c, "BEGIN IMMEDIATE");
-        Sql.Execute(c, "ROLLBACK");
-        return true;
-    });
+    public void CheckWritable() => connection.CheckWritable();
 
     /// <summary>Streams that have ledger rows or alerts, ordinal order.</summary>
     public IReadOnlyList<string> Streams() => connection.Run(c =>
@@ -29,14 +24,14 @@ internal sealed class StoreActivity(StoreConnection connection)
         var result = connection.Run(c =>
         {
             using var command = Sql.Command(c, """
-                SELECT DISTINCT stream FROM minute_ledger WHERE minute_utc >= $from AND minute_utc < $to
-                UNION SELECT DISTINCT stream FROM alerts WHERE utc_ms >= $fromMs AND utc_ms < $toMs
+                SELECT DISTINCT stream FROM minute_ledger WHERE minute_utc >= @from AND minute_utc < @to
+                UNION SELECT DISTINCT stream FROM alerts WHERE utc_ms >= @fromMs AND utc_ms < @toMs
                 ORDER BY 1
                 """);
-            Sql.Add(command, "$from", fromUtc.ToUnixTimeSeconds());
-            Sql.Add(command, "$to", toUtc.ToUnixTimeSeconds());
-            Sql.Add(command, "$fromMs", fromUtc.ToUnixTimeMilliseconds());
-            Sql.Add(command, "$toMs", toUtc.ToUnixTimeMilliseconds());
+            Sql.Add(command, "@from", fromUtc.ToUnixTimeSeconds());
+            Sql.Add(command, "@to", toUtc.ToUnixTimeSeconds());
+            Sql.Add(command, "@fromMs", fromUtc.ToUnixTimeMilliseconds());
+            Sql.Add(command, "@toMs", toUtc.ToUnixTimeMilliseconds());
             return Sql.ReadAll(command, static reader => reader.GetString(0));
         });
 
@@ -53,13 +48,13 @@ internal sealed class StoreActivity(StoreConnection connection)
     {
         using var command = Sql.Command(c, """
             SELECT minute_utc, monitored_s FROM minute_ledger
-            WHERE stream = $stream AND source_key = '*'
+            WHERE stream = @stream AND source_key = '*'
             ORDER BY minute_utc DESC LIMIT 1
             """);
-        Sql.Add(command, "$stream", stream);
+        Sql.Add(command, "@stream", stream);
         using var reader = command.ExecuteReader();
         return reader.Read()
-            ? DateTimeOffset.FromUnixTimeSeconds(reader.GetInt64(0)).AddSeconds(reader.GetDouble(1))
+            ? DateTimeOffset.FromUnixTimeSeconds(Sql.Int64(reader, 0)).AddSeconds(reader.GetDouble(1))
             : (DateTimeOffset?)null;
     });
 
@@ -71,7 +66,7 @@ internal sealed class StoreActivity(StoreConnection connection)
         {
             // 15-minute buckets: every UTC offset in use is a whole number of quarter hours, so a bucket never spans two local days.
             using var command = Sql.Command(c, "SELECT minute_utc / 900 FROM minute_ledger UNION SELECT utc_ms / 900000 FROM alerts");
-            return Sql.ReadAll(command, static reader => reader.GetInt64(0));
+            return Sql.ReadAll(command, static reader => Sql.Int64(reader, 0));
         });
 
         var days = new SortedSet<DateOnly>();

@@ -77,7 +77,11 @@ internal sealed record FileJournalEntry(
     string? ReportPath,
     string? Reason,
     DateTimeOffset Utc,
-    int Attempts);
+    int Attempts)
+{
+    /// <summary>The instance that claimed the content last (file_journal.instance); null in rows of older builds and of tools.</summary>
+    public string? Instance { get; init; }
+}
 
 [JsonSerializable(typeof(string[]))]
 internal sealed partial class StoreJsonContext : JsonSerializerContext

@@ -1,11 +1,12 @@
+using System.Data.Common;
 using System.Globalization;
-using Microsoft.Data.Sqlite;
 
 namespace HumWatch.Host.Store;
 
 /// <summary>
 /// The store's schema as an ordered list of migrations. Migration i (0-based) brings the schema to version i + 1;
-/// never edit a released migration, append a new one.
+/// never edit a released migration, append a new one. <see cref="Migrations"/> is SQLite's list;
+/// <see cref="PostgresSchema.Migrations"/> holds the same versions, tables and columns in PostgreSQL's types.
 /// </summary>
 internal static class StoreSchema
 {
@@ -101,42 +102,89 @@ internal static class StoreSchema
         // Version 6: several instances on one store — their heartbeats, which instance watches which stream, and which
         // instance stored each alert event.
         FleetSchema.Migration,
+
+        // Version 7: the instance that claimed a file (file_journal.instance), so a file another live instance holds
+        // is not taken, while one of a stopped instance (or of this instance before a restart) is.
+        [FleetSchema.FileClaimColumn],
+    ];
+
+    /// <summary>SQLite: its migrations; the file's own locking serialises two processes opening it.</summary>
+    internal static readonly SchemaDialect Sqlite = new(
+        Migrations,
+        "CREATE TABLE IF NOT EXISTS schema_version (version INTEGER NOT NULL PRIMARY KEY, applied_utc_ms INTEGER NOT NULL)",
+        null,
+        "point Store:Path at another file");
+
+    /// <summary>
+    /// Every table of the current schema with the columns that order its rows uniquely (its key), the same on every
+    /// provider: what a copy between stores walks, and what the contract tests hold both schemas to.
+    /// </summary>
+    internal static readonly IReadOnlyList<(string Table, string OrderBy)> Tables =
+    [
+        ("schema_version", "version"),
+        ("alerts", "id"),
+        ("minute_ledger", "stream, minute_utc, source_key"),
+        ("minute_ledger_parts", "stream, session, seq"),
+        ("file_journal", "id"),
+        ("spectrum_parts", "stream, session, seq"),
+        ("summary_renders", "day, zone, stream"),
+        ("instances", "name"),
+        ("stream_owners", "stream, instance, hour_utc"),
+        ("store_claims", "name"),
     ];
 
     /// <summary>Newest schema version this build knows.</summary>
     internal static int LatestVersion => Migrations.Length;
 
-    /// <summary>Runs every migration the file lacks, each in its own transaction; returns the version reached.</summary>
-    /// <exception cref="InvalidOperationException">The file's schema is newer than this build.</exception>
-    internal static int Migrate(SqliteConnection connection, string fullPath, DateTimeOffset nowUtc)
+    /// <summary>Runs every migration the database lacks, each in its own transaction; returns the version reached.</summary>
+    /// <exception cref="InvalidOperationException">The database's schema is newer than this build.</exception>
+    internal static int Migrate(DbConnection connection, SchemaDialect dialect, string location, DateTimeOffset nowUtc)
     {
-        Sql.Execute(connection, "CREATE TABLE IF NOT EXISTS schema_version (version INTEGER NOT NULL PRIMARY KEY, applied_utc_ms INTEGER NOT NULL)");
-        var current = Convert.ToInt32(Sql.Scalar(connection, "SELECT coalesce(max(version), 0) FROM schema_version"), CultureInfo.InvariantCulture);
-        if (current > LatestVersion)
+        var latest = dialect.Migrations.Count;
+        while (true)
         {
-            throw new InvalidOperationException(
-                $"Store {fullPath} has schema version {current}, newer than this build knows ({LatestVersion}). Use a newer HumWatch, or point Store:Path at another file.");
-        }
-
-        for (var version = current + 1; version <= LatestVersion; version++)
-        {
+            // Lock, version table and version are read again in every transaction: another instance may have migrated meanwhile.
             using var transaction = connection.BeginTransaction();
-            foreach (var statement in Migrations[version - 1])
+            if (dialect.LockStatement is not null)
             {
-                using var command = Sql.Command(connection, statement, transaction);
-                command.ExecuteNonQuery();
+                Sql.Execute(connection, dialect.LockStatement, transaction);
             }
 
-            using (var record = Sql.Command(connection, "INSERT INTO schema_version (version, applied_utc_ms) VALUES ($version, $utc)", transaction))
+            Sql.Execute(connection, dialect.VersionTable, transaction);
+            var current = checked((int)(Sql.Int64(Sql.Scalar(connection, "SELECT coalesce(max(version), 0) FROM schema_version", transaction)) ?? 0));
+            if (current > latest)
             {
-                Sql.Add(record, "$version", version);
-                Sql.Add(record, "$utc", nowUtc.ToUnixTimeMilliseconds());
+                throw new InvalidOperationException(
+                    $"Store {location} has schema version {current}, newer than this build knows ({latest}). Use a newer HumWatch, or {dialect.OtherStoreAdvice}.");
+            }
+
+            if (current == latest)
+            {
+                transaction.Commit();
+                return latest;
+            }
+
+            var version = current + 1;
+            foreach (var statement in dialect.Migrations[version - 1])
+            {
+                Sql.Execute(connection, statement, transaction);
+            }
+
+            using (var record = Sql.Command(connection, "INSERT INTO schema_version (version, applied_utc_ms) VALUES (@version, @utc)", transaction))
+            {
+                Sql.Add(record, "@version", version);
+                Sql.Add(record, "@utc", nowUtc.ToUnixTimeMilliseconds());
                 record.ExecuteNonQuery();
             }
 
             transaction.Commit();
         }
-
-        return LatestVersion;
     }
 }
+
+/// <summary>How one provider keeps the schema: its migrations, its schema_version table, and how migrations exclude each other.</summary>
+/// <param name="Migrations">Migration i (0-based) brings the schema to version i + 1.</param>
+/// <param name="VersionTable">CREATE TABLE IF NOT EXISTS of schema_version.</param>
+/// <param name="LockStatement">Run first in each migration transaction; null when the database serialises writers itself.</param>
+/// <param name="OtherStoreAdvice">The end of the newer-schema message: which setting points elsewhere.</param>
+internal sealed record SchemaDialect(IReadOnlyList<string[]> Migrations, string VersionTable, string? LockStatement, string OtherStoreAdvice);

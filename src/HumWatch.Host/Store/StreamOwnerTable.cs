@@ -27,17 +27,17 @@ internal sealed class StreamOwnerTable(StoreConnection connection)
         {
             using var transaction = c.BeginTransaction();
             using var command = Sql.Command(c, """
-                INSERT INTO stream_owners (stream, instance, hour_utc, last_seen_utc_ms) VALUES ($stream, $instance, $hour, $seen)
+                INSERT INTO stream_owners (stream, instance, hour_utc, last_seen_utc_ms) VALUES (@stream, @instance, @hour, @seen)
                 ON CONFLICT (stream, instance, hour_utc) DO UPDATE SET last_seen_utc_ms =
                     CASE WHEN excluded.last_seen_utc_ms > stream_owners.last_seen_utc_ms THEN excluded.last_seen_utc_ms ELSE stream_owners.last_seen_utc_ms END
                 """, transaction);
             foreach (var s in sightings)
             {
                 command.Parameters.Clear();
-                Sql.Add(command, "$stream", s.Stream);
-                Sql.Add(command, "$instance", instance);
-                Sql.Add(command, "$hour", s.HourUtc);
-                Sql.Add(command, "$seen", s.LastSeenUtc.ToUnixTimeMilliseconds());
+                Sql.Add(command, "@stream", s.Stream);
+                Sql.Add(command, "@instance", instance);
+                Sql.Add(command, "@hour", s.HourUtc);
+                Sql.Add(command, "@seen", s.LastSeenUtc.ToUnixTimeMilliseconds());
                 command.ExecuteNonQuery();
             }
 
@@ -56,10 +56,10 @@ internal sealed class StreamOwnerTable(StoreConnection connection)
         {
             using var command = Sql.Command(c, """
                 SELECT stream, instance, max(last_seen_utc_ms) FROM stream_owners
-                WHERE last_seen_utc_ms >= $since GROUP BY stream, instance
+                WHERE last_seen_utc_ms >= @since GROUP BY stream, instance
                 """);
-            Sql.Add(command, "$since", sinceUtc.ToUnixTimeMilliseconds());
-            return Sql.ReadAll(command, static r => new StreamOwner(r.GetString(0), r.GetString(1), DateTimeOffset.FromUnixTimeMilliseconds(r.GetInt64(2))));
+            Sql.Add(command, "@since", sinceUtc.ToUnixTimeMilliseconds());
+            return Sql.ReadAll(command, static r => new StreamOwner(r.GetString(0), r.GetString(1), DateTimeOffset.FromUnixTimeMilliseconds(Sql.Int64(r, 2))));
         });
 
         var latest = new SortedDictionary<string, StreamOwner>(StringComparer.Ordinal);
@@ -86,11 +86,11 @@ internal sealed class StreamOwnerTable(StoreConnection connection)
         {
             using var command = Sql.Command(c, """
                 SELECT DISTINCT instance FROM stream_owners
-                WHERE stream = $stream AND hour_utc < $to AND hour_utc + 3600 > $from
+                WHERE stream = @stream AND hour_utc < @to AND hour_utc + 3600 > @from
                 """);
-            Sql.Add(command, "$stream", stream);
-            Sql.Add(command, "$from", fromUtc.ToUnixTimeSeconds());
-            Sql.Add(command, "$to", toUtc.ToUnixTimeSeconds());
+            Sql.Add(command, "@stream", stream);
+            Sql.Add(command, "@from", fromUtc.ToUnixTimeSeconds());
+            Sql.Add(command, "@to", toUtc.ToUnixTimeSeconds());
             return Sql.ReadAll(command, static r => r.GetString(0));
         });
         names.Sort(StringComparer.Ordinal);

@@ -23,31 +23,37 @@ internal sealed class SummaryRenderTable(StoreConnection connection)
     public void MarkRendered(DateOnly day, string zone, string stream, DayVerdict? verdict) => connection.Run(c =>
     {
         using var command = Sql.Command(c, """
-            INSERT INTO summary_renders (day, zone, stream, rendered_utc_ms, verdict) VALUES ($day, $zone, $stream, $utc, $verdict)
+            INSERT INTO summary_renders (day, zone, stream, rendered_utc_ms, verdict) VALUES (@day, @zone, @stream, @utc, @verdict)
             ON CONFLICT (day, zone, stream) DO UPDATE SET rendered_utc_ms = excluded.rendered_utc_ms, verdict = excluded.verdict
             """);
-        Sql.Add(command, "$day", DayText(day));
-        Sql.Add(command, "$zone", zone);
-        Sql.Add(command, "$stream", stream);
-        Sql.Add(command, "$utc", connection.TimeProvider.GetUtcNow().ToUnixTimeMilliseconds());
-        Sql.Add(command, "$verdict", verdict?.ToText());
+        Sql.Add(command, "@day", DayText(day));
+        Sql.Add(command, "@zone", zone);
+        Sql.Add(command, "@stream", stream);
+        Sql.Add(command, "@utc", connection.TimeProvider.GetUtcNow().ToUnixTimeMilliseconds());
+        Sql.Add(command, "@verdict", verdict?.ToText());
         return command.ExecuteNonQuery();
     });
+
+    /// <summary>
+    /// The store_claims name that decides which instance renders the summaries of (day, zone): one instance writes a
+    /// whole day (its stream files and the page that links them), so the claim is per day, not per stream.
+    /// </summary>
+    public static string ClaimName(DateOnly day, string zone) => $"summary/{DayText(day)}/{zone}";
 
     /// <summary>Rows of (day, zone) for one stream, or for every stream (not the page) when <paramref name="stream"/> is null.</summary>
     private int Count(DateOnly day, string zone, string? stream) => connection.Run(c =>
     {
         using var command = Sql.Command(c, stream is null
-            ? "SELECT count(*) FROM summary_renders WHERE day = $day AND zone = $zone AND stream <> ''"
-            : "SELECT count(*) FROM summary_renders WHERE day = $day AND zone = $zone AND stream = $stream");
-        Sql.Add(command, "$day", DayText(day));
-        Sql.Add(command, "$zone", zone);
+            ? "SELECT count(*) FROM summary_renders WHERE day = @day AND zone = @zone AND stream <> ''"
+            : "SELECT count(*) FROM summary_renders WHERE day = @day AND zone = @zone AND stream = @stream");
+        Sql.Add(command, "@day", DayText(day));
+        Sql.Add(command, "@zone", zone);
         if (stream is not null)
         {
-            Sql.Add(command, "$stream", stream);
+            Sql.Add(command, "@stream", stream);
         }
 
-        return Convert.ToInt32(command.ExecuteScalar(), CultureInfo.InvariantCulture);
+        return checked((int)(Sql.Int64(command.ExecuteScalar()) ?? 0));
     });
 
     private static string DayText(DateOnly day) => day.ToString("yyyy-MM-dd", CultureInfo.InvariantCulture);

@@ -97,7 +97,8 @@ internal sealed class DailySummaryRenderer
 
     /// <summary>
     /// Renders a day. Streams already recorded as written are left alone unless <paramref name="force"/>; the day
-    /// page is rewritten whenever a stream was written (it covers every stream of the day).
+    /// page is rewritten whenever a stream was written (it covers every stream of the day). Unless forced, only the
+    /// instance holding the day's claim writes anything (<see cref="SummaryStore.ClaimDay"/>): once for the fleet.
     /// </summary>
     /// <param name="day">Local date.</param>
     /// <param name="onlyStream">Render just this stream (the page still lists all); null for all.</param>
@@ -114,6 +115,8 @@ internal sealed class DailySummaryRenderer
         var summaries = new List<DaySummary>(streams.Count);
         var plots = new Dictionary<string, PlotData>(StringComparer.Ordinal);
         var anyWritten = false;
+        bool? claimed = null;
+        bool Mine() => claimed ??= _store.ClaimDay(day, _zone.Id);
         foreach (var stream in streams)
         {
             var (summary, spectrum, monitored) = BuildWithMonitored(day, stream, alerts.GetValueOrDefault(stream) ?? []);
@@ -122,7 +125,7 @@ internal sealed class DailySummaryRenderer
             plots[stream] = plotData;
             var json = ToJson(summary);
             var selected = onlyStream is null || string.Equals(stream, onlyStream, StringComparison.Ordinal);
-            var write = selected && (force || !_store.IsRendered(day, _zone.Id, stream));
+            var write = selected && (force || (!_store.IsRendered(day, _zone.Id, stream) && Mine()));
             if (write)
             {
                 AtomicFile.Write(Path.Combine(dayFolder, stream + ".json"), json);
@@ -138,7 +141,7 @@ internal sealed class DailySummaryRenderer
             }
         }
 
-        if (summaries.Count > 0 && (anyWritten || !_store.IsRendered(day, _zone.Id, string.Empty)))
+        if (summaries.Count > 0 && (anyWritten || (!_store.IsRendered(day, _zone.Id, string.Empty) && (force || Mine()))))
         {
             var page = SummaryMarkdown.Build(_siteName, day, _zone, summaries, plots);
             AtomicFile.Write(Path.Combine(dayFolder, SummaryMarkdown.FileName), Serialization.OutputText.Utf8.GetBytes(page));

@@ -10,7 +10,8 @@ namespace HumWatch.Host.Summaries;
 /// <summary>
 /// Writes each stream's daily summary after the site's local midnight (plus <see cref="SummaryOutputOptions.SettleSeconds"/>),
 /// publishes it as "summary/&lt;stream&gt;" and logs it. At start it renders days that ended while the service was down
-/// (up to <see cref="SummaryOutputOptions.CatchUpDays"/> back). The store's rendered-day record keeps a day from being written twice.
+/// (up to <see cref="SummaryOutputOptions.CatchUpDays"/> back). The store's rendered-day record keeps a day from being written twice,
+/// and the day's claim (<see cref="SummaryStore.ClaimDay"/>) keeps the instances sharing a store from each writing it.
 /// </summary>
 internal sealed class DailySummaryService : BackgroundService
 {
@@ -98,7 +99,7 @@ internal sealed class DailySummaryService : BackgroundService
                     }
                 }
             }
-            catch (Exception ex) when (ex is IOException or UnauthorizedAccessException or InvalidOperationException or Microsoft.Data.Sqlite.SqliteException)
+            catch (Exception ex) when (ex is IOException or UnauthorizedAccessException or InvalidOperationException or System.Data.Common.DbException)
             {
                 // By design: one failing day must not stop the service; the day stays unrecorded and is tried again.
                 _logger.RenderFailed(ex, dayText);

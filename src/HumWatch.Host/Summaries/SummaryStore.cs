@@ -64,6 +64,13 @@ internal sealed class SummaryStore(HumWatchStore store)
     /// <summary>Records that the summary of (day, zone, stream) was written (after its files are in place).</summary>
     public void MarkRendered(DateOnly day, string zone, string stream, DayVerdict? verdict) => Store.Renders.MarkRendered(day, zone, stream, verdict);
 
+    /// <summary>
+    /// Whether this instance renders the day: true for the one instance of the fleet that holds the day's claim (or
+    /// takes it over from a stopped one), and always for a store opened without an instance name (tools).
+    /// </summary>
+    public bool ClaimDay(DateOnly day, string zone) =>
+        Store.Instance is not { } me || Store.Instances.Hold(SummaryRenderTable.ClaimName(day, zone), me, Store.Connection.TimeProvider.GetUtcNow());
+
     /// <summary>How many summaries (streams, not pages) were recorded as written for a day.</summary>
     public int RenderedCount(DateOnly day, string zone) => Store.Renders.RenderedCount(day, zone);
 }

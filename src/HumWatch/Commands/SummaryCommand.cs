@@ -64,7 +64,7 @@ internal static class SummaryCommand
         var options = bound.Summaries;
         var zone = bound.Site.ResolveTimeZone();
 
-        if (!File.Exists(storeOptions.Path))
+        if (storeOptions.Provider == StoreProvider.Sqlite && !File.Exists(storeOptions.Path))
         {
             stderr.WriteLine($"humwatch summary: store {Path.GetFullPath(storeOptions.Path)} does not exist (Store:Path, or --data for the folder a 'run --data' or 'demo --data' used).");
             return ExitCodes.BadInput;
@@ -84,7 +84,7 @@ internal static class SummaryCommand
     private static int List(StoreOptions storeOptions, TimeZoneInfo zone, TextWriter stdout)
     {
         var days = SummaryOnDemand.ListDays(storeOptions, zone);
-        var path = Path.GetFullPath(storeOptions.Path);
+        var path = storeOptions.Describe();
         if (days.Count == 0)
         {
             stdout.WriteLine($"The store {path} holds no days yet.");

@@ -66,7 +66,7 @@ public sealed class SettingsSchemaTests : IDisposable
         var lines = Errors(SettingsSources.Isolated(new Dictionary<string, string?> { ["Alerts:FailLineUvRms"] = "3", ["Store:Colour"] = "blue" }));
 
         Assert.Contains("unknown setting 'Alerts:FailLineUvRms' — did you mean 'Check:FailLineUvRms'? (--set)", lines);
-        Assert.Contains("unknown setting 'Store:Colour' (Store has: BusyTimeoutMs, Path) (--set)", lines);
+        Assert.Contains("unknown setting 'Store:Colour' (Store has: BusyTimeoutMs, ConnectionString, ConnectionStringFile, Path, Provider) (--set)", lines);
     }
 
     [Fact]

@@ -21,7 +21,7 @@ public sealed class ServiceEndToEndTests
     public async Task A_pushed_stream_with_a_50_Hz_line_raises_a_mains_alert_and_clears_it_when_the_line_stops()
     {
         using var temp = new TempFolder();
-        await using var service = await ServiceUnderTest.StartAsync(temp.Path);
+        await using var service = await ServiceUnderTest.StartAsync(temp.Path, new Dictionary<string, string?> { ["Instance:Name"] = "bench-east" });
         using var messages = new MessageCollector(service.PublishEndpoint);
         using var pusher = new RoomPusher(service.IngestEndpoint);
         var room = Rooms.WithMains("room-e2e", onSeconds: 10, offSeconds: 40);
@@ -36,6 +36,10 @@ public sealed class ServiceEndToEndTests
         Assert.InRange(raised.Body.GetProperty("amplitudeUvRms").GetDouble(), 8 * 0.85, 8 * 1.15); // simulated 8 µV RMS on every channel
         Assert.Equal(1.0, raised.Body.GetProperty("channelShare").GetDouble(), 3);
         Assert.Equal("subsided", Text(cleared.Body, "reason"));
+
+        // A subscriber of several instances tells them apart by the body alone.
+        var status = await messages.WaitForAsync((t, _) => t == "status/room-e2e", "a status");
+        Assert.All([raised.Body, cleared.Body, status.Body], body => Assert.Equal("bench-east", Text(body, "instance")));
 
         // Raised while the line was on (10–40 s), cleared after it went off.
         Assert.InRange(raised.Body.GetProperty("streamSeconds").GetDouble(), 10, 40);

@@ -1,3 +1,4 @@
+using HumWatch.TestSupport;
 using System.Text.Json;
 using HumWatch.Core.Alerts;
 using HumWatch.Host.Configuration;
@@ -8,14 +9,19 @@ using HumWatch.Host.Store;
 using HumWatch.Host.Tests.Publishing.Support;
 using Microsoft.Extensions.Options;
 using Microsoft.Extensions.Time.Testing;
+using HumWatch.Host.Tests.Store.Postgres;
 using Xunit;
 
 namespace HumWatch.Host.Tests.Fleet;
 
-/// <summary>Several instances on one SQLite file, each with its own store object (connection), on one fake clock.</summary>
-public sealed class InstanceHeartbeatTests : IDisposable
+/// <summary>
+/// Several instances on one store, each with its own store object (connection), on one fake clock; every test on
+/// SQLite and on PostgreSQL.
+/// </summary>
+[Collection(PostgresCollection.Name)]
+public sealed class InstanceHeartbeatTests(PostgresServer server) : IDisposable
 {
-    private readonly TempFolder _temp = new();
+    private StoreUnderTest? _db;
     private readonly FakeTimeProvider _time = new(Some.Utc.AddMinutes(5));
     private readonly List<Instance> _open = [];
 
@@ -26,14 +32,17 @@ public sealed class InstanceHeartbeatTests : IDisposable
             instance.Store.Dispose();
         }
 
-        _temp.Dispose();
+        _db?.Dispose();
     }
 
-    [Fact]
-    public void A_fresh_instance_registers_live_and_closes_what_an_older_build_left_open_once_per_store()
+    [Theory]
+    [InlineData(StoreUnderTest.Sqlite)]
+    [PostgresRow]
+    public void A_fresh_instance_registers_live_and_closes_what_an_older_build_left_open_once_per_store(string provider)
     {
+        _db = new StoreUnderTest(provider, server, _time);
         // An older build (no instance names) was killed with an alert open.
-        using (var older = new HumWatchStore(new StoreOptions { Path = _temp.File("fleet.db") }, _time))
+        using (var older = _db.Open())
         {
             older.Alerts.AppendAlert(Some.Raised("room-old"));
         }
@@ -58,9 +67,12 @@ public sealed class InstanceHeartbeatTests : IDisposable
         Assert.Empty(b.Store.Alerts.Unclosed());
     }
 
-    [Fact]
-    public void An_unclean_restart_closes_only_its_own_alerts_not_those_of_a_live_peer()
+    [Theory]
+    [InlineData(StoreUnderTest.Sqlite)]
+    [PostgresRow]
+    public void An_unclean_restart_closes_only_its_own_alerts_not_those_of_a_live_peer(string provider)
     {
+        _db = new StoreUnderTest(provider, server, _time);
         var a = Start("lab-a");
         var b = Start("lab-b");
         a.Store.Alerts.AppendAlert(Some.Raised("room-a"));
@@ -82,9 +94,12 @@ public sealed class InstanceHeartbeatTests : IDisposable
         Assert.Equal("lab-b", open[0].Instance);
     }
 
-    [Fact]
-    public async Task A_stale_peer_is_swept_by_exactly_one_of_two_racing_instances()
+    [Theory]
+    [InlineData(StoreUnderTest.Sqlite)]
+    [PostgresRow]
+    public async Task A_stale_peer_is_swept_by_exactly_one_of_two_racing_instances(string provider)
     {
+        _db = new StoreUnderTest(provider, server, _time);
         var a = Start("lab-a");
         var b = Start("lab-b");
         var c = Start("lab-c");
@@ -127,9 +142,12 @@ public sealed class InstanceHeartbeatTests : IDisposable
         Assert.Equal(0, b.Heartbeat.Sweep(_time.GetUtcNow()));
     }
 
-    [Fact]
-    public void A_swept_instance_that_comes_back_does_not_close_its_alerts_again()
+    [Theory]
+    [InlineData(StoreUnderTest.Sqlite)]
+    [PostgresRow]
+    public void A_swept_instance_that_comes_back_does_not_close_its_alerts_again(string provider)
     {
+        _db = new StoreUnderTest(provider, server, _time);
         var a = Start("lab-a");
         var c = Start("lab-c");
         c.Store.Alerts.AppendAlert(Some.Raised("room-c"));
@@ -153,9 +171,12 @@ public sealed class InstanceHeartbeatTests : IDisposable
         Assert.Single(a.Publisher.Published);
     }
 
-    [Fact]
-    public void A_clean_stop_is_never_swept()
+    [Theory]
+    [InlineData(StoreUnderTest.Sqlite)]
+    [PostgresRow]
+    public void A_clean_stop_is_never_swept(string provider)
     {
+        _db = new StoreUnderTest(provider, server, _time);
         var a = Start("lab-a");
         var b = Start("lab-b");
         b.Heartbeat.Stop();
@@ -172,9 +193,12 @@ public sealed class InstanceHeartbeatTests : IDisposable
         Assert.Equal(InstanceStart.Clean, Start("lab-b").StartedAs);
     }
 
-    [Fact]
-    public void Streams_seen_between_beats_are_stored_once_per_beat_with_their_owner_and_data_hour()
+    [Theory]
+    [InlineData(StoreUnderTest.Sqlite)]
+    [PostgresRow]
+    public void Streams_seen_between_beats_are_stored_once_per_beat_with_their_owner_and_data_hour(string provider)
     {
+        _db = new StoreUnderTest(provider, server, _time);
         var a = Start("lab-a");
         var b = Start("lab-b");
         for (var i = 0; i < 50; i++)
@@ -205,7 +229,7 @@ public sealed class InstanceHeartbeatTests : IDisposable
 
     private Instance Start(string name)
     {
-        var store = new HumWatchStore(new StoreOptions { Path = _temp.File("fleet.db") }, _time, name);
+        var store = _db!.Open(name);
         var publisher = new RecordingPublisher();
         var sink = new AlertDispatcher(store.Alerts, publisher, new RecordingLogger<AlertDispatcher>());
         var closer = new UnclosedAlertCloser(store, sink, _time, new RecordingLogger<UnclosedAlertCloser>());

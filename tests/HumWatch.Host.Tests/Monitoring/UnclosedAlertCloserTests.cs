@@ -1,3 +1,4 @@
+using HumWatch.TestSupport;
 using System.Text.Json;
 using HumWatch.Core.Alerts;
 using HumWatch.Core.Findings;
@@ -7,24 +8,30 @@ using HumWatch.Host.Publishing;
 using HumWatch.Host.Store;
 using HumWatch.Host.Tests.Publishing.Support;
 using Microsoft.Extensions.Time.Testing;
+using HumWatch.Host.Tests.Store.Postgres;
 using Xunit;
 
 namespace HumWatch.Host.Tests.Monitoring;
 
-public sealed class UnclosedAlertCloserTests : IDisposable
+/// <summary>Alerts an unclean stop left open, closed at the next start; every test on SQLite and on PostgreSQL.</summary>
+[Collection(PostgresCollection.Name)]
+public sealed class UnclosedAlertCloserTests(PostgresServer server) : IDisposable
 {
-    private readonly TempFolder _temp = new();
+    private StoreUnderTest? _db;
 
     // The restart comes two hours after the kill: the clear must not stretch over the time the service was away.
     private readonly FakeTimeProvider _time = new(Some.Utc.AddHours(2));
 
-    public void Dispose() => _temp.Dispose();
+    public void Dispose() => _db?.Dispose();
 
-    private HumWatchStore Open() => new(new StoreOptions { Path = _temp.File("store.db") }, _time);
+    private HumWatchStore Open() => _db!.Open();
 
-    [Fact]
-    public void An_alert_a_kill_left_open_is_closed_at_the_last_watched_moment_with_reason_service_restarted()
+    [Theory]
+    [InlineData(StoreUnderTest.Sqlite)]
+    [PostgresRow]
+    public void An_alert_a_kill_left_open_is_closed_at_the_last_watched_moment_with_reason_service_restarted(string provider)
     {
+        _db = new StoreUnderTest(provider, server, _time);
         using (var killed = Open())
         {
             // room-a: raised, then severe, then the process died. room-b: raised and cleared before the kill.
@@ -64,9 +71,12 @@ public sealed class UnclosedAlertCloserTests : IDisposable
         Assert.Single(publisher.Published);
     }
 
-    [Fact]
-    public void Without_ledger_rows_the_clear_sits_at_the_alerts_last_event_and_never_after_now()
+    [Theory]
+    [InlineData(StoreUnderTest.Sqlite)]
+    [PostgresRow]
+    public void Without_ledger_rows_the_clear_sits_at_the_alerts_last_event_and_never_after_now(string provider)
     {
+        _db = new StoreUnderTest(provider, server, _time);
         using (var killed = Open())
         {
             killed.Alerts.AppendAlert(Some.Raised());
@@ -85,9 +95,12 @@ public sealed class UnclosedAlertCloserTests : IDisposable
         Assert.Equal(_time.GetUtcNow(), capped.Utc);
     }
 
-    [Fact]
-    public void A_fault_alert_keeps_its_fault_kind_and_no_source()
+    [Theory]
+    [InlineData(StoreUnderTest.Sqlite)]
+    [PostgresRow]
+    public void A_fault_alert_keeps_its_fault_kind_and_no_source(string provider)
     {
+        _db = new StoreUnderTest(provider, server, _time);
         var key = FindingKey.ChannelFault("Cz", Core.Faults.ChannelFaultKind.Flat);
         using (var killed = Open())
         {

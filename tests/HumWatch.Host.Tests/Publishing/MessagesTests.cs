@@ -36,6 +36,20 @@ public sealed class MessagesTests
     }
 
     [Fact]
+    public void Every_alert_body_names_the_publishing_instance_when_given_one()
+    {
+        AlertEvent[] events = [Some.Raised(), Some.SeverityChanged(), Some.Cleared()];
+        foreach (var alertEvent in events)
+        {
+            Assert.Equal("lab-north", Parse(Messages.For(alertEvent, "lab-north").Body).GetProperty("instance").GetString());
+            Assert.Equal(JsonValueKind.Null, Parse(Messages.For(alertEvent).Body).GetProperty("instance").ValueKind);
+        }
+
+        var status = Parse(Messages.For(new StatusMessage(1, "room-a", Some.Utc, 10, 1, 0, 5, 0, 0, null) { Instance = "lab-north" }));
+        Assert.Equal("lab-north", status.GetProperty("instance").GetString());
+    }
+
+    [Fact]
     public void Severity_change_names_both_severities()
     {
         var (kind, body) = Messages.For(Some.SeverityChanged());

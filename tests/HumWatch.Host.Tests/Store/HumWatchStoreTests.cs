@@ -9,6 +9,10 @@ using Xunit;
 
 namespace HumWatch.Host.Tests.Store;
 
+/// <summary>
+/// The SQLite store's own behaviour (WAL, the file, older spellings in raw rows). The promises both providers keep are
+/// held on each of them by <see cref="Postgres.StoreContractTests"/>.
+/// </summary>
 public sealed class HumWatchStoreTests : IDisposable
 {
     private readonly TempFolder _temp = new();
@@ -58,58 +62,11 @@ public sealed class HumWatchStoreTests : IDisposable
     }
 
     [Fact]
-    public void A_schema_newer_than_the_build_is_refused_with_a_clear_error()
-    {
-        Open().Dispose();
-        RawScalar("INSERT INTO schema_version (version, applied_utc_ms) VALUES (7, 0)");
-
-        var ex = Assert.Throws<InvalidOperationException>(() => Open());
-        Assert.Contains("schema version 7", ex.Message, StringComparison.Ordinal);
-        Assert.Contains($"({StoreSchema.LatestVersion})", ex.Message, StringComparison.Ordinal);
-        Assert.Contains(_temp.File("store.db"), ex.Message, StringComparison.Ordinal);
-    }
-
-    [Fact]
     public void A_file_that_is_not_a_database_gives_an_error_naming_it()
     {
         File.WriteAllText(_temp.File("junk.db"), new string('x', 4096));
         var ex = Assert.Throws<InvalidOperationException>(() => Open("junk.db"));
         Assert.Contains(_temp.File("junk.db"), ex.Message, StringComparison.Ordinal);
-    }
-
-    [Fact]
-    public void Alert_events_round_trip_and_are_found_by_local_day()
-    {
-        using var store = Open();
-        store.Alerts.AppendAlert(Some.Raised());
-        store.Alerts.AppendAlert(Some.SeverityChanged());
-        store.Alerts.AppendAlert(Some.Cleared());
-        store.Alerts.AppendAlert(Some.Raised(utc: Some.Utc.AddDays(1)));
-
-        // A fixed +01:00 zone: 2026-03-02 local is [2026-03-01T23:00Z, 2026-03-02T23:00Z).
-        var zone = TimeZoneInfo.CreateCustomTimeZone("Test+1", TimeSpan.FromHours(1), "Test+1", "Test+1");
-        var day = store.Alerts.ForDay(new DateOnly(2026, 3, 2), zone);
-        Assert.Equal([AlertEventKind.Raised, AlertEventKind.SeverityChanged, AlertEventKind.Cleared], day.Select(a => a.Event));
-
-        var raised = day[0];
-        Assert.Equal("room-a", raised.Stream);
-        Assert.Equal("mains/h1", raised.Key.ToString());
-        Assert.Equal(FindingCategory.Mains, raised.Kind);
-        Assert.Equal(AlertSeverity.Marked, raised.Severity);
-        Assert.Equal(1, raised.Harmonic);
-        Assert.Equal(["Cz", "Fp1"], raised.WorstChannels);
-        Assert.Equal(Some.Utc, raised.Utc);
-        Assert.Equal(Some.Utc.AddSeconds(-14), raised.OnsetUtc);
-        Assert.Equal(6.5, raised.AmplitudeUvRms);
-
-        var cleared = day[2];
-        Assert.Equal(AlertClearReason.Subsided, cleared.Reason);
-        Assert.Equal(30, cleared.DurationSeconds);
-        Assert.Equal(22, cleared.PeakUvRms);
-        Assert.Equal(AlertSeverity.Severe, cleared.PeakSeverity);
-
-        Assert.Equal([new DateOnly(2026, 3, 2), new DateOnly(2026, 3, 3)], store.Activity.Days(zone));
-        Assert.Equal(["room-a"], store.Activity.Streams());
     }
 
     [Fact]
@@ -170,22 +127,6 @@ public sealed class HumWatchStoreTests : IDisposable
         Assert.Null(stored.FrequencyHz);
         Assert.Null(stored.PeakUvRms);
         Assert.Equal(AlertClearReason.StreamEnded, stored.Reason);
-    }
-
-    [Fact]
-    public void Ledger_rows_of_two_sessions_add_seconds_and_keep_the_maximum()
-    {
-        using var store = Open();
-        Assert.Equal(1, store.Ledger.AddMinuteRows([Some.Row("session-a", 1, 30, 20, maxUvRms: 8, medianUvRms: 4, mainsHz: 50.00)]));
-        Assert.Equal(1, store.Ledger.AddMinuteRows([Some.Row("session-b", 1, 30, 10, maxUvRms: 5, medianUvRms: 1, mainsHz: 50.02)]));
-
-        var row = Assert.Single(store.Ledger.Rows("room-a", Some.Utc.AddMinutes(-5), Some.Utc.AddMinutes(5)));
-        Assert.Equal(60, row.MonitoredSeconds, 9);
-        Assert.Equal(30, row.AffectedSeconds, 9);
-        Assert.Equal(8, row.MaxUvRms);
-        Assert.Equal(3, row.MeanMedianUvRms!.Value, 9); // affected-time weighted: (4·20 + 1·10) / 30
-        Assert.Equal(50.01, row.MainsHz!.Value, 9); // monitored-time weighted: (50.00·30 + 50.02·30) / 60
-        Assert.Equal(2, row.Parts);
     }
 
     [Fact]

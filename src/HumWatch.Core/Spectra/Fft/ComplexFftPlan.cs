@@ -219,7 +219,6 @@ internal sealed class ComplexFftPlan
 
         // One stage: sub-transforms of length subLength are combined r at a time; butterfly j of each block of r·subLength
         // takes elements j, j + subLength, … (r of them) and twiddles 1 … r − 1 of offset j (none on the first stage).
-        [MethodImpl(MethodImplOptions.AggressiveOptimization)]
         public static void Stage(Span<TVec> re, Span<TVec> im, int subLength, int r, ReadOnlySpan<TScalar> twiddles)
         {
             var n = re.Length;

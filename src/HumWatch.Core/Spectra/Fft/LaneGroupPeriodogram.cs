@@ -112,7 +112,6 @@ internal sealed class LaneGroupPeriodogram<TOps, TVec, TScalar> : ILanePeriodogr
 
     private static bool IsSingle => typeof(TScalar) == typeof(float);
 
-    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
     private void Load(ReadOnlySpan<TScalar> samples)
     {
         var lanes = TOps.Lanes;
@@ -260,7 +259,6 @@ internal sealed class LaneGroupPeriodogram<TOps, TVec, TScalar> : ILanePeriodogr
     }
 
     /// <summary>Copies lanes 0 … <paramref name="count"/> − 1 of the power in the scratch into consecutive output rows.</summary>
-    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
     private void Unload(int count, Span<TScalar> rows)
     {
         var lanes = TOps.Lanes;

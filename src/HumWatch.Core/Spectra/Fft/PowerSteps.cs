@@ -76,7 +76,6 @@ internal static class PowerSteps
     /// Even N = 2M: from Z = FFT of z[n] = x[2n] + i·x[2n+1] (natural order) to the scaled power in place — bin k
     /// (0 ≤ k &lt; M) at re[k], the Nyquist bin M at im[0].
     /// </summary>
-    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
     public static void Split<TOps, TVec, TScalar>(Span<TVec> re, Span<TVec> im, int m, ReadOnlySpan<TScalar> twiddles, TScalar densityScale)
         where TOps : struct, ILaneOps<TVec, TScalar>
         where TVec : struct
@@ -114,7 +113,6 @@ internal static class PowerSteps
     }
 
     /// <summary>Odd N: from X = FFT of the real input to the scaled power in place, bin k (0 ≤ k &lt; <paramref name="binCount"/>) at re[k].</summary>
-    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
     public static void Odd<TOps, TVec, TScalar>(Span<TVec> re, Span<TVec> im, int binCount, TScalar densityScale)
         where TOps : struct, ILaneOps<TVec, TScalar>
         where TVec : struct
