@@ -228,12 +228,9 @@ internal sealed class PostgresStoreConnection : StoreConnection
     public override void AfterRowsCopiedWithIds(DbConnection connection, DbTransaction transaction, string table)
     {
         ArgumentNullException.ThrowIfNull(connection);
-        using var command = connection.CreateCommand();
-        command.Transaction = transaction;
 
         // setval(…, false): the next nextval returns this value itself (PostgreSQL docs, "Sequence Manipulation Functions").
-        command.CommandText = $"SELECT setval(pg_get_serial_sequence('{table}', 'id'), coalesce((SELECT max(id) FROM {table}), 0) + 1, false)";
-        command.ExecuteScalar();
+        Sql.Scalar(connection, $"SELECT setval(pg_get_serial_sequence('{table}', 'id'), coalesce((SELECT max(id) FROM {table}), 0) + 1, false)", transaction);
     }
 
     protected override T RunOpen<T>(Func<DbConnection, T> work)

@@ -61,8 +61,8 @@ internal static class StoreCopy
     {
         ArgumentNullException.ThrowIfNull(source);
         ArgumentNullException.ThrowIfNull(target);
-        var sourceVersion = SchemaVersion(source);
-        var targetVersion = SchemaVersion(target);
+        var sourceVersion = StoreSchema.CurrentVersion(source);
+        var targetVersion = StoreSchema.CurrentVersion(target);
         if (sourceVersion != targetVersion)
         {
             throw new InvalidOperationException(
@@ -71,7 +71,7 @@ internal static class StoreCopy
 
         foreach (var table in Tables)
         {
-            var rows = CountRows(target, table, null);
+            var rows = CountRows(target, table);
             if (rows > 0)
             {
                 throw new InvalidOperationException($"the target store already holds {rows} row(s) in {table}; copy only into an empty store.");
@@ -114,8 +114,7 @@ internal static class StoreCopy
         ArgumentNullException.ThrowIfNull(connection);
         var columns = Columns(connection, table, null);
         Array.Sort(columns, StringComparer.Ordinal);
-        using var command = connection.CreateCommand();
-        command.CommandText = $"SELECT {string.Join(", ", columns)} FROM {table}";
+        using var command = Sql.Command(connection, $"SELECT {string.Join(", ", columns)} FROM {table}");
         using var reader = command.ExecuteReader();
         Span<ulong> lanes = stackalloc ulong[4];
         Span<byte> digest = stackalloc byte[SHA256.HashSizeInBytes];
@@ -141,14 +140,6 @@ internal static class StoreCopy
         return (rows, string.Create(CultureInfo.InvariantCulture, $"{lanes[0]:x16}{lanes[1]:x16}{lanes[2]:x16}{lanes[3]:x16}"));
     }
 
-    /// <summary>The store's schema version (0 when it has no record).</summary>
-    public static int SchemaVersion(DbConnection connection)
-    {
-        using var command = connection.CreateCommand();
-        command.CommandText = "SELECT coalesce(max(version), 0) FROM schema_version";
-        return Convert.ToInt32(command.ExecuteScalar(), CultureInfo.InvariantCulture);
-    }
-
     private static long CopyTable(DbConnection source, DbTransaction read, DbConnection target, DbTransaction write, string table)
     {
         var columns = Columns(source, table, read);
@@ -161,9 +152,7 @@ internal static class StoreCopy
 
         var rowsPerStatement = Math.Max(1, MaxParametersPerStatement / columns.Length);
         var buffer = new List<object[]>(rowsPerStatement);
-        using var select = source.CreateCommand();
-        select.Transaction = read;
-        select.CommandText = $"SELECT {string.Join(", ", columns)} FROM {table}";
+        using var select = Sql.Command(source, $"SELECT {string.Join(", ", columns)} FROM {table}", read);
         using var reader = select.ExecuteReader();
         long copied = 0;
         while (reader.Read())
@@ -188,8 +177,7 @@ internal static class StoreCopy
 
     private static int Insert(DbConnection target, DbTransaction write, string table, string[] columns, List<object[]> rows)
     {
-        using var insert = target.CreateCommand();
-        insert.Transaction = write;
+        using var insert = Sql.Command(target, string.Empty, write);
         var text = new StringBuilder($"INSERT INTO {table} ({string.Join(", ", columns)}) VALUES ");
         for (var r = 0; r < rows.Count; r++)
         {
@@ -213,9 +201,7 @@ internal static class StoreCopy
 
     private static string[] Columns(DbConnection connection, string table, DbTransaction? transaction)
     {
-        using var command = connection.CreateCommand();
-        command.Transaction = transaction;
-        command.CommandText = $"SELECT * FROM {table} WHERE 1 = 0";
+        using var command = Sql.Command(connection, $"SELECT * FROM {table} WHERE 1 = 0", transaction);
         using var reader = command.ExecuteReader();
         var columns = new string[reader.FieldCount];
         for (var i = 0; i < columns.Length; i++)
@@ -226,13 +212,8 @@ internal static class StoreCopy
         return columns;
     }
 
-    private static long CountRows(DbConnection connection, string table, DbTransaction? transaction)
-    {
-        using var command = connection.CreateCommand();
-        command.Transaction = transaction;
-        command.CommandText = $"SELECT count(*) FROM {table}";
-        return Convert.ToInt64(command.ExecuteScalar(), CultureInfo.InvariantCulture);
-    }
+    private static long CountRows(DbConnection connection, string table) =>
+        Sql.Int64(Sql.Scalar(connection, $"SELECT count(*) FROM {table}")) ?? 0;
 
     private static void Encode(StringBuilder encoded, string column, object value)
     {

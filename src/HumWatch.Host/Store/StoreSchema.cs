@@ -133,6 +133,10 @@ internal static class StoreSchema
         ("store_claims", "name"),
     ];
 
+    /// <summary>The version the database's schema is at (0 when it has no record yet).</summary>
+    internal static int CurrentVersion(DbConnection connection, DbTransaction? transaction = null) =>
+        checked((int)(Sql.Int64(Sql.Scalar(connection, "SELECT coalesce(max(version), 0) FROM schema_version", transaction)) ?? 0));
+
     /// <summary>Newest schema version this build knows.</summary>
     internal static int LatestVersion => Migrations.Length;
 
@@ -151,7 +155,7 @@ internal static class StoreSchema
             }
 
             Sql.Execute(connection, dialect.VersionTable, transaction);
-            var current = checked((int)(Sql.Int64(Sql.Scalar(connection, "SELECT coalesce(max(version), 0) FROM schema_version", transaction)) ?? 0));
+            var current = CurrentVersion(connection, transaction);
             if (current > latest)
             {
                 throw new InvalidOperationException(
