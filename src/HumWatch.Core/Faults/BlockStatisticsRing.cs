@@ -244,6 +244,11 @@ internal sealed class BlockStatisticsRing
         where TOps : struct, ILaneLogic<TVec, double>
         where TVec : unmanaged
     {
+        if (count > 0 && TryAccumulateFiniteLanes<TOps, TVec>(channelMajor, first, stride, count, cell, channel))
+        {
+            return;
+        }
+
         ref var start = ref Unsafe.Add(ref MemoryMarshal.GetReference(channelMajor), first);
         var low = TOps.Load(in _lowLimit[channel]);
         var high = TOps.Load(in _highLimit[channel]);
@@ -309,6 +314,76 @@ internal sealed class BlockStatisticsRing
             AtMax[cell + j] = (int)LanePacks.Get<TVec, double>(atMax, j);
             AtMin[cell + j] = (int)LanePacks.Get<TVec, double>(atMin, j);
         }
+    }
+
+    // AccumulateLanes for the common case, every sample finite: the same operations in the same order with the masks
+    // left out (a mask of all lanes changes nothing), about a third fewer per sample. A lane whose reference is unset
+    // takes its first sample, as the masked loop does when that sample is finite. Writes nothing and returns false when
+    // a sample is not finite (v − v is then NaN, and so is the probe); the masked loop then does the call from the top.
+    private bool TryAccumulateFiniteLanes<TOps, TVec>(ReadOnlySpan<float> channelMajor, int first, int stride, int count, int cell, int channel)
+        where TOps : struct, ILaneLogic<TVec, double>
+        where TVec : unmanaged
+    {
+        ref var start = ref Unsafe.Add(ref MemoryMarshal.GetReference(channelMajor), first);
+        var low = TOps.Load(in _lowLimit[channel]);
+        var high = TOps.Load(in _highLimit[channel]);
+        var reference = TOps.Load(in Reference[cell]);
+        reference = TOps.Select(TOps.Equal(reference, reference), reference, TOps.WidenStrided(in start, stride));
+        var max = TOps.Load(in Max[cell]);
+        var min = TOps.Load(in Min[cell]);
+        var last = TOps.Load(in Last[cell]);
+        var minStep = TOps.Load(in MinStep[cell]);
+        var atMax = Widen<TOps, TVec>(AtMax.AsSpan(cell));
+        var atMin = Widen<TOps, TVec>(AtMin.AsSpan(cell));
+        var one = TOps.Splat(1);
+        var zero = TOps.Splat(0);
+        var sum = zero;
+        var squares = zero;
+        var clipped = zero;
+        var probe = zero;
+        for (var i = 0; i < count; i++)
+        {
+            var v = TOps.WidenStrided(in Unsafe.Add(ref start, i), stride);
+            probe = TOps.Add(probe, TOps.Sub(v, v));
+            var d = TOps.Sub(v, reference);
+            sum = TOps.Add(sum, d);
+            squares = TOps.Add(squares, TOps.Mul(d, d));
+            clipped = TOps.Add(clipped, TOps.And(one, TOps.Or(TOps.LessOrEqual(v, low), TOps.GreaterOrEqual(v, high))));
+
+            var above = TOps.Greater(v, max);
+            atMax = TOps.Select(above, one, TOps.Add(atMax, TOps.And(one, TOps.Equal(v, max))));
+            max = TOps.Select(above, v, max);
+            var below = TOps.Less(v, min);
+            atMin = TOps.Select(below, one, TOps.Add(atMin, TOps.And(one, TOps.Equal(v, min))));
+            min = TOps.Select(below, v, min);
+
+            var step = TOps.Abs(TOps.Sub(v, last));
+            var smaller = TOps.And(TOps.Greater(step, zero), TOps.Less(step, minStep));
+            minStep = TOps.Select(smaller, step, minStep);
+            last = v;
+        }
+
+        if (!TOps.AllEqual(probe, zero))
+        {
+            return false;
+        }
+
+        TOps.Store(reference, ref Reference[cell]);
+        TOps.Store(max, ref Max[cell]);
+        TOps.Store(min, ref Min[cell]);
+        TOps.Store(last, ref Last[cell]);
+        TOps.Store(minStep, ref MinStep[cell]);
+        TOps.Store(TOps.Add(TOps.Load(in Sum[cell]), sum), ref Sum[cell]);
+        TOps.Store(TOps.Add(TOps.Load(in SumSquares[cell]), squares), ref SumSquares[cell]);
+        for (var j = 0; j < TOps.Lanes; j++)
+        {
+            Finite[cell + j] += count;
+            Clipped[cell + j] += (int)LanePacks.Get<TVec, double>(clipped, j);
+            AtMax[cell + j] = (int)LanePacks.Get<TVec, double>(atMax, j);
+            AtMin[cell + j] = (int)LanePacks.Get<TVec, double>(atMin, j);
+        }
+
+        return true;
     }
 
     // Counts as doubles, one per lane (once per call, not per sample).

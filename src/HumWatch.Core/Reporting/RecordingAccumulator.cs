@@ -114,14 +114,8 @@ public sealed class RecordingAccumulator : IAnalysisFrameSink
         }
 
         _openFaults.Clear();
-        var lines = _closedLines
-            .OrderByDescending(l => l.AmplitudeUvRms)
-            .ThenBy(l => l.FirstSeconds)
-            .ToList();
-        var faults = _closedFaults
-            .OrderBy(f => f.FirstSeconds)
-            .ThenBy(f => f.Channel)
-            .ToList();
+        var lines = StableOrder.Sorted(_closedLines, static (a, b) => Then(b.AmplitudeUvRms.CompareTo(a.AmplitudeUvRms), a.FirstSeconds.CompareTo(b.FirstSeconds)));
+        var faults = StableOrder.Sorted(_closedFaults, static (a, b) => Then(a.FirstSeconds.CompareTo(b.FirstSeconds), a.Channel.CompareTo(b.Channel)));
         double? mains = _mainsEstimates.Count == 0 ? null : MedianOf(_mainsEstimates);
         var grid = new GridFinding(double.IsFinite(_gridNominalHz) ? _gridNominalHz : null, _gridFrom, double.IsFinite(_gridConflictHz) ? _gridConflictHz : null);
         return new RecordingFindings(layout.SampleRateHz, layout.ChannelCount, _analysedSeconds, _frameCount, mains, lines, faults, _transientPeaks) { Grid = grid };
@@ -187,6 +181,9 @@ public sealed class RecordingAccumulator : IAnalysisFrameSink
     /// <summary>The kept figures stay in arrival order; the median sorts a copy.</summary>
     private static double MedianOf(List<double> values) => Median.Of(CollectionsMarshal.AsSpan(values));
 
+    /// <summary>A comparison by one key, then by another where the first ties.</summary>
+    private static int Then(int first, int second) => first != 0 ? first : second;
+
     private sealed class LineEpisode(int trackId)
     {
         private readonly List<double> _frequencies = [];
@@ -250,12 +247,21 @@ public sealed class RecordingAccumulator : IAnalysisFrameSink
 
         public LineFinding ToFinding(Signals.StreamLayout layout)
         {
-            var worst = _channelScores
-                .OrderByDescending(kv => kv.Value)
-                .ThenBy(kv => kv.Key)
-                .Take(FrameLine.MaxWorstChannels)
-                .Select(kv => layout.Channels[kv.Key].Label)
-                .ToList();
+            // Highest score first, then the lower channel number; channels are unique, so the order is total.
+            var ranked = new (int Channel, double Score)[_channelScores.Count];
+            var n = 0;
+            foreach (var (channel, score) in _channelScores)
+            {
+                ranked[n++] = (channel, score);
+            }
+
+            Array.Sort(ranked, static (a, b) => Then(b.Score.CompareTo(a.Score), a.Channel.CompareTo(b.Channel)));
+            var worst = new List<string>(Math.Min(ranked.Length, FrameLine.MaxWorstChannels));
+            for (var i = 0; i < worst.Capacity; i++)
+            {
+                worst.Add(layout.Channels[ranked[i].Channel].Label);
+            }
+
             return new LineFinding(
                 MedianOf(_frequencies),
                 Source,

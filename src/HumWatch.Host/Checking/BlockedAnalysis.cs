@@ -136,6 +136,7 @@ internal sealed class BlockedAnalysis
                 TaskScheduler.Default);
         }
 
+        var handedOn = false;
         try
         {
             for (var b = 0; b < blockCount; b++)
@@ -164,10 +165,20 @@ internal sealed class BlockedAnalysis
                 readAhead.Release();
                 blockDone?.Invoke((b + 1.0) / blockCount);
             }
+
+            handedOn = true;
         }
         finally
         {
-            stop.Cancel();
+            // Once the last block is handed on, every hand-on has freed a read-ahead permit, so each worker takes one,
+            // finds no block left and ends by itself; cancelling would throw into workers that are about to end (an
+            // exception per worker and one from WaitAll, with stack traces, on every check). Stop them only when the
+            // run ends early: a failed block or the caller's cancellation.
+            if (!handedOn)
+            {
+                stop.Cancel();
+            }
+
             try
             {
                 Task.WaitAll(workers, CancellationToken.None);

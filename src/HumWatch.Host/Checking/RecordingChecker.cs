@@ -198,7 +198,17 @@ public sealed class RecordingChecker
             notes.Add(string.Create(CultureInfo.InvariantCulture, $"The recording shows a {conflict:0.##} Hz grid (its fundamental on most channels, with harmonics) and no {configured:0.##} Hz fundamental, but the settings say {configured:0.##} Hz: check Analysis:Sources:MainsHz or --mains. Lines were attributed against {configured:0.##} Hz."));
         }
 
-        var primary = groups.OrderByDescending(g => g.Layout.ChannelCount).First().Layout;
+        // The first group with the most channels, in a plain loop: LINQ's ordering is compiled at run time even in the
+        // precompiled program.
+        var primary = groups[0].Layout;
+        foreach (var group in groups)
+        {
+            if (group.Layout.ChannelCount > primary.ChannelCount)
+            {
+                primary = group.Layout;
+            }
+        }
+
         return new CheckReport
         {
             File = path,

@@ -179,7 +179,31 @@ public sealed class BlockedCheckTests : IDisposable
         Assert.Equal(Report(path, threads: 1), Report(path, threads: 2));
     }
 
+    [Fact]
+    public void Cancelling_a_split_check_stops_its_workers_and_says_it_was_cancelled()
+    {
+        var room = new SimulatedRoom { Name = "stopped-room", SampleRateHz = 250, Channels = SimulatedRoom.Montage(8) };
+        var path = WriteSingleRate("stopped.edf", room, seconds: 300);
+        var plan = AssertSplits(path, threads: 2, minimumBlocks: 3);
+        using var stop = new CancellationTokenSource();
+        var handedOn = 0;
+        var progress = new CallbackProgress(_ =>
+        {
+            handedOn++;
+            stop.Cancel();
+        });
+
+        Assert.ThrowsAny<OperationCanceledException>(() => new RecordingChecker(new AnalysisOptions(), new CheckLimits(), threads: 2).Check(path, progress, stop.Token));
+        Assert.InRange(handedOn, 1, plan.BlockCount - 1);
+    }
+
     public void Dispose() => _temp.Dispose();
+
+    /// <summary>Calls back on the reporting thread (Progress&lt;T&gt; would post to the thread pool).</summary>
+    private sealed class CallbackProgress(Action<double> report) : IProgress<double>
+    {
+        public void Report(double value) => report(value);
+    }
 
     private static BlockedAnalysis AssertSplits(string path, int threads, int minimumBlocks)
     {
