@@ -21,9 +21,9 @@ public static class PeriodogramKernels
         new MathNetPeriodogramKernel(segmentLength, sampleRateHz);
 
     /// <summary>
-    /// Channels per vector group of <see cref="Create"/>'s FFT kernel (4 with hardware Vector256, else 1): a caller that
+    /// Channels per vector group of <see cref="Create"/>'s FFT kernel (8 with AVX-512, 4 with AVX, else 1): a caller that
     /// splits a batch of channels over several kernels (Host's parallel check) keeps whole groups together, so every
     /// channel meets the same lane arithmetic as in one batch and the results are bit-identical.
     /// </summary>
-    public static int ChannelGroup => Vector256Lanes<double>.IsSupported ? Vector256<double>.Count : 1;
+    public static int ChannelGroup => FftPeriodogramKernel.DefaultLanes;
 }

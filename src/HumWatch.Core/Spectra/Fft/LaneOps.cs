@@ -282,16 +282,42 @@ internal readonly partial struct Vector512Lanes<T> : ILaneOps<Vector512<T>, T>
     public static Vector512<T> Mul(Vector512<T> a, Vector512<T> b) => a * b;
 
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
-    public static Vector512<T> MulAdd(Vector512<T> a, Vector512<T> b, Vector512<T> c) =>
-        Vector512.Create(
+    public static Vector512<T> MulAdd(Vector512<T> a, Vector512<T> b, Vector512<T> c)
+    {
+        // AVX-512 has fused multiply-add at full width; without it, two fused halves (or plain a·b + c, as Vector256Lanes
+        // does without FMA). A fused operation rounds once, so every path gives each lane the Vector256 result.
+        if (Avx512F.IsSupported && Fma.IsSupported && typeof(T) == typeof(double))
+        {
+            return Avx512F.FusedMultiplyAdd(a.AsDouble(), b.AsDouble(), c.AsDouble()).As<double, T>();
+        }
+
+        if (Avx512F.IsSupported && Fma.IsSupported && typeof(T) == typeof(float))
+        {
+            return Avx512F.FusedMultiplyAdd(a.AsSingle(), b.AsSingle(), c.AsSingle()).As<float, T>();
+        }
+
+        return Vector512.Create(
             Vector256Lanes<T>.MulAdd(a.GetLower(), b.GetLower(), c.GetLower()),
             Vector256Lanes<T>.MulAdd(a.GetUpper(), b.GetUpper(), c.GetUpper()));
+    }
 
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
-    public static Vector512<T> NegMulAdd(Vector512<T> a, Vector512<T> b, Vector512<T> c) =>
-        Vector512.Create(
+    public static Vector512<T> NegMulAdd(Vector512<T> a, Vector512<T> b, Vector512<T> c)
+    {
+        if (Avx512F.IsSupported && Fma.IsSupported && typeof(T) == typeof(double))
+        {
+            return Avx512F.FusedMultiplyAddNegated(a.AsDouble(), b.AsDouble(), c.AsDouble()).As<double, T>();
+        }
+
+        if (Avx512F.IsSupported && Fma.IsSupported && typeof(T) == typeof(float))
+        {
+            return Avx512F.FusedMultiplyAddNegated(a.AsSingle(), b.AsSingle(), c.AsSingle()).As<float, T>();
+        }
+
+        return Vector512.Create(
             Vector256Lanes<T>.NegMulAdd(a.GetLower(), b.GetLower(), c.GetLower()),
             Vector256Lanes<T>.NegMulAdd(a.GetUpper(), b.GetUpper(), c.GetUpper()));
+    }
 
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
     public static Vector512<T> Load(ref readonly T source) => Vector512.LoadUnsafe(in source);

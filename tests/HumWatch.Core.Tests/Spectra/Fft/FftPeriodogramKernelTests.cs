@@ -298,6 +298,29 @@ public sealed class FftPeriodogramKernelTests
         }
     }
 
+    [Theory]
+    [InlineData(4000, 64)]
+    [InlineData(1125, 13)]
+    [InlineData(2048, 3)]
+    public void Widths_256_and_512_give_the_same_bits(int segmentLength, int channelCount)
+    {
+        // The kernel takes 512 where AVX-512 runs and 256 elsewhere, so a report must not depend on which: both widths
+        // fuse the same multiply-adds (AVX-512's own or AVX2's FMA, each rounding once), lane for lane.
+        var stride = segmentLength + 3;
+        var samples = Flatten(Signal(segmentLength, channelCount, 3, seed: segmentLength + channelCount), segmentLength, 3);
+        var narrow = new FftPeriodogramKernel(segmentLength, 1000, vectorBits: 256, misalignBytes: 0);
+        var wide = new FftPeriodogramKernel(segmentLength, 1000, vectorBits: 512, misalignBytes: 0);
+        Assert.Equal(narrow.Lanes * 2, wide.Lanes);
+        var expected = new double[channelCount * narrow.BinCount];
+        var actual = new double[expected.Length];
+        narrow.Compute(samples, channelCount, stride, expected);
+        wide.Compute(samples, channelCount, stride, actual);
+        for (var i = 0; i < expected.Length; i++)
+        {
+            Assert.True(BitConverter.DoubleToInt64Bits(expected[i]) == BitConverter.DoubleToInt64Bits(actual[i]), $"bin {i % narrow.BinCount} of channel {i / narrow.BinCount}: {actual[i]:R} at 512, {expected[i]:R} at 256");
+        }
+    }
+
     [Fact]
     public void Scratch_is_64_byte_aligned_unless_misaligned_on_purpose()
     {
