@@ -102,6 +102,8 @@ internal static class CheckCommand
 
     private static async Task<int> RunAsync(CheckRequest request, int? mains, string[] configFiles, string[] settings, CancellationToken cancellationToken)
     {
+        // While one core reads the settings, the other compiles and binds the analysis code (see CheckWarmUp).
+        _ = CheckWarmUp.Start();
         using var settingsErrors = new StringWriter();
         var sources = Sources(configFiles, settings, mains, settingsErrors);
         var bound = sources is null ? null : CommandSettings.TryBuild("check", sources, settingsErrors);
