@@ -252,13 +252,7 @@ internal sealed class BlockStatisticsRing
         ref var start = ref Unsafe.Add(ref MemoryMarshal.GetReference(channelMajor), first);
         var low = TOps.Load(in _lowLimit[channel]);
         var high = TOps.Load(in _highLimit[channel]);
-        var reference = TOps.Load(in Reference[cell]);
-        var max = TOps.Load(in Max[cell]);
-        var min = TOps.Load(in Min[cell]);
-        var last = TOps.Load(in Last[cell]);
-        var minStep = TOps.Load(in MinStep[cell]);
-        var atMax = Widen<TOps, TVec>(AtMax.AsSpan(cell));
-        var atMin = Widen<TOps, TVec>(AtMin.AsSpan(cell));
+        var (reference, max, min, last, minStep, atMax, atMin) = LoadLanes<TOps, TVec>(cell);
         var one = TOps.Splat(1);
         var zero = TOps.Splat(0);
         var sum = zero;
@@ -299,21 +293,7 @@ internal sealed class BlockStatisticsRing
             last = TOps.Select(isFinite, v, last);
         }
 
-        TOps.Store(reference, ref Reference[cell]);
-        TOps.Store(max, ref Max[cell]);
-        TOps.Store(min, ref Min[cell]);
-        TOps.Store(last, ref Last[cell]);
-        TOps.Store(minStep, ref MinStep[cell]);
-        TOps.Store(TOps.Add(TOps.Load(in Sum[cell]), sum), ref Sum[cell]);
-        TOps.Store(TOps.Add(TOps.Load(in SumSquares[cell]), squares), ref SumSquares[cell]);
-        for (var j = 0; j < TOps.Lanes; j++)
-        {
-            Finite[cell + j] += (int)LanePacks.Get<TVec, double>(finite, j);
-            Clipped[cell + j] += (int)LanePacks.Get<TVec, double>(clipped, j);
-            NonFinite[cell + j] += (int)LanePacks.Get<TVec, double>(nonFinite, j);
-            AtMax[cell + j] = (int)LanePacks.Get<TVec, double>(atMax, j);
-            AtMin[cell + j] = (int)LanePacks.Get<TVec, double>(atMin, j);
-        }
+        StoreLanes<TOps, TVec>(cell, (reference, max, min, last, minStep, atMax, atMin), sum, squares, finite, clipped, nonFinite);
     }
 
     // AccumulateLanes for the common case, every sample finite: the same operations in the same order with the masks
@@ -327,14 +307,8 @@ internal sealed class BlockStatisticsRing
         ref var start = ref Unsafe.Add(ref MemoryMarshal.GetReference(channelMajor), first);
         var low = TOps.Load(in _lowLimit[channel]);
         var high = TOps.Load(in _highLimit[channel]);
-        var reference = TOps.Load(in Reference[cell]);
+        var (reference, max, min, last, minStep, atMax, atMin) = LoadLanes<TOps, TVec>(cell);
         reference = TOps.Select(TOps.Equal(reference, reference), reference, TOps.WidenStrided(in start, stride));
-        var max = TOps.Load(in Max[cell]);
-        var min = TOps.Load(in Min[cell]);
-        var last = TOps.Load(in Last[cell]);
-        var minStep = TOps.Load(in MinStep[cell]);
-        var atMax = Widen<TOps, TVec>(AtMax.AsSpan(cell));
-        var atMin = Widen<TOps, TVec>(AtMin.AsSpan(cell));
         var one = TOps.Splat(1);
         var zero = TOps.Splat(0);
         var sum = zero;
@@ -368,22 +342,38 @@ internal sealed class BlockStatisticsRing
             return false;
         }
 
-        TOps.Store(reference, ref Reference[cell]);
-        TOps.Store(max, ref Max[cell]);
-        TOps.Store(min, ref Min[cell]);
-        TOps.Store(last, ref Last[cell]);
-        TOps.Store(minStep, ref MinStep[cell]);
+        // Every sample counted as finite, none as not.
+        StoreLanes<TOps, TVec>(cell, (reference, max, min, last, minStep, atMax, atMin), sum, squares, TOps.Splat(count), clipped, zero);
+        return true;
+    }
+
+    // The running state of Lanes cells from cell on, one per lane: what both loops start from (once per call).
+    private (TVec Reference, TVec Max, TVec Min, TVec Last, TVec MinStep, TVec AtMax, TVec AtMin) LoadLanes<TOps, TVec>(int cell)
+        where TOps : struct, ILaneLogic<TVec, double>
+        where TVec : unmanaged =>
+        (TOps.Load(in Reference[cell]), TOps.Load(in Max[cell]), TOps.Load(in Min[cell]), TOps.Load(in Last[cell]),
+            TOps.Load(in MinStep[cell]), Widen<TOps, TVec>(AtMax.AsSpan(cell)), Widen<TOps, TVec>(AtMin.AsSpan(cell)));
+
+    // Writes back what LoadLanes read, with this call's sums and counts added.
+    private void StoreLanes<TOps, TVec>(int cell, (TVec Reference, TVec Max, TVec Min, TVec Last, TVec MinStep, TVec AtMax, TVec AtMin) state, TVec sum, TVec squares, TVec finite, TVec clipped, TVec nonFinite)
+        where TOps : struct, ILaneLogic<TVec, double>
+        where TVec : unmanaged
+    {
+        TOps.Store(state.Reference, ref Reference[cell]);
+        TOps.Store(state.Max, ref Max[cell]);
+        TOps.Store(state.Min, ref Min[cell]);
+        TOps.Store(state.Last, ref Last[cell]);
+        TOps.Store(state.MinStep, ref MinStep[cell]);
         TOps.Store(TOps.Add(TOps.Load(in Sum[cell]), sum), ref Sum[cell]);
         TOps.Store(TOps.Add(TOps.Load(in SumSquares[cell]), squares), ref SumSquares[cell]);
         for (var j = 0; j < TOps.Lanes; j++)
         {
-            Finite[cell + j] += count;
+            Finite[cell + j] += (int)LanePacks.Get<TVec, double>(finite, j);
             Clipped[cell + j] += (int)LanePacks.Get<TVec, double>(clipped, j);
-            AtMax[cell + j] = (int)LanePacks.Get<TVec, double>(atMax, j);
-            AtMin[cell + j] = (int)LanePacks.Get<TVec, double>(atMin, j);
+            NonFinite[cell + j] += (int)LanePacks.Get<TVec, double>(nonFinite, j);
+            AtMax[cell + j] = (int)LanePacks.Get<TVec, double>(state.AtMax, j);
+            AtMin[cell + j] = (int)LanePacks.Get<TVec, double>(state.AtMin, j);
         }
-
-        return true;
     }
 
     // Counts as doubles, one per lane (once per call, not per sample).
