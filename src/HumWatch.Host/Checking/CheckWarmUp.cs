@@ -15,8 +15,8 @@ namespace HumWatch.Host.Checking;
 /// The published program is precompiled, but on a processor with AVX-512 the kernels' Vector512 paths are compiled at run
 /// time, and every first call resolves its bindings under the runtime's locks. Done by the block workers, that happens
 /// on both at once, and one waits for the other: measured, the second worker started about 40 ms after the first on a
-/// 77 MB check (bench/README.md, "dataset"). Nothing here is shared with a real check but the runtime's compiled code
-/// and the FFT plan cache, which holds pure functions of the segment length.
+/// 77 MB check (bench/README.md, "dataset"). Nothing here is shared with a real check but the runtime's compiled code,
+/// the FFT plan cache (pure functions of the segment length) and the JSON context's metadata.
 /// </remarks>
 public static class CheckWarmUp
 {
