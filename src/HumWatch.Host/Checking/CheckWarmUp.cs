@@ -56,7 +56,7 @@ public static class CheckWarmUp
         var kernel = PeriodogramKernels.Create(SlidingWelch.SegmentLengthFor(options.Spectra, SampleRateHz), SampleRateHz);
         var analyzer = new StreamAnalyzer(layout, options, kernel);
         var accumulator = new RecordingAccumulator(options.Spectra.HopSeconds, options.Spectra.SpanSeconds);
-        var counter = new FrameCounter(new LineTracker(options, accumulator));
+        var tracker = new LineTracker(options, accumulator);
         var random = new Random(20261204);
         var samples = new float[Channels * SampleRateHz];
         for (var second = 0; second < Seconds; second++)
@@ -70,7 +70,7 @@ public static class CheckWarmUp
                 }
             }
 
-            analyzer.Append(new SampleChunk(layout, (long)second * SampleRateHz, SampleRateHz, samples), counter);
+            analyzer.Append(new SampleChunk(layout, (long)second * SampleRateHz, SampleRateHz, samples), tracker);
         }
 
         // The report's JSON metadata is built on first use, about 10 ms; here it is built off the critical path too.
@@ -82,17 +82,6 @@ public static class CheckWarmUp
             Lines = [.. findings.Lines.Select(line => RecordingChecker.ToCheckLine(line, SampleRateHz, findings.MedianMainsHz))],
         };
         _ = JsonSerializer.Serialize(report, CheckReportJsonContext.Lines.CheckReport);
-        return counter.Frames;
-    }
-
-    private sealed class FrameCounter(IAnalysisFrameSink next) : IAnalysisFrameSink
-    {
-        public int Frames { get; private set; }
-
-        public void OnFrame(AnalysisFrame frame)
-        {
-            Frames++;
-            next.OnFrame(frame);
-        }
+        return findings.FrameCount;
     }
 }

@@ -1,5 +1,4 @@
 using System.Runtime.Intrinsics;
-using System.Runtime.Intrinsics.X86;
 
 namespace HumWatch.Core.Spectra.Fft;
 
@@ -50,7 +49,7 @@ internal sealed class FftPeriodogramKernel : IPeriodogramKernel
 
     // Eight channels per Vector512 where AVX-512 runs at full width, else four per Vector256, else scalars. The widths
     // give the same bits lane for lane (FftPeriodogramKernelTests), so the choice changes speed only.
-    private static int WidestAccelerated => !Vector256Lanes<double>.IsSupported ? 0 : Vector512.IsHardwareAccelerated && Avx512F.IsSupported ? 512 : 256;
+    private static int WidestAccelerated => Vector512Lanes<double>.IsAccelerated ? 512 : Vector256Lanes<double>.IsSupported ? 256 : 0;
 
     /// <inheritdoc/>
     public int SegmentLength { get; }

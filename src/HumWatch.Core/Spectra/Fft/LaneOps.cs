@@ -284,14 +284,14 @@ internal readonly partial struct Vector512Lanes<T> : ILaneOps<Vector512<T>, T>
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
     public static Vector512<T> MulAdd(Vector512<T> a, Vector512<T> b, Vector512<T> c)
     {
-        // AVX-512 has fused multiply-add at full width; without it, two fused halves (or plain a·b + c, as Vector256Lanes
+        // AVX-512 has fused multiply-add at full width (AVX-512F); without it, two fused halves (or plain a·b + c, as Vector256Lanes
         // does without FMA). A fused operation rounds once, so every path gives each lane the Vector256 result.
-        if (Avx512F.IsSupported && Fma.IsSupported && typeof(T) == typeof(double))
+        if (Avx512F.IsSupported && typeof(T) == typeof(double))
         {
             return Avx512F.FusedMultiplyAdd(a.AsDouble(), b.AsDouble(), c.AsDouble()).As<double, T>();
         }
 
-        if (Avx512F.IsSupported && Fma.IsSupported && typeof(T) == typeof(float))
+        if (Avx512F.IsSupported && typeof(T) == typeof(float))
         {
             return Avx512F.FusedMultiplyAdd(a.AsSingle(), b.AsSingle(), c.AsSingle()).As<float, T>();
         }
@@ -304,12 +304,12 @@ internal readonly partial struct Vector512Lanes<T> : ILaneOps<Vector512<T>, T>
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
     public static Vector512<T> NegMulAdd(Vector512<T> a, Vector512<T> b, Vector512<T> c)
     {
-        if (Avx512F.IsSupported && Fma.IsSupported && typeof(T) == typeof(double))
+        if (Avx512F.IsSupported && typeof(T) == typeof(double))
         {
             return Avx512F.FusedMultiplyAddNegated(a.AsDouble(), b.AsDouble(), c.AsDouble()).As<double, T>();
         }
 
-        if (Avx512F.IsSupported && Fma.IsSupported && typeof(T) == typeof(float))
+        if (Avx512F.IsSupported && typeof(T) == typeof(float))
         {
             return Avx512F.FusedMultiplyAddNegated(a.AsSingle(), b.AsSingle(), c.AsSingle()).As<float, T>();
         }
